@@ -1,0 +1,9 @@
+"""``python -m snrkit`` runs the command line."""
+
+import sys
+
+from .cli import main
+
+__all__ = []
+
+sys.exit(main())

@@ -1,0 +1,5 @@
+"""Version of the snrkit package."""
+
+__all__ = ["__version__"]
+
+__version__ = "0.1.0"

@@ -1,0 +1,3 @@
+"""Atmospheres: composition, opacities, spectra and scenario presets."""
+
+__all__ = []

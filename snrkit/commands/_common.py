@@ -1,0 +1,47 @@
+"""Helpers shared by command modules: JSON output, per-planet selection, atomic writes."""
+
+import json
+import math
+import sys
+
+import numpy as np
+
+__all__ = ["add_system_args", "print_json", "jsonable"]
+
+
+def add_system_args(p):
+    """Add the SYSTEM positional and ``--planet NAME`` option."""
+    p.add_argument("system", metavar="SYSTEM.toml", help="system file (TOML)")
+    p.add_argument("--planet", metavar="NAME",
+                   help="answer for this planet only (default: every planet in the file)")
+
+
+def jsonable(x):
+    """Convert numpy / astropy scalars and arrays to JSON-ready Python values.
+
+    NaN and infinities become ``None`` (JSON has no NaN).
+    """
+    from astropy import units as u
+    if isinstance(x, u.Quantity):
+        x = x.value
+    if isinstance(x, dict):
+        return {str(k): jsonable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [jsonable(v) for v in x]
+    if isinstance(x, np.ndarray):
+        return [jsonable(v) for v in x.tolist()]
+    if isinstance(x, (np.bool_, bool)):
+        return bool(x)
+    if isinstance(x, (np.integer,)):
+        return int(x)
+    if isinstance(x, (float, np.floating)):
+        x = float(x)
+        return None if (math.isnan(x) or math.isinf(x)) else x
+    if isinstance(x, np.str_):
+        return str(x)
+    return x
+
+
+def print_json(obj):
+    """Print exactly one JSON object on stdout."""
+    sys.stdout.write(json.dumps(jsonable(obj), indent=2, allow_nan=False) + "\n")

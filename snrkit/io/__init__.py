@@ -1,0 +1,3 @@
+"""Reading and writing: system files, tables, atomic output files."""
+
+__all__ = []

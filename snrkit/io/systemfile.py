@@ -1,0 +1,283 @@
+"""System files: a TOML description of one star and its planets.
+
+Layout (every key is optional unless marked required)::
+
+    [star]
+    name = "Cedar"
+    effective_temperature = 2900        # K (required)
+    radius = 0.15                       # solar radii (required)
+    mass = 0.13                         # solar masses (or log_gravity, cgs dex)
+    metallicity = 0.0                   # [Fe/H], dex
+    distance = "15 pc"
+    right_ascension = 150.1             # deg, ICRS
+    declination = -20.5                 # deg, ICRS
+    [star.magnitudes]
+    J = 10.5
+    Ks = 9.6
+
+    [[planet]]
+    name = "Cedar b"                    # required, unique
+    radius = "1.2 earthRad"             # Earth radii (required)
+    period = "3.1 d"                    # days (required)
+    mass = 1.6                          # Earth masses; omit to estimate
+    mass_uncertainty = 0.3
+    impact_parameter = 0.2              # or inclination (deg)
+    transit_midtime = 2461000.25        # BJD_TDB
+    [planet.atmosphere]                 # this planet's atmosphere
+    mixing_ratios = { N2 = 0.78, O2 = 0.21 }
+    fill_gas = "N2"
+
+Numbers are read in the documented default unit of their key; strings
+such as ``"1.2 earthRad"`` or ``"3.1 d"`` carry an astropy unit, which must
+have the right dimension.  Unknown keys are errors that suggest the
+closest valid key.
+"""
+
+import difflib
+import tomllib
+import warnings
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError, UnknownKeyError
+from ..system import Star, Planet, System, BANDS
+
+__all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS",
+           "ATMOSPHERE_KEYS", "OBSERVATION_KEYS", "TOP_KEYS"]
+
+TOP_KEYS = {"star": "table", "planet": "array of tables", "title": "text", "notes": "text"}
+
+#: star key -> (Star argument, default unit or kind)
+STAR_KEYS = {
+    "name": ("name", "text"),
+    "effective_temperature": ("teff", "K"),
+    "radius": ("radius", "solRad"),
+    "mass": ("mass", "solMass"),
+    "log_gravity": ("logg", "dex (cgs)"),
+    "metallicity": ("metallicity", "dex"),
+    "distance": ("distance", "pc"),
+    "right_ascension": ("ra", "deg"),
+    "declination": ("dec", "deg"),
+    "magnitudes": ("magnitudes", "table of band = magnitude"),
+}
+
+#: planet key -> (Planet argument, default unit or kind)
+PLANET_KEYS = {
+    "name": ("name", "text"),
+    "radius": ("radius", "earthRad"),
+    "period": ("period", "d"),
+    "mass": ("mass", "earthMass"),
+    "mass_uncertainty": ("mass_uncertainty", "earthMass"),
+    "semi_major_axis": ("semi_major_axis", "AU"),
+    "impact_parameter": ("impact_parameter", "stellar radii"),
+    "inclination": ("inclination", "deg"),
+    "eccentricity": ("eccentricity", "number"),
+    "periastron_argument": ("periastron_argument", "deg"),
+    "transit_midtime": ("transit_midtime", "BJD_TDB"),
+    "transit_midtime_uncertainty": ("transit_midtime_uncertainty", "d"),
+    "period_uncertainty": ("period_uncertainty", "d"),
+    "albedo": ("albedo", "number"),
+    "redistribution": ("redistribution", "number (1/4 full, 2/3 dayside)"),
+    "atmosphere": (None, "table"),
+    "observation": (None, "table"),
+}
+
+#: keys of a planet's [planet.atmosphere] table.  Composition keys are read
+#: here; the scenario keys are validated by the spectrum layer.
+ATMOSPHERE_KEYS = {
+    "scenario": "preset name or path of a scenario TOML",
+    "mixing_ratios": "table of species = volume mixing ratio",
+    "fill_gas": "species taking the remainder",
+    "mean_molecular_weight": "g/mol",
+    "temperature": "K (default: equilibrium temperature)",
+    "temperature_profile": "profile name",
+    "reference_pressure": "bar",
+    "cloud_top_pressure": "bar",
+    "haze_enhancement": "number",
+    "haze_slope": "number",
+}
+
+#: keys of a planet's [planet.observation] table (read by the noise layers).
+OBSERVATION_KEYS = {
+    "mode": "instrument mode preset or file",
+    "transits": "number of transits",
+    "in_transit": "'t14', 't23' or a duration in h",
+    "baseline": "out-of-transit time: multiple of T14, or a duration in h",
+    "readout_groups": "groups per integration, or 'auto'",
+    "noise_floor": "ppm",
+    "floor_averages_down": "true/false",
+    "overhead": "h per transit",
+}
+
+
+def _check_keys(table, allowed, where):
+    for key in table:
+        if key not in allowed:
+            close = difflib.get_close_matches(str(key), list(allowed), n=1, cutoff=0.5)
+            hint = f"did you mean {close[0]!r}?" if close else ""
+            raise UnknownKeyError(f"{where}.{key}", table[key],
+                                  "keys " + ", ".join(allowed), detail=hint)
+
+
+def _star_from_table(tbl, source):
+    if not isinstance(tbl, dict):
+        raise InputError("star", tbl, "a [star] table")
+    _check_keys(tbl, STAR_KEYS, "star")
+    for req in ("effective_temperature", "radius"):
+        if req not in tbl:
+            raise InputError(f"star.{req}", None, f"a value ({STAR_KEYS[req][1]})",
+                             detail=f"required in {source}")
+    kwargs = {}
+    for key, value in tbl.items():
+        arg = STAR_KEYS[key][0]
+        if key == "magnitudes":
+            if not isinstance(value, dict):
+                raise InputError("star.magnitudes", value, "a table such as { J = 9.1, Ks = 8.7 }")
+            _check_keys(value, {b: None for b in BANDS}, "star.magnitudes")
+        kwargs[arg] = value
+    return Star(**kwargs)
+
+
+def _atmosphere_mu(atm, where):
+    from ..atmosphere.composition import mean_molecular_weight
+    if atm is None:
+        return np.nan, None
+    if not isinstance(atm, dict):
+        raise InputError(where, atm, "a table")
+    _check_keys(atm, ATMOSPHERE_KEYS, where)
+    mu = atm.get("mean_molecular_weight")
+    if "mixing_ratios" in atm:
+        mr = atm["mixing_ratios"]
+        if not isinstance(mr, dict):
+            raise InputError(f"{where}.mixing_ratios", mr, "a table such as { N2 = 0.78, O2 = 0.21 }")
+        mu_c = mean_molecular_weight(mr, fill_gas=atm.get("fill_gas"), field=f"{where}.mixing_ratios")
+        if mu is not None:
+            raise InputError(f"{where}.mean_molecular_weight", mu,
+                             "either mixing_ratios or mean_molecular_weight, not both")
+        mu = mu_c
+    elif "fill_gas" in atm:
+        raise InputError(f"{where}.fill_gas", atm["fill_gas"], "only together with mixing_ratios")
+    if mu is not None and (isinstance(mu, bool) or not isinstance(mu, (int, float))):
+        raise InputError(f"{where}.mean_molecular_weight", mu, "a number in g/mol")
+    temp = atm.get("temperature")
+    return (np.nan if mu is None else float(mu)), temp
+
+
+def read_system_text(text, source="<text>"):
+    """Build a :class:`~snrkit.system.System` from system-file text.
+
+    Parameters
+    ----------
+    text : str
+        TOML text in the system-file layout (see module docstring).
+    source : str
+        Name of the file, for messages.
+
+    Returns
+    -------
+    System
+    """
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(source, "TOML", "a valid TOML file", detail=str(exc)) from None
+    _check_keys(doc, TOP_KEYS, "file")
+    if "star" not in doc:
+        raise InputError("star", None, "a [star] table", detail=f"missing in {source}")
+    planets = doc.get("planet")
+    if not planets or not isinstance(planets, list):
+        raise InputError("planet", planets, "one or more [[planet]] tables",
+                         detail=f"missing in {source}")
+    star = _star_from_table(doc["star"], source)
+    columns = {}
+    names = []
+    mus, temps, atms, obs = [], [], [], []
+    for i, tbl in enumerate(planets):
+        if not isinstance(tbl, dict):
+            raise InputError(f"planet[{i}]", tbl, "a table")
+        _check_keys(tbl, PLANET_KEYS, f"planet[{i}]")
+        name = tbl.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise InputError(f"planet[{i}].name", name, "a non-empty text name")
+        if name in names:
+            raise InputError(f"planet[{i}].name", name, "a name not used by another planet")
+        names.append(name)
+        for req in ("radius", "period"):
+            if req not in tbl:
+                raise InputError(f"planet.{req} ({name})", None,
+                                 f"a value ({PLANET_KEYS[req][1]})")
+        mu, temp = _atmosphere_mu(tbl.get("atmosphere"), f"planet.atmosphere ({name})")
+        mus.append(mu)
+        temps.append(temp)
+        atms.append(tbl.get("atmosphere"))
+        ob = tbl.get("observation")
+        if ob is not None:
+            if not isinstance(ob, dict):
+                raise InputError(f"planet.observation ({name})", ob, "a table")
+            _check_keys(ob, OBSERVATION_KEYS, f"planet.observation ({name})")
+        obs.append(ob)
+    # Build one Planet per entry (validation names the planet), then stack.
+    singles = []
+    for tbl, name in zip(planets, names):
+        kwargs = {PLANET_KEYS[k][0]: v for k, v in tbl.items()
+                  if PLANET_KEYS[k][0] is not None}
+        try:
+            singles.append(Planet(**kwargs))
+        except InputError as exc:
+            raise type(exc)(f"{exc.field} ({name})", exc.value, exc.allowed, exc.detail) from None
+    planet = _stack_planets(singles)
+    temp_si = []
+    from ..units import to_si
+    import astropy.units as u
+    for t, name in zip(temps, names):
+        temp_si.append(np.nan if t is None else float(to_si(
+            t, f"planet.atmosphere.temperature ({name})", u.K, 0.0, None, low_inclusive=False)))
+    return System(star, planet, mean_molecular_weight=np.array(mus),
+                  atmosphere_temperature=np.array(temp_si), atmospheres=atms, observations=obs)
+
+
+def _stack_planets(singles):
+    """Concatenate single-planet objects into one (values are re-validated)."""
+    import astropy.units as u
+    cat = lambda attr: np.concatenate([getattr(p, attr) for p in singles])  # noqa: E731
+    est = cat("_mass_est")
+    assumed = cat("_b_assumed")
+    return Planet(cat("_radius") * u.m, cat("_period") * u.s,
+                  mass=np.where(est, np.nan, cat("_mass")) * u.kg,
+                  mass_uncertainty=np.where(est, np.nan, cat("_mass_sigma")) * u.kg,
+                  semi_major_axis=cat("_a") * u.m,
+                  impact_parameter=np.where(assumed, np.nan, cat("_b")),
+                  inclination=cat("_inc") * u.rad,
+                  eccentricity=cat("_ecc"), periastron_argument=cat("_omega") * u.rad,
+                  transit_midtime=cat("_t0"), transit_midtime_uncertainty=cat("_t0_sigma") * u.s,
+                  period_uncertainty=cat("_p_sigma") * u.s, albedo=cat("_albedo"),
+                  redistribution=cat("_redist"), name=cat("_name"))
+
+
+def load_system(path, planet=None):
+    """Read a system file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The TOML system file.
+    planet : str, optional
+        Keep only the planet of this name.
+
+    Returns
+    -------
+    System
+    """
+    path = Path(path)
+    try:
+        text = path.read_text()
+    except FileNotFoundError:
+        raise InputError("SYSTEM", str(path), "an existing system file") from None
+    except IsADirectoryError:
+        raise InputError("SYSTEM", str(path), "a file, not a folder") from None
+    system = read_system_text(text, source=str(path))
+    if planet is not None:
+        with warnings.catch_warnings():
+            system = system.select(planet)
+    return system
