@@ -86,13 +86,20 @@ def main(argv=None):
     if getattr(args, "_run", None) is None:
         parser.print_help()
         return 2
-    from .errors import SnrkitError, InputError
-    old_show = warnings.showwarning
-    warnings.showwarning = _show_warning
+    from .errors import SnrkitError, InputError, SnrkitWarning
+    with warnings.catch_warnings():
+        # snrkit's own warnings are messages for the user: always print them
+        # on stderr, whatever filters the host process has set.
+        warnings.simplefilter("always", SnrkitWarning)
+        warnings.showwarning = _show_warning
+        return _run_guarded(args, SnrkitError, InputError)
+
+
+def _run_guarded(args, SnrkitError, InputError):
     try:
         return int(args._run(args) or 0)
     except InputError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        print("error: " + " ".join(str(exc).split()), file=sys.stderr)
         return 2
     except (SnrkitError, OSError) as exc:
         if isinstance(exc, (FileNotFoundError, IsADirectoryError, PermissionError)):
@@ -108,8 +115,6 @@ def main(argv=None):
         print(f"internal error: {type(exc).__name__}: {exc} (rerun with --debug "
               "for a traceback)", file=sys.stderr)
         return 1
-    finally:
-        warnings.showwarning = old_show
 
 
 if __name__ == "__main__":  # pragma: no cover

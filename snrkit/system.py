@@ -167,8 +167,8 @@ class Star(_Frozen):
     metallicity = property(lambda self: self._metallicity, doc="[Fe/H] [dex]")
     magnitudes = property(lambda self: dict(self._mags), doc="apparent magnitudes by band")
     distance = property(lambda self: (self._distance * u.m).to(u.pc), doc="distance")
-    ra = property(lambda self: self._ra * u.deg, doc="right ascension (ICRS)")
-    dec = property(lambda self: self._dec * u.deg, doc="declination (ICRS)")
+    ra = property(lambda self: (self._ra * u.rad).to(u.deg), doc="right ascension (ICRS)")
+    dec = property(lambda self: (self._dec * u.rad).to(u.deg), doc="declination (ICRS)")
     name = property(lambda self: self._name, doc="names (array of str) or None")
 
     def magnitude(self, band):
@@ -184,8 +184,8 @@ class Star(_Frozen):
         return Star(self._teff.repeat(n), self._radius.repeat(n) * u.m,
                     mass=self._mass.repeat(n) * u.kg, metallicity=self._metallicity.repeat(n),
                     magnitudes={b: v.repeat(n) for b, v in self._mags.items()},
-                    distance=self._distance.repeat(n) * u.m, ra=self._ra.repeat(n),
-                    dec=self._dec.repeat(n),
+                    distance=self._distance.repeat(n) * u.m, ra=self._ra.repeat(n) * u.rad,
+                    dec=self._dec.repeat(n) * u.rad,
                     name=None if self._name is None else self._name.repeat(n))
 
 
@@ -448,7 +448,7 @@ class System(_Frozen):
         star = Star(s._teff[idx], s._radius[idx] * u.m, mass=s._mass[idx] * u.kg,
                     metallicity=s._metallicity[idx],
                     magnitudes={b: v[idx] for b, v in s._mags.items()},
-                    distance=s._distance[idx] * u.m, ra=s._ra[idx], dec=s._dec[idx],
+                    distance=s._distance[idx] * u.m, ra=s._ra[idx] * u.rad, dec=s._dec[idx] * u.rad,
                     name=None if s._name is None else s._name[idx])
         planet = Planet(p._radius[idx] * u.m, p._period[idx] * u.s,
                         mass=np.where(p._mass_est[idx], np.nan, p._mass[idx]) * u.kg,

@@ -1,0 +1,131 @@
+"""Command line: conventions (stdout/stderr, JSON, exit codes) and the describe/demo commands."""
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from snrkit.cli import main
+from snrkit.tables import data_path
+
+CEDAR = str(data_path("demo", "cedar.toml"))
+REQUIRED_KEYS = {"name", "surface_gravity_m_s2", "equilibrium_temperature_K", "scale_height_km",
+                 "transit_depth_ppm", "annulus_ppm_per_scale_height", "t14_hours", "t23_hours",
+                 "tsm", "esm", "mass_estimated", "habitable_zone"}
+
+
+def run_cli(capsys, *args):
+    rc = main(list(args))
+    out, err = capsys.readouterr()
+    return rc, out, err
+
+
+def test_version_and_help(capsys):
+    rc, out, _ = run_cli(capsys, "--version")
+    assert rc == 0 and out.startswith("snrkit ")
+    rc, out, _ = run_cli(capsys, "--help")
+    assert rc == 0 and "describe" in out and "demo" in out
+
+
+def test_describe_json_has_required_keys(capsys):
+    rc, out, err = run_cli(capsys, "describe", CEDAR, "--json")
+    assert rc == 0
+    doc = json.loads(out)  # exactly one JSON object on stdout
+    assert set(doc) == {"star", "planets"}
+    assert doc["star"]["name"] == "Cedar"
+    assert [p["name"] for p in doc["planets"]] == ["Cedar b", "Cedar c"]
+    for p in doc["planets"]:
+        assert REQUIRED_KEYS <= set(p)
+    c = doc["planets"][1]
+    assert c["mass_estimated"] is True
+    # Cedar c (invented): S = 0.78 S_earth around a 2900 K star lies between the
+    # runaway- and maximum-greenhouse limits of Kopparapu et al. 2014 (0.92, 0.23)
+    assert c["habitable_zone"] == "conservative"
+    assert 0.23 < c["insolation_earth"] < 0.92
+    assert isinstance(c["t14_hours"], float)
+
+
+def test_describe_planet_option(capsys):
+    rc, out, _ = run_cli(capsys, "describe", CEDAR, "--planet", "Cedar b", "--json")
+    assert rc == 0
+    assert [p["name"] for p in json.loads(out)["planets"]] == ["Cedar b"]
+    rc, out, err = run_cli(capsys, "describe", CEDAR, "--planet", "Cedar z")
+    assert rc == 2 and out == ""
+    assert err.count("\n") == 1 and "Cedar b" in err
+
+
+def test_describe_table(capsys):
+    rc, out, _ = run_cli(capsys, "describe", CEDAR)
+    assert rc == 0
+    assert "scale height [km]" in out and "Cedar c" in out
+
+
+def test_bad_input_exits_2_with_one_line(capsys, tmp_path):
+    f = tmp_path / "bad.toml"
+    f.write_text('[star]\neffective_temperature = 3000\nradius = 0.2\nmass = 0.2\n'
+                 '[[planet]]\nname = "x"\nradius = "1.2 kg"\nperiod = 3\n')
+    rc, out, err = run_cli(capsys, "describe", str(f))
+    assert rc == 2 and out == ""
+    assert err.startswith("error: ") and err.count("\n") == 1
+    assert "planet.radius" in err and "kg" in err
+    assert "Traceback" not in err
+
+
+def test_user_written_file(capsys, tmp_path):
+    f = tmp_path / "mine.toml"
+    f.write_text('[star]\nname = "Mine"\neffective_temperature = "3300 K"\nradius = 0.3\n'
+                 'log_gravity = 4.95\n[star.magnitudes]\nJ = 9.8\n'
+                 '[[planet]]\nname = "Mine b"\nradius = 1.4\nperiod = "6.2 d"\n'
+                 'impact_parameter = 0.3\n')
+    rc, out, err = run_cli(capsys, "describe", str(f), "--json")
+    assert rc == 0
+    p = json.loads(out)["planets"][0]
+    assert p["mass_estimated"] is True
+    assert p["esm"] is None          # no Ks magnitude given
+    assert p["tsm"] > 0
+
+
+def test_grazing_warning_goes_to_stderr(capsys, tmp_path):
+    f = tmp_path / "graze.toml"
+    f.write_text('[star]\neffective_temperature = 5000\nradius = 0.8\nmass = 0.8\n'
+                 '[[planet]]\nname = "g"\nradius = 11\nmass = 300\nperiod = 3\n'
+                 'impact_parameter = 1.0\n')
+    rc, out, err = run_cli(capsys, "describe", str(f), "--json")
+    assert rc == 0
+    assert json.loads(out)["planets"][0]["t23_hours"] == 0.0
+    assert "warning: grazing" in err
+
+
+def test_demo(capsys):
+    rc, out, _ = run_cli(capsys, "demo")
+    assert rc == 0
+    for name in ("Alder b", "Birch b", "Cedar c"):
+        assert name in out
+    rc, out, _ = run_cli(capsys, "demo", "--json")
+    assert rc == 0 and len(json.loads(out)["systems"]) >= 3
+
+
+def test_presets_json(capsys):
+    rc, out, _ = run_cli(capsys, "presets", "--json")
+    doc = json.loads(out)
+    assert rc == 0 and {"scenarios", "modes", "demo_systems"} <= set(doc)
+
+
+def test_console_entry_point_subprocess():
+    # The real process: exit status and a one-line error, no traceback.
+    r = subprocess.run([sys.executable, "-m", "snrkit", "describe", "no-such-file.toml"],
+                       capture_output=True, text=True)
+    assert r.returncode == 2
+    assert r.stdout == "" and "no-such-file.toml" in r.stderr and "Traceback" not in r.stderr
+    r = subprocess.run([sys.executable, "-m", "snrkit", "describe", CEDAR, "--json"],
+                       capture_output=True, text=True)
+    assert r.returncode == 0 and json.loads(r.stdout)["planets"]
+
+
+def test_help_does_not_import_heavy_modules():
+    code = ("import sys; from snrkit.cli import main; main(['--help']); "
+            "bad = [m for m in ('matplotlib', 'scipy.stats', 'dask', 'astropy.table') if m in sys.modules]; "
+            "print('HEAVY', bad)")
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert "HEAVY []" in r.stdout, r.stdout
