@@ -77,6 +77,7 @@ def describe_system(system):
             "name": str(p.name[i]),
             "radius_earth": _f(p.radius_m[i] / R_EARTH),
             "period_days": _f(p.period_s[i] / DAY),
+            "radius_uncertainty_earth": _f(p._radius_sigma[i] / R_EARTH),
             "mass_uncertainty_earth": _f(d["mass_uncertainty_kg"][i] / M_EARTH),
             "eccentricity": _f(p.eccentricity[i]),
             "periastron_argument_deg": _f(np.degrees(p._omega[i])),

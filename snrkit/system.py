@@ -206,6 +206,8 @@ class Planet(_Frozen):
     mass_uncertainty : Quantity, float or array, optional
         1-sigma mass uncertainty (default unit M_earth).  For an estimated
         mass it defaults to the relation's intrinsic scatter.
+    radius_uncertainty : Quantity, float or array, optional
+        1-sigma radius uncertainty (default unit R_earth).
     semi_major_axis : Quantity, float or array, optional
         Default unit au; from Kepler's third law when missing.
     impact_parameter : float or array, optional
@@ -231,17 +233,19 @@ class Planet(_Frozen):
         Planet names.
     """
 
-    __slots__ = ("_n", "_radius", "_period", "_mass", "_mass_sigma", "_mass_est", "_a",
+    __slots__ = ("_n", "_radius", "_radius_sigma", "_period", "_mass", "_mass_sigma", "_mass_est", "_a",
                  "_b", "_inc", "_ecc", "_omega", "_t0", "_t0_sigma", "_p_sigma",
                  "_albedo", "_redist", "_b_assumed", "_name")
 
-    def __init__(self, radius, period, mass=None, mass_uncertainty=None, semi_major_axis=None,
+    def __init__(self, radius, period, mass=None, mass_uncertainty=None, radius_uncertainty=None,
+                 semi_major_axis=None,
                  impact_parameter=None, inclination=None, eccentricity=0.0,
                  periastron_argument=90.0, transit_midtime=None,
                  transit_midtime_uncertainty=None, period_uncertainty=None,
                  albedo=0.0, redistribution=0.25, name=None):
         rad = to_si(radius, "planet.radius", u.R_earth, 0.0, PLANET_RADIUS_MAX_EARTH, low_inclusive=False)
         per = to_si(period, "planet.period", u.day, 0.0, None, low_inclusive=False)
+        rsig = _opt(radius_uncertainty, "planet.radius_uncertainty", u.R_earth, 0.0)
         mass_a = _opt(mass, "planet.mass", u.M_earth, 0.0, None, low_inclusive=False)
         msig = _opt(mass_uncertainty, "planet.mass_uncertainty", u.M_earth, 0.0, None)
         a_a = _opt(semi_major_axis, "planet.semi_major_axis", u.au, 0.0, None, low_inclusive=False)
@@ -271,7 +275,7 @@ class Planet(_Frozen):
         red = as_float_array(redistribution, "planet.redistribution")
         check_range(red, "planet.redistribution", 0.25, 2.0 / 3.0)
         names = None if name is None else np.asarray(name, dtype=str)
-        n = _size(rad, per, mass_a, msig, a_a, b_a, inc_a, ecc, omega, t0, t0s, ps, alb, red,
+        n = _size(rad, rsig, per, mass_a, msig, a_a, b_a, inc_a, ecc, omega, t0, t0s, ps, alb, red,
                   *(() if names is None else (names,)))
         bc = lambda a: np.broadcast_to(a, (n,)).astype(np.float64)  # noqa: E731
         rad, mass_a, msig = bc(rad), bc(mass_a), bc(msig)
@@ -291,6 +295,7 @@ class Planet(_Frozen):
             msig = np.where(est & np.isnan(msig), sig_abs, msig)
         self._set("_n", n)
         self._set("_radius", rad)
+        self._set("_radius_sigma", bc(rsig))
         self._set("_period", bc(per))
         self._set("_mass", mass_a)
         self._set("_mass_sigma", msig)
@@ -319,6 +324,8 @@ class Planet(_Frozen):
     mass = property(lambda self: (self._mass / M_EARTH) * u.M_earth, doc="mass")
     mass_uncertainty = property(lambda self: (self._mass_sigma / M_EARTH) * u.M_earth,
                                 doc="1-sigma mass uncertainty")
+    radius_uncertainty = property(lambda self: (self._radius_sigma / R_EARTH) * u.R_earth,
+                                  doc="1-sigma radius uncertainty")
     mass_estimated = property(lambda self: self._mass_est,
                               doc="True where the mass comes from the mass-radius relation")
     period = property(lambda self: (self._period * u.s).to(u.day), doc="period")
@@ -454,6 +461,7 @@ class System(_Frozen):
                         mass=np.where(p._mass_est[idx], np.nan, p._mass[idx]) * u.kg,
                         mass_uncertainty=np.where(p._mass_est[idx], np.nan,
                                                   p._mass_sigma[idx]) * u.kg,
+                        radius_uncertainty=p._radius_sigma[idx] * u.m,
                         semi_major_axis=p._a[idx] * u.m,
                         impact_parameter=self._b[idx],
                         eccentricity=p._ecc[idx], periastron_argument=p._omega[idx] * u.rad,
