@@ -25,6 +25,7 @@ COMMANDS = {
     "describe": ("describe", "inputs and derived quantities of a system file"),
     "demo": ("demo", "run snrkit on the embedded invented demo systems"),
     "presets": ("presets", "list the shipped presets (scenarios, instrument modes)"),
+    "precision": ("precision", "per-bin transit-depth precision for an instrument mode"),
 }
 
 

@@ -1,0 +1,449 @@
+"""Stellar spectra: Planck spectra, user spectrum files and band normalisation.
+
+Compute functions work in SI: wavelengths in m, spectral flux density
+``F_lambda`` in W m-3 (W m-2 per m of wavelength), temperatures in K.  They
+broadcast a leading planet (star) axis against a trailing wavelength axis.
+
+Band normalisation uses the zero-magnitude flux densities in
+``data_tables/photometry/zero_points.ecsv`` (J, H, Ks: Cohen, Wheaton &
+Megeath 2003, AJ 126, 1090; V: Bessell, Castelli & Plez 1998, A&A 333, 231)
+in the *isophotal approximation*: no passband curves are shipped, so the
+synthetic magnitude of a spectrum in a band is
+
+    m = -2.5 log10( F_lambda(lambda_ref) / F_lambda,0 ),
+
+with ``lambda_ref`` the band's isophotal (J, H, Ks) or effective (V)
+wavelength and ``F_lambda(lambda_ref)`` interpolated linearly in
+log F - log lambda.  For smooth stellar continua the difference from a
+passband integral is a colour term of a few hundredths of a magnitude
+(common practice, no source).
+"""
+
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+import astropy.units as u
+
+from ..constants import H_PLANCK, C_LIGHT, K_B
+from ..errors import InputError, UnitMismatchError, UnknownKeyError
+from ..units import to_si, check_range, as_float_array
+
+__all__ = [
+    "planck_flambda",
+    "zero_points",
+    "band_names",
+    "synthetic_magnitude_si",
+    "normalise_to_band_si",
+    "StellarSpectrum",
+    "planck_spectrum",
+    "read_spectrum",
+    "stellar_flux_density",
+    "synthetic_magnitude",
+]
+
+#: Wavelength range [m] of Planck spectra (sampled on 4000 log-spaced points
+#: for display; :meth:`StellarSpectrum.at` evaluates Planck stars exactly).
+_PLANCK_GRID_M = np.geomspace(0.1e-6, 100e-6, 4000)
+
+
+def planck_flambda(wavelength_m, teff_k):
+    """Surface flux density of a blackbody, pi B_lambda(T), in W m-3.
+
+    Parameters
+    ----------
+    wavelength_m : array_like
+        Wavelength [m].
+    teff_k : array_like
+        Temperature [K]; broadcast against ``wavelength_m`` (use shape
+        ``(n_planet, 1)`` for a planet axis).
+
+    Returns
+    -------
+    numpy.ndarray
+        ``pi * B_lambda`` = ``2 pi h c^2 / lambda^5 / (exp(hc / lambda k T) - 1)``
+        [W m-3], the flux leaving a unit area of the stellar surface per unit
+        wavelength (Planck's law; e.g. Rybicki & Lightman 1979, *Radiative
+        Processes in Astrophysics*, ch. 1).
+    """
+    lam = np.asarray(wavelength_m, dtype=np.float64)
+    t = np.asarray(teff_k, dtype=np.float64)
+    x = H_PLANCK * C_LIGHT / (lam * K_B * t)
+    with np.errstate(over="ignore"):
+        return 2.0 * np.pi * H_PLANCK * C_LIGHT**2 / lam**5 / np.expm1(x)
+
+
+@lru_cache(maxsize=1)
+def zero_points():
+    """Zero-magnitude flux densities of the supported bands.
+
+    Returns
+    -------
+    dict
+        band -> ``(reference_wavelength_m, zero_point_flambda_W_m3, source)``.
+        Sources: Cohen, Wheaton & Megeath 2003 (AJ 126, 1090) for J, H, Ks;
+        Bessell, Castelli & Plez 1998 (A&A 333, 231) for V.
+    """
+    from ..tables import read_table
+    t = read_table("photometry", "zero_points.ecsv")
+    out = {}
+    for row in t:
+        lam = (row["reference_wavelength"] * t["reference_wavelength"].unit).si.value
+        f0 = (row["zero_point_flambda"] * t["zero_point_flambda"].unit).si.value
+        out[str(row["band"])] = (float(lam), float(f0), str(row["source"]))
+    return out
+
+
+def band_names():
+    """Names of the bands with a shipped zero point (tuple of str)."""
+    return tuple(zero_points())
+
+
+def _band(band, field="band"):
+    zp = zero_points()
+    if isinstance(band, str) and band in zp:
+        return zp[band]
+    if isinstance(band, str):
+        for name in zp:
+            if name.lower() == band.strip().lower():
+                return zp[name]
+    raise UnknownKeyError(field, band, "one of " + ", ".join(zp))
+
+
+def _loglog_interp(x_new, x, y):
+    """Interpolate ``y(x)`` linearly in log-log at ``x_new`` (y > 0).
+
+    ``y`` may carry leading axes; interpolation is along the last axis.
+    """
+    lx = np.log(x)
+    lxn = np.log(np.asarray(x_new, dtype=np.float64))
+    ly = np.log(np.asarray(y, dtype=np.float64))
+    if ly.ndim == 1:
+        return np.exp(np.interp(lxn, lx, ly))
+    flat = ly.reshape(-1, ly.shape[-1])
+    res = np.stack([np.interp(lxn, lx, row) for row in flat])
+    return np.exp(res.reshape(ly.shape[:-1] + np.shape(lxn)))
+
+
+def synthetic_magnitude_si(wavelength_m, flambda, band):
+    """Synthetic magnitude of a sampled spectrum (isophotal approximation).
+
+    Parameters
+    ----------
+    wavelength_m : numpy.ndarray
+        Increasing wavelengths [m], shape ``(n_wave,)``.
+    flambda : numpy.ndarray
+        Flux density at the observer [W m-3], shape ``(..., n_wave)``.
+    band : str
+        A band name from :func:`band_names`.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``-2.5 log10(F(lambda_ref) / F_0)``, shape ``flambda.shape[:-1]``.
+    """
+    lam_ref, f0, _ = _band(band)
+    f_ref = _loglog_interp(lam_ref, wavelength_m, flambda)
+    return -2.5 * np.log10(f_ref / f0)
+
+
+def normalise_to_band_si(wavelength_m, flambda_shape, magnitude, band):
+    """Scale factors making a spectrum's synthetic magnitude equal ``magnitude``.
+
+    Parameters
+    ----------
+    wavelength_m : numpy.ndarray
+        Increasing wavelengths [m], shape ``(n_wave,)``.
+    flambda_shape : numpy.ndarray
+        Spectrum of any normalisation, shape ``(..., n_wave)``.
+    magnitude : numpy.ndarray
+        Target magnitudes, broadcastable to ``flambda_shape.shape[:-1]``.
+    band : str
+        Band name.
+
+    Returns
+    -------
+    numpy.ndarray
+        Multiply ``flambda_shape`` by ``scale[..., None]`` to normalise it.
+    """
+    lam_ref, f0, _ = _band(band)
+    f_ref = _loglog_interp(lam_ref, wavelength_m, flambda_shape)
+    return f0 * 10.0 ** (-0.4 * np.asarray(magnitude, dtype=np.float64)) / f_ref
+
+
+class StellarSpectrum:
+    """Observed stellar flux density on a wavelength grid, one row per star.
+
+    Parameters
+    ----------
+    wavelength_m : numpy.ndarray
+        Increasing wavelengths [m], shape ``(n_wave,)``.
+    flambda : numpy.ndarray or None
+        Flux density at the observer [W m-3], shape ``(n_star, n_wave)``;
+        ``None`` for Planck stars (then ``teff_k`` is required).
+    origin : str
+        Plain description (``"Planck 5800 K"`` or a file name).
+    teff_k, scale : numpy.ndarray, optional
+        Planck stars: temperatures [K] and dilution factors; the spectrum is
+        ``scale * pi B_lambda(teff)``, evaluated exactly at any wavelength.
+
+    Notes
+    -----
+    Build one with :func:`planck_spectrum` or :func:`read_spectrum` followed
+    by :meth:`normalised`.
+    """
+
+    def __init__(self, wavelength_m, flambda, origin, teff_k=None, scale=None):
+        self.wavelength_m = np.asarray(wavelength_m, dtype=np.float64)
+        self.origin = origin
+        # Planck stars (flambda None) are evaluated analytically: scale * pi B_lambda(teff)
+        self._teff = None if teff_k is None else np.atleast_1d(np.asarray(teff_k, float))
+        self._scale = (None if self._teff is None else
+                       np.ones(self._teff.shape) if scale is None else
+                       np.broadcast_to(np.asarray(scale, float), self._teff.shape))
+        self._flambda = (None if flambda is None else
+                         np.atleast_2d(np.asarray(flambda, dtype=np.float64)))
+
+    @property
+    def n_star(self):
+        """Number of stars (rows)."""
+        return self._teff.size if self._teff is not None else self._flambda.shape[0]
+
+    @property
+    def flambda(self):
+        """Flux density on ``wavelength_m`` [W m-3], shape ``(n_star, n_wave)``."""
+        if self._flambda is None:
+            return self._scale[:, None] * planck_flambda(self.wavelength_m[None, :],
+                                                         self._teff[:, None])
+        return self._flambda
+
+    @property
+    def range_m(self):
+        """(shortest, longest) wavelength covered [m]."""
+        return float(self.wavelength_m[0]), float(self.wavelength_m[-1])
+
+    def normalised(self, magnitude, band):
+        """Return a copy scaled so that its magnitude in ``band`` is ``magnitude``.
+
+        Parameters
+        ----------
+        magnitude : float or array_like
+            One magnitude per star (broadcast against the star axis).
+        band : str
+            Band name (see :func:`band_names`).
+        """
+        mag = np.atleast_1d(as_float_array(magnitude, f"magnitude.{band}"))
+        check_range(mag, f"magnitude.{band}", -5.0, 30.0, unit_label="mag")
+        lam_ref = _band(band)[0]
+        lo, hi = self.range_m
+        if not lo <= lam_ref <= hi:
+            raise InputError(
+                "spectrum", f"{self.origin} covering {lo*1e6:.4g}-{hi*1e6:.4g} um",
+                f"a spectrum covering the {band} reference wavelength "
+                f"{lam_ref*1e6:.4g} um")
+        n = self.n_star
+        if n != mag.size and 1 not in (n, mag.size):
+            raise InputError(f"magnitude.{band}", f"{mag.size} values",
+                             f"1 or {n} values (one per star)")
+        n = max(n, mag.size)
+        if self._teff is not None:
+            teff = np.broadcast_to(self._teff, (n,))
+            old = np.broadcast_to(self._scale, (n,))
+            f_ref = old * planck_flambda(lam_ref, teff)
+            scale = _band(band)[1] * 10.0 ** (-0.4 * mag) / f_ref
+            return StellarSpectrum(self.wavelength_m, None, self.origin,
+                                   teff_k=teff, scale=old * scale)
+        shape = np.broadcast_to(self.flambda, (n, self.wavelength_m.size))
+        scale = normalise_to_band_si(self.wavelength_m, shape, mag, band)
+        return StellarSpectrum(self.wavelength_m, shape * scale[:, None], self.origin)
+
+    def at(self, wavelength_m):
+        """Flux density [W m-3] at ``wavelength_m`` (log-log interpolation).
+
+        Raises
+        ------
+        InputError
+            If ``wavelength_m`` reaches outside the spectrum.
+        """
+        lam = np.asarray(wavelength_m, dtype=np.float64)
+        lo, hi = self.range_m
+        if lam.size and (lam.min() < lo * (1 - 1e-12) or lam.max() > hi * (1 + 1e-12)):
+            raise InputError(
+                "spectrum", f"{self.origin} covering {lo*1e6:.4g}-{hi*1e6:.4g} um",
+                f"a spectrum covering the requested {lam.min()*1e6:.4g}-"
+                f"{lam.max()*1e6:.4g} um")
+        if self._teff is not None:
+            return self._scale[:, None] * planck_flambda(lam.reshape(1, -1),
+                                                         self._teff[:, None]).reshape(
+                (self._teff.size,) + lam.shape)
+        return _loglog_interp(np.clip(lam, lo, hi), self.wavelength_m, self.flambda)
+
+
+def planck_spectrum(teff):
+    """Blackbody spectrum shape for one or more stars.
+
+    Parameters
+    ----------
+    teff : float, array_like or Quantity
+        Effective temperature(s); bare numbers in K, allowed 500-100000 K.
+
+    Returns
+    -------
+    StellarSpectrum
+        Surface flux ``pi B_lambda(Teff)`` [W m-3] on a 0.1-100 um grid, one
+        row per star; call :meth:`StellarSpectrum.normalised` to scale it to
+        a magnitude.
+    """
+    t = np.atleast_1d(to_si(teff, "star.teff", u.K, 500.0, 1.0e5))
+    label = "Planck " + ", ".join(f"{x:.0f} K" for x in t[:4]) + (" ..." if t.size > 4 else "")
+    return StellarSpectrum(_PLANCK_GRID_M, None, label, teff_k=t)
+
+
+_FLUX_UNIT = u.W / u.m**3
+
+
+def read_spectrum(path):
+    """Read a user stellar spectrum file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        A table readable by astropy (ECSV ``.ecsv``, FITS ``.fits``/``.fit``,
+        CSV ``.csv``) with two columns: ``wavelength`` and ``flux``.  Their
+        units come from the column metadata (ECSV, FITS); in a CSV file the
+        column names carry the unit in brackets, for example
+        ``wavelength [um]`` and ``flux [erg / (s cm2 Angstrom)]``.  ``flux``
+        may be a flux density per unit wavelength or per unit frequency; its
+        overall scale does not matter (the spectrum is normalised to the
+        star's magnitude).
+
+    Returns
+    -------
+    StellarSpectrum
+        One row, sorted by wavelength.
+
+    Raises
+    ------
+    InputError, UnitMismatchError
+        Missing columns, missing or wrong units, fewer than two points,
+        non-positive values.
+    """
+    from astropy.table import Table
+    p = Path(path)
+    if not p.is_file():
+        raise InputError("spectrum", str(path), "an existing spectrum file")
+    ext = p.suffix.lower()
+    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits",
+           ".fit": "fits"}.get(ext)
+    if fmt is None:
+        raise InputError("spectrum", str(path), "a .ecsv, .csv or .fits file")
+    try:
+        t = Table.read(str(p), format=fmt)
+    except Exception as exc:  # astropy raises many types for malformed files
+        raise InputError("spectrum", str(path), "a readable table",
+                         detail=str(exc)) from None
+    cols = {}
+    for name in t.colnames:
+        base, unit = name, t[name].unit
+        if "[" in name and name.rstrip().endswith("]"):
+            base, _, rest = name.partition("[")
+            try:
+                unit = u.Unit(rest.rstrip()[:-1].strip())
+            except ValueError:
+                raise UnitMismatchError(f"spectrum column {name!r}", rest[:-1],
+                                        "an astropy unit string") from None
+        cols[base.strip().lower()] = (np.asarray(t[name], dtype=np.float64), unit)
+    for need in ("wavelength", "flux"):
+        if need not in cols:
+            raise InputError("spectrum", str(path),
+                             "columns 'wavelength' and 'flux' with units",
+                             detail=f"no column {need!r}; found {t.colnames}")
+    lam_v, lam_u = cols["wavelength"]
+    f_v, f_u = cols["flux"]
+    if lam_u is None or f_u is None:
+        raise UnitMismatchError("spectrum", str(path), "units on both columns",
+                                detail="give units in the column metadata or as "
+                                       "'wavelength [um]' in a CSV header")
+    try:
+        lam = (lam_v * u.Unit(lam_u)).to(u.m)
+    except u.UnitConversionError:
+        raise UnitMismatchError("spectrum wavelength", str(lam_u), "a length unit") from None
+    try:
+        flux = (f_v * u.Unit(f_u)).to(_FLUX_UNIT, equivalencies=u.spectral_density(lam))
+    except u.UnitConversionError:
+        raise UnitMismatchError("spectrum flux", str(f_u),
+                                "a flux density per wavelength or per frequency") from None
+    order = np.argsort(lam.value)
+    lam_m = lam.value[order]
+    fl = flux.value[order]
+    if lam_m.size < 2 or not np.all(np.isfinite(lam_m)) or np.any(np.diff(lam_m) <= 0):
+        raise InputError("spectrum", str(path),
+                         "at least two distinct, finite wavelengths")
+    check_range(lam_m, "spectrum wavelength", 0.0, None, low_inclusive=False, unit_label="m")
+    check_range(fl, "spectrum flux", 0.0, None, low_inclusive=False, unit_label="W m-3")
+    return StellarSpectrum(lam_m, fl[None, :], p.name)
+
+
+def stellar_flux_density(wavelength, teff, magnitude, band, spectrum=None):
+    """Observed stellar flux density normalised to a magnitude.
+
+    Parameters
+    ----------
+    wavelength : float, array_like or Quantity
+        Wavelength(s); bare numbers in um.
+    teff : float, array_like or Quantity
+        Effective temperature(s); bare numbers in K.  Ignored when
+        ``spectrum`` is given.
+    magnitude : float or array_like
+        Magnitude(s) of the star(s) in ``band``.
+    band : str
+        Band name (``"J"``, ``"H"``, ``"Ks"``, ``"V"``).
+    spectrum : str, pathlib.Path or StellarSpectrum, optional
+        A user spectrum (file path, see :func:`read_spectrum`) used instead
+        of the Planck spectrum.
+
+    Returns
+    -------
+    astropy.units.Quantity
+        ``F_lambda`` in W m-2 um-1, shape ``(n_star, n_wave)``.
+    """
+    lam = np.atleast_1d(to_si(wavelength, "wavelength", u.um, 0.0, None, low_inclusive=False))
+    spec = _spectrum(spectrum, teff).normalised(magnitude, band)
+    return (spec.at(lam) * _FLUX_UNIT).to(u.W / u.m**2 / u.um)
+
+
+def _spectrum(spectrum, teff):
+    if spectrum is None:
+        return planck_spectrum(teff)
+    if isinstance(spectrum, StellarSpectrum):
+        return spectrum
+    return read_spectrum(spectrum)
+
+
+def synthetic_magnitude(wavelength, flux, band):
+    """Synthetic magnitude of a spectrum in a band (isophotal approximation).
+
+    Parameters
+    ----------
+    wavelength : Quantity or array_like
+        Increasing wavelengths; bare numbers in um.
+    flux : Quantity
+        Flux density per unit wavelength or frequency, shape ``(..., n_wave)``;
+        bare numbers in W m-2 um-1.
+    band : str
+        Band name.
+
+    Returns
+    -------
+    numpy.ndarray
+        Magnitudes, shape ``flux.shape[:-1]``.
+    """
+    lam = to_si(wavelength, "wavelength", u.um, 0.0, None, low_inclusive=False)
+    if isinstance(flux, u.Quantity):
+        try:
+            f = flux.to(_FLUX_UNIT, equivalencies=u.spectral_density(lam * u.m)).value
+        except u.UnitConversionError:
+            raise UnitMismatchError("flux", str(flux.unit), "a spectral flux density") from None
+    else:
+        f = to_si(flux, "flux", u.W / u.m**2 / u.um, 0.0, None, low_inclusive=False)
+    return synthetic_magnitude_si(lam, f, band)
