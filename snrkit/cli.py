@@ -100,6 +100,11 @@ def main(argv=None):
 def _run_guarded(args, SnrkitError, InputError):
     try:
         return int(args._run(args) or 0)
+    except BrokenPipeError:
+        # the reader went away (e.g. `snrkit ... | head`): stop quietly
+        import os
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except InputError as exc:
         print("error: " + " ".join(str(exc).split()), file=sys.stderr)
         return 2
