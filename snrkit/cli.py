@@ -27,6 +27,7 @@ COMMANDS = {
     "presets": ("presets", "list the shipped presets (scenarios, instrument modes)"),
     "precision": ("precision", "per-bin transit-depth precision for an instrument mode"),
     "calendar": ("calendar", "transit windows and their observability for a system file"),
+    "spectrum": ("spectrum", "transmission spectra of atmosphere scenarios"),
 }
 
 

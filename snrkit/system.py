@@ -355,7 +355,11 @@ class System(_Frozen):
         Atmospheric mean molecular weight [g/mol] per planet for the scale
         height; NaN or None means :data:`DEFAULT_MEAN_MOLECULAR_WEIGHT`.
     atmosphere_temperature : Quantity, float or array, optional
-        Temperature for the scale height (default unit K); default Teq.
+        Temperature for the scale height (default unit K); default
+        ``atmosphere_temperature_factor`` x Teq.
+    atmosphere_temperature_factor : float or array, optional
+        Scale-height temperature as a multiple of Teq where no temperature is
+        given (default 1).
     atmospheres : sequence of dict, optional
         Raw per-planet atmosphere descriptions (from a system file), kept for
         later stages.
@@ -375,11 +379,11 @@ class System(_Frozen):
         Where 1 - Rp/Rs < b < 1 + Rp/Rs (T23 = 0).
     """
 
-    __slots__ = ("_n", "star", "planet", "_a", "_b", "_inc", "_mu", "_tatm",
+    __slots__ = ("_n", "star", "planet", "_a", "_b", "_inc", "_mu", "_tatm", "_tfac",
                  "atmospheres", "observations", "grazing")
 
     def __init__(self, star, planet, mean_molecular_weight=None, atmosphere_temperature=None,
-                 atmospheres=None, observations=None):
+                 atmosphere_temperature_factor=1.0, atmospheres=None, observations=None):
         if not isinstance(star, Star):
             raise InputError("star", type(star).__name__, "a snrkit.Star")
         if not isinstance(planet, Planet):
@@ -397,6 +401,10 @@ class System(_Frozen):
         tatm = np.broadcast_to(_opt(atmosphere_temperature, "atmosphere.temperature", u.K,
                                     0.0, None, low_inclusive=False), (n,))
         self._set("_tatm", tatm.astype(np.float64))
+        tfac = np.broadcast_to(as_float_array(atmosphere_temperature_factor,
+                                              "atmosphere.temperature_factor"), (n,))
+        check_range(tfac, "atmosphere.temperature_factor", 0.0, 10.0, low_inclusive=False)
+        self._set("_tfac", tfac.astype(np.float64))
         self._set("atmospheres", tuple(atmospheres) if atmospheres is not None else (None,) * n)
         self._set("observations", tuple(observations) if observations is not None else (None,) * n)
 
@@ -473,6 +481,7 @@ class System(_Frozen):
             warnings.simplefilter("ignore", GrazingTransitWarning)  # already warned once
             return System(star, planet, mean_molecular_weight=self._mu[idx],
                           atmosphere_temperature=self._tatm[idx] * u.K,
+                          atmosphere_temperature_factor=self._tfac[idx],
                           atmospheres=[self.atmospheres[i] for i in idx],
                           observations=[self.observations[i] for i in idx])
 
@@ -559,7 +568,7 @@ def derive(system):
     teq0 = met.equilibrium_temperature(teff, rs, a, 0.0, 0.25)
     t14 = geo.transit_duration(p._period, aor, k, b, inc, p.eccentricity, p._omega)
     t23 = geo.transit_duration(p._period, aor, k, b, inc, p.eccentricity, p._omega, inner=True)
-    tatm = np.where(np.isnan(system._tatm), teq, system._tatm)
+    tatm = np.where(np.isnan(system._tatm), system._tfac * teq, system._tatm)
     h = met.scale_height(tatm, system.mean_molecular_weight, g)
     s_in = met.insolation(teff, rs, a, p.eccentricity)
     out = {

@@ -23,9 +23,10 @@ Layout (every key is optional unless marked required)::
     mass_uncertainty = 0.3
     impact_parameter = 0.2              # or inclination (deg)
     transit_midtime = 2461000.25        # BJD_TDB
-    [planet.atmosphere]                 # this planet's atmosphere
-    mixing_ratios = { N2 = 0.78, O2 = 0.21 }
-    fill_gas = "N2"
+    [planet.atmosphere]                 # this planet's atmosphere scenario
+    scenario = "n2-o2-temperate"        # a preset (snrkit presets) ...
+    cloud_top_pressure = 0.1            # ... with overrides (bar), or a full
+                                        # description: mixing_ratios, fill_gas, ...
 
 Numbers are read in the documented default unit of their key; strings
 such as ``"1.2 earthRad"`` or ``"3.1 d"`` carry an astropy unit, which must
@@ -44,7 +45,7 @@ from ..errors import InputError, UnknownKeyError
 from ..system import Star, Planet, System, BANDS
 
 __all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS",
-           "ATMOSPHERE_KEYS", "OBSERVATION_KEYS", "TOP_KEYS"]
+           "OBSERVATION_KEYS", "TOP_KEYS"]
 
 TOP_KEYS = {"star": "table", "planet": "array of tables", "title": "text", "notes": "text"}
 
@@ -84,20 +85,16 @@ PLANET_KEYS = {
     "observation": (None, "table"),
 }
 
-#: keys of a planet's [planet.atmosphere] table.  Composition keys are read
-#: here; the scenario keys are validated by the spectrum layer.
-ATMOSPHERE_KEYS = {
-    "scenario": "preset name or path of a scenario TOML",
-    "mixing_ratios": "table of species = volume mixing ratio",
-    "fill_gas": "species taking the remainder",
-    "mean_molecular_weight": "g/mol",
-    "temperature": "K (default: equilibrium temperature)",
-    "temperature_profile": "profile name",
-    "reference_pressure": "bar",
-    "cloud_top_pressure": "bar",
-    "haze_enhancement": "number",
-    "haze_slope": "number",
-}
+def _atmosphere_keys():
+    """Keys of a planet's [planet.atmosphere] table: the scenario keys.
+
+    The table is a scenario description (:mod:`snrkit.atmosphere.scenarios`):
+    a preset named by ``scenario`` with optional overrides, or a full
+    description of its own.
+    """
+    from ..atmosphere.scenarios import SCENARIO_KEYS
+    return SCENARIO_KEYS
+
 
 #: keys of a planet's [planet.observation] table (read by the noise layers).
 OBSERVATION_KEYS = {
@@ -140,29 +137,17 @@ def _star_from_table(tbl, source):
     return Star(**kwargs)
 
 
-def _atmosphere_mu(atm, where):
-    from ..atmosphere.composition import mean_molecular_weight
+def _atmosphere_summary(atm, where):
+    """(mu [g/mol], fixed temperature [K] or NaN, temperature factor) of an atmosphere table."""
     if atm is None:
-        return np.nan, None
+        return np.nan, np.nan, 1.0
     if not isinstance(atm, dict):
         raise InputError(where, atm, "a table")
-    _check_keys(atm, ATMOSPHERE_KEYS, where)
-    mu = atm.get("mean_molecular_weight")
-    if "mixing_ratios" in atm:
-        mr = atm["mixing_ratios"]
-        if not isinstance(mr, dict):
-            raise InputError(f"{where}.mixing_ratios", mr, "a table such as { N2 = 0.78, O2 = 0.21 }")
-        mu_c = mean_molecular_weight(mr, fill_gas=atm.get("fill_gas"), field=f"{where}.mixing_ratios")
-        if mu is not None:
-            raise InputError(f"{where}.mean_molecular_weight", mu,
-                             "either mixing_ratios or mean_molecular_weight, not both")
-        mu = mu_c
-    elif "fill_gas" in atm:
-        raise InputError(f"{where}.fill_gas", atm["fill_gas"], "only together with mixing_ratios")
-    if mu is not None and (isinstance(mu, bool) or not isinstance(mu, (int, float))):
-        raise InputError(f"{where}.mean_molecular_weight", mu, "a number in g/mol")
-    temp = atm.get("temperature")
-    return (np.nan if mu is None else float(mu)), temp
+    from ..atmosphere.scenarios import load_scenario
+    sc = load_scenario(atm, field=where)
+    mu = sc.mean_molecular_weight if np.isfinite(sc.mean_molecular_weight) else np.nan
+    temp = np.nan if sc.temperature_K is None else float(sc.temperature_K)
+    return float(mu), temp, float(sc.temperature_factor)
 
 
 def read_system_text(text, source="<text>"):
@@ -193,7 +178,7 @@ def read_system_text(text, source="<text>"):
     star = _star_from_table(doc["star"], source)
     columns = {}
     names = []
-    mus, temps, atms, obs = [], [], [], []
+    mus, temps, factors, atms, obs = [], [], [], [], []
     for i, tbl in enumerate(planets):
         if not isinstance(tbl, dict):
             raise InputError(f"planet[{i}]", tbl, "a table")
@@ -208,9 +193,10 @@ def read_system_text(text, source="<text>"):
             if req not in tbl:
                 raise InputError(f"planet.{req} ({name})", None,
                                  f"a value ({PLANET_KEYS[req][1]})")
-        mu, temp = _atmosphere_mu(tbl.get("atmosphere"), f"planet.atmosphere ({name})")
+        mu, temp, factor = _atmosphere_summary(tbl.get("atmosphere"), f"planet.atmosphere ({name})")
         mus.append(mu)
         temps.append(temp)
+        factors.append(factor)
         atms.append(tbl.get("atmosphere"))
         ob = tbl.get("observation")
         if ob is not None:
@@ -228,14 +214,10 @@ def read_system_text(text, source="<text>"):
         except InputError as exc:
             raise type(exc)(f"{exc.field} ({name})", exc.value, exc.allowed, exc.detail) from None
     planet = _stack_planets(singles)
-    temp_si = []
-    from ..units import to_si
-    import astropy.units as u
-    for t, name in zip(temps, names):
-        temp_si.append(np.nan if t is None else float(to_si(
-            t, f"planet.atmosphere.temperature ({name})", u.K, 0.0, None, low_inclusive=False)))
     return System(star, planet, mean_molecular_weight=np.array(mus),
-                  atmosphere_temperature=np.array(temp_si), atmospheres=atms, observations=obs)
+                  atmosphere_temperature=np.array(temps),
+                  atmosphere_temperature_factor=np.array(factors),
+                  atmospheres=atms, observations=obs)
 
 
 def _stack_planets(singles):

@@ -1,0 +1,103 @@
+"""The ``snrkit spectrum`` command module: options, files, JSON and exit codes.
+
+CLI conventions only (DEVELOPERS.md); the physics of the spectra is checked against
+its sources in test_spectrum*.py.
+"""
+
+import argparse
+import json
+
+import numpy as np
+import pytest
+import xarray as xr
+from astropy.table import Table
+
+from snrkit.commands import spectrum as cmd
+from snrkit.errors import InputError
+from snrkit.tables import data_path
+
+ALDER = str(data_path("demo", "alder.toml"))
+CEDAR = str(data_path("demo", "cedar.toml"))
+
+
+def _run(argv):
+    p = argparse.ArgumentParser()
+    cmd.add_parser(p)
+    return cmd.run(p.parse_args(argv))
+
+
+def test_json_single_spectrum(capsys):
+    assert _run([ALDER, "--scenario", "h2-clear-solar", "--resolution", "10", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    for key in ("scenario", "wavelength_um", "transit_depth_ppm", "scale_height_km",
+                "annulus_ppm_per_scale_height", "spectra"):
+        assert key in out
+    assert out["scenario"] == "h2-clear-solar"
+    assert len(out["wavelength_um"]) == len(out["transit_depth_ppm"])
+    # annulus = 2 H Rp / Rs^2, consistent with the quoted scale height (Alder b: 1.25 R_J,
+    # 1.05 R_sun)
+    rp, rs = 1.25 * 7.1492e7, 1.05 * 6.957e8
+    assert out["annulus_ppm_per_scale_height"] == pytest.approx(
+        2 * out["scale_height_km"] * 1e3 * rp / rs**2 * 1e6, rel=1e-6)
+
+
+def test_files_and_table(tmp_path, capsys):
+    ecsv, nc, png = tmp_path / "s.ecsv", tmp_path / "s.nc", tmp_path / "s.png"
+    assert _run([ALDER, "--scenario", "h2-clear-solar", "--scenario", "flat", "--resolution", "8",
+                 "--out", str(ecsv), "--plot", str(png)]) == 0
+    text = capsys.readouterr().out
+    assert "h2-clear-solar" in text and "flat" in text and "wavelength_um" in text
+    t = Table.read(ecsv, format="ascii.ecsv")
+    assert set(t["scenario"]) == {"h2-clear-solar", "flat"}
+    assert str(t["wavelength"].unit) == "um"
+    assert png.stat().st_size > 1000
+    assert _run([CEDAR, "--resolution", "8", "--solver", "layers", "--layers", "100",
+                 "--out", str(nc)]) == 0
+    ds = xr.open_dataset(nc, engine="scipy")
+    assert ds.transit_depth_ppm.dims == ("planet", "wavelength")
+    assert list(ds.planet.values) == ["Cedar b", "Cedar c"]
+    assert np.all(np.isfinite(ds.transit_depth_ppm.values))
+    ds.close()
+
+
+@pytest.mark.parametrize("argv,match", [
+    (["--scenario", "nope"], "preset name"),
+    (["--scenario", "flat", "--out", "x.txt"], ".ecsv or .nc"),
+    (["--scenario", "flat", "--plot", "x.jpg"], ".png"),
+    (["--scenario", "flat", "--range", "5", "1"], "MIN < MAX"),
+    (["--scenario", "flat", "--layers", "100"], "only with --solver layers"),
+    ([], "no \\[planet.atmosphere\\]"),
+])
+def test_bad_arguments(argv, match, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    # the Birch demo system without its [planet.atmosphere] table
+    text = data_path("demo", "birch.toml").read_text().split("[planet.atmosphere]")[0]
+    (tmp_path / "bare.toml").write_text(text)
+    system = str(tmp_path / "bare.toml")
+    with pytest.raises(InputError, match=match):
+        _run([system, "--resolution", "5"] + argv)
+
+
+def test_registered_command_exit_codes(capsys):
+    from snrkit import cli
+    if "spectrum" not in cli.COMMANDS:
+        pytest.skip("spectrum command not registered in snrkit.cli yet")
+    assert cli.main(["spectrum", ALDER, "--scenario", "h2-clear-solr"]) == 2
+    assert "did you mean" in capsys.readouterr().err
+    assert cli.main(["spectrum", ALDER, "--scenario", "flat", "--resolution", "5",
+                     "--json"]) == 0
+    json.loads(capsys.readouterr().out)
+
+
+def test_json_has_planets_list(capsys):
+    # CLI convention (DEVELOPERS.md): per-planet answers in a "planets" list whose
+    # objects carry the keys the issue names.
+    from snrkit import cli
+    cedar = str(data_path("demo", "cedar.toml"))
+    assert cli.main(["spectrum", cedar, "--resolution", "10", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert [p["name"] for p in doc["planets"]] == ["Cedar b", "Cedar c"]
+    for p in doc["planets"]:
+        assert len(p["wavelength_um"]) == len(p["transit_depth_ppm"]) > 10
+        assert p["scale_height_km"] > 0 and p["annulus_ppm_per_scale_height"] > 0
+        assert isinstance(p["scenario"], str)
