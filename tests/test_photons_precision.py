@@ -313,8 +313,9 @@ def test_every_preset_runs_fast(name):
 
 def test_bad_inputs(tmp_path):
     kw = dict(mode="cold6m-prism-lowres", magnitude=12.0, teff=5000.0, transit_duration=2.0)
-    with pytest.raises(InputError, match="n_transits"):
-        transit_precision(**{**kw, "n_transits": 0})
+    for bad in (0, 2.5, "three", [1, 2], True):
+        with pytest.raises(InputError, match="n_transits"):
+            transit_precision(**{**kw, "n_transits": bad})
     with pytest.raises(InputError, match="transit_duration"):
         transit_precision(**{**kw, "transit_duration": -1.0})
     with pytest.raises(InputError, match="baseline"):
@@ -365,3 +366,83 @@ def quiet_sys(system, mode, **kw):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", SaturationWarning)
         return system_precision(system, mode, **kw)
+
+
+@pytest.mark.parametrize("n,m", [(3, 1), (6, 2), (12, 1)])
+def test_read_noise_of_a_fitted_ramp_matches_a_least_squares_monte_carlo(n, m):
+    # Independent check of the up-the-ramp read term (Rauscher et al. 2007, PASP 119, 768,
+    # eq. 1): simulate n groups of m averaged frames, each frame read with Gaussian noise,
+    # fit the ramp by ordinary least squares (numpy.polyfit) and take the variance of the
+    # fitted signal over the effective time (n - 1) t_group.  The precision model's read
+    # term must imply the same per-pixel variance within the Monte Carlo sampling error.
+    sigma_read, tf = 9.0, 0.5
+    mode = make_mode(readout__groups_per_integration=n, readout__frames_per_group=m,
+                     readout__frame_time_s=tf, detector__read_noise_electrons=sigma_read,
+                     detector__full_well_electrons=1e9)
+    ds = quiet(mode=mode, magnitude=12.0, teff=5000.0, transit_duration=1.0, baseline=2.0)
+    j = 3
+    rate = ds["photon_rate"].values[0, j]
+    d = float(ds["duty_cycle"].values[0])
+    t_int = float(ds["integration_time"].values[0])
+    n_pix = 2 * 5 * ds["bin_width"].values[j] / (ds["wavelength"].values[j] / 100.0)
+    t_in, t_out = HOUR, 2 * HOUR
+    n_in, n_out = rate * d * t_in, rate * d * t_out
+    read_ppm = float(ds["noise_budget_ppm"].sel(term="read").values[0, j])
+    implied = (read_ppm / 1e6) ** 2 / (n_pix / t_int * (t_in / n_in**2 + t_out / n_out**2))
+
+    rng = np.random.default_rng(1000 * n + m)
+    trials = 20000
+    tg = m * tf
+    t = tg * np.arange(1, n + 1)
+    reads = rng.normal(0.0, sigma_read, size=(trials, n, m)).mean(axis=2)   # no signal
+    slope = np.polyfit(t, reads.T, 1)[0]
+    mc = np.var(slope * (n - 1) * tg, ddof=1)
+    # relative standard error of a sample variance: sqrt(2 / (trials - 1)); allow 5 of them
+    assert implied == pytest.approx(mc, rel=5 * np.sqrt(2 / (trials - 1)))
+
+
+def test_group_counts_below_two_are_rejected():
+    # one group collects no light ((n - 1) t_group = 0): a mode file may not allow it
+    with pytest.raises(InputError, match="readout.min_groups"):
+        make_mode(readout__min_groups=1)
+    with pytest.raises(InputError, match="readout.groups_per_integration"):
+        make_mode(readout__groups_per_integration=1)
+    scan = copy.deepcopy(BASE)
+    scan["readout"] = {"scheme": "scan", "exposure_time_s": 50.0, "reads_per_exposure": 4,
+                       "duty_cycle": 0.0}
+    with pytest.raises(InputError, match="readout.duty_cycle"):
+        parse_mode(scan)
+
+
+def test_edited_mode_file_is_read_again(tmp_path):
+    # load_mode caches parsed files; an edit during a session must not be served stale
+    import os
+    from snrkit.tables import data_path
+    text = data_path("instruments", "cold6m-prism-lowres.toml").read_text()
+    p = tmp_path / "mine.toml"
+    p.write_text(text)
+    a = load_mode(str(p))
+    p.write_text(text.replace("read_noise_electrons = 11.0", "read_noise_electrons = 22.0"))
+    st = p.stat()
+    os.utime(p, ns=(st.st_atime_ns, st.st_mtime_ns + 10**9))
+    b = load_mode(str(p))
+    assert (a.read_noise, b.read_noise) == (11.0, 22.0)
+    # cached modes are shared: their tables cannot be changed in place
+    with pytest.raises(ValueError):
+        b.throughput.value[0] = 0.9
+
+
+def test_many_stars_at_once_equal_one_at_a_time():
+    # the vectorized planet axis (re-binning and log-log interpolation over all rows at
+    # once) gives exactly the per-star answers, native and re-binned
+    mags, teffs = [9.0, 11.5, 14.0], [3500.0, 5200.0, 6400.0]
+    for kw in ({}, {"resolution": 30.0}):
+        allr = quiet(mode="cold6m-prism-lowres", magnitude=mags, teff=teffs,
+                     transit_duration=[2.0, 3.0, 4.0], **kw)
+        for i in range(3):
+            one = quiet(mode="cold6m-prism-lowres", magnitude=mags[i], teff=teffs[i],
+                        transit_duration=[2.0, 3.0, 4.0][i], **kw)
+            np.testing.assert_allclose(allr["noise_ppm_per_transit"].values[i],
+                                       one["noise_ppm_per_transit"].values[0], rtol=1e-12)
+            np.testing.assert_allclose(allr["photon_rate"].values[i],
+                                       one["photon_rate"].values[0], rtol=1e-12)

@@ -57,7 +57,7 @@ def test_zero_point_table_is_internally_consistent():
 
 
 def test_zero_magnitude_reference_spectrum_from_fnu_file(tmp_path):
-    # A "Vega-like" zero-magnitude spectrum built from the published F_nu zero points (Jy),
+    # A zero-magnitude reference spectrum built from the published F_nu zero points (Jy),
     # written as an ECSV file, read back through the unit machinery and normalised to J = 0,
     # must reproduce the published F_lambda zero points of the other bands and give
     # magnitude ~0 in every band (Cohen et al. 2003; Bessell et al. 1998).
@@ -80,7 +80,8 @@ def test_zero_magnitude_reference_spectrum_from_fnu_file(tmp_path):
 
 def test_sun_absolute_magnitudes_against_willmer_2018():
     # A 5772 K blackbody with the IAU 2015 nominal solar radius at 10 pc compared with the
-    # Sun's absolute magnitudes of Willmer 2018, ApJS 236, 47 (Vega system): M_V = 4.81 and
+    # Sun's absolute magnitudes of Willmer 2018, ApJS 236, 47 (zero-magnitude-star system, as
+    # our zero points): M_V = 4.81 and
     # M_Ks = 3.27 (abstract); M_J = 3.67, M_H = 3.32 (value from memory).  A blackbody is a
     # good solar model in V and J (<= 0.1 mag); in H and Ks the real Sun is brighter than
     # the blackbody because of the H- opacity minimum near 1.6 um, hence 0.3 mag.

@@ -6,14 +6,15 @@ Sources
   magnitude" attributes of the J, H, Ks system calibrated there): isophotal
   wavelength, bandwidth, F_lambda and F_nu of a zero-magnitude star.
 * V: Bessell, Castelli & Plez 1998, A&A 333, 231, Table A2: effective
-  wavelength of a Vega-like star, f_lambda and f_nu for zero magnitude.
+  wavelength of the zero-magnitude A0 V reference spectrum, f_lambda and f_nu for
+  zero magnitude.
 
 All numbers below are marked "value from memory": the snrkit authors could
 not read the tables of these papers while writing this script, so they are
 quoted as remembered (the four-figure values are widely reproduced).  They
 should be checked against the papers before being relied on.  The internal
-consistency check F_nu = F_lambda * lambda^2 / c holds to better than 1.5 %
-for every band (tests/test_photons_sed.py), which guards against a slipped
+consistency check F_nu = F_lambda * lambda^2 / c holds to within 2.5 % for
+every band (1.9 % for H, whose values are quoted at different isophotal points) (tests/test_photons_sed.py), which guards against a slipped
 digit but not against a remembered value being wrong in a consistent way.
 
 Method

@@ -30,7 +30,8 @@ wavelength; a table must cover the mode's wavelength range.
     ``scheme = "up-the-ramp"``: ``frame_time_s``, optional
     ``frames_per_group`` (1), ``resets_per_integration`` (1),
     ``min_groups`` (2), ``max_groups`` (100), ``groups_per_integration``
-    (``"auto"`` or a whole number).
+    (``"auto"`` or a whole number); group counts are at least 2, since an
+    integration collects light for ``(n_groups - 1)`` group times.
     ``scheme = "scan"`` (the source is trailed across the detector during
     each exposure, so no pixel saturates): ``exposure_time_s``,
     ``reads_per_exposure``, ``duty_cycle`` (fraction of the elapsed time
@@ -88,9 +89,11 @@ _SCHEMA = {
         "frame_time_s": ("num", u.s, 0.0, 1.0e5, False),
         "frames_per_group": ("int", None, 1, 10000, False),
         "resets_per_integration": ("int", None, 0, 100, False),
-        "min_groups": ("int", None, 1, 100000, False),
-        "max_groups": ("int", None, 1, 100000, False),
-        "groups_per_integration": ("groups", None, 1, 100000, False),
+        # at least two groups: the light-collecting time of an integration is
+        # (n_groups - 1) t_group, so one group collects nothing
+        "min_groups": ("int", None, 2, 100000, False),
+        "max_groups": ("int", None, 2, 100000, False),
+        "groups_per_integration": ("groups", None, 2, 100000, False),
         "exposure_time_s": ("num", u.s, 0.0, 1.0e5, False),
         "reads_per_exposure": ("int", None, 2, 100000, False),
         "duty_cycle": ("num", None, 0.0, 1.0, False),
@@ -116,6 +119,13 @@ class Curve:
 
     wavelength_m: np.ndarray
     value: np.ndarray
+
+    def __post_init__(self):
+        # Modes are cached and shared between callers: make the tables immutable
+        for name in ("wavelength_m", "value"):
+            arr = np.array(getattr(self, name), dtype=np.float64)
+            arr.setflags(write=False)
+            object.__setattr__(self, name, arr)
 
     def __call__(self, wavelength_m):
         """Value at ``wavelength_m`` (linear interpolation in wavelength)."""
@@ -250,19 +260,26 @@ def load_mode(mode):
         return mode
     text = str(mode)
     if text in mode_names():
-        return _load_file(str(_presets_dir() / f"{text}.toml"))
+        return _load_path(_presets_dir() / f"{text}.toml")
     p = Path(text)
     if p.suffix.lower() == ".toml" or p.is_file():
         if not p.is_file():
             raise InputError("mode", text, "an existing mode file (.toml) or one of "
                              + ", ".join(mode_names()))
-        return _load_file(str(p.resolve()))
+        return _load_path(p.resolve())
     raise UnknownKeyError("mode", text, "a mode file (.toml) or one of "
                           + ", ".join(mode_names()))
 
 
+def _load_path(path):
+    # the cache key includes the file's modification time and size, so a mode file
+    # edited during a session (a notebook) is read again instead of served stale
+    st = Path(path).stat()
+    return _load_file(str(path), st.st_mtime_ns, st.st_size)
+
+
 @lru_cache(maxsize=64)
-def _load_file(path):
+def _load_file(path, mtime_ns=None, size=None):
     try:
         with open(path, "rb") as fh:
             data = tomllib.load(fh)
@@ -380,7 +397,7 @@ def parse_mode(data, path="<mapping>"):
                     check_range(v, fname, low, high)
                     vals[fname] = int(v)
                 else:
-                    raise InputError(fname, v, "\"auto\" or a whole number >= 1")
+                    raise InputError(fname, v, "\"auto\" or a whole number >= 2")
             elif kind == "curve":
                 vals[fname] = _curve(v, fname, low, high, lam_range)
             elif kind == "bool":
@@ -422,6 +439,9 @@ def parse_mode(data, path="<mapping>"):
     for fname in ("readout.frame_time_s", "readout.exposure_time_s"):
         if fname in vals and vals[fname] <= 0:
             raise InputError(fname, vals[fname], "a positive time in s")
+    if "readout.duty_cycle" in vals and vals["readout.duty_cycle"] <= 0:
+        raise InputError("readout.duty_cycle", vals["readout.duty_cycle"],
+                         "a fraction in (0, 1] (no light is collected at 0)")
     min_g = vals.get("readout.min_groups", 2)
     max_g = vals.get("readout.max_groups", 100)
     if max_g < min_g:

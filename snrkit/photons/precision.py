@@ -268,11 +268,15 @@ def rebin_rates(edges_native, values, edges_new):
         (..., k) contents of the new bins.
     """
     v = np.asarray(values, dtype=np.float64)
+    x = np.asarray(edges_native, dtype=np.float64)
+    xn = np.asarray(edges_new, dtype=np.float64)
     cum = np.concatenate([np.zeros(v.shape[:-1] + (1,)), np.cumsum(v, axis=-1)], axis=-1)
-    flat = cum.reshape(-1, cum.shape[-1])
-    out = np.stack([np.interp(edges_new, edges_native, row) for row in flat])
-    out = np.diff(out, axis=-1)
-    return out.reshape(v.shape[:-1] + (len(edges_new) - 1,))
+    # linear interpolation of the cumulative sum at the new edges, with weights shared
+    # by every row (no Python loop over planets); clamped at the ends like numpy.interp
+    idx = np.clip(np.searchsorted(x, xn, side="right") - 1, 0, x.size - 2)
+    frac = np.clip((xn - x[idx]) / (x[idx + 1] - x[idx]), 0.0, 1.0)
+    out = cum[..., idx] + frac * (cum[..., idx + 1] - cum[..., idx])
+    return np.diff(out, axis=-1)
 
 
 def depth_precision(star, sky, dark, read_var_rate, duty, t_in, t_out, depth, floor_ppm):
@@ -473,7 +477,11 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         t_out = _per_planet(baseline, "baseline", u.h, n, 0.0, None, low_inclusive=False)
     dep = np.broadcast_to(np.atleast_1d(check_range(as_float_array(depth, "depth"), "depth",
                                                     0.0, 1.0, high_inclusive=False)), (n,))
-    if isinstance(n_transits, bool) or not float(n_transits).is_integer():
+    try:
+        whole = not isinstance(n_transits, bool) and float(n_transits).is_integer()
+    except (TypeError, ValueError):
+        whole = False
+    if not whole:
         raise InputError("n_transits", n_transits, "a whole number >= 1")
     n_tr = int(check_range(float(n_transits), "n_transits", 1, 1.0e6))
     if readout == "auto":

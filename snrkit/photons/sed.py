@@ -115,13 +115,16 @@ def _loglog_interp(x_new, x, y):
 
     ``y`` may carry leading axes; interpolation is along the last axis.
     """
-    lx = np.log(x)
+    lx = np.log(np.asarray(x, dtype=np.float64))
     lxn = np.log(np.asarray(x_new, dtype=np.float64))
     ly = np.log(np.asarray(y, dtype=np.float64))
     if ly.ndim == 1:
         return np.exp(np.interp(lxn, lx, ly))
-    flat = ly.reshape(-1, ly.shape[-1])
-    res = np.stack([np.interp(lxn, lx, row) for row in flat])
+    # weights shared by every row (no Python loop over stars); clamped like numpy.interp
+    flat_x = np.atleast_1d(lxn).ravel()
+    idx = np.clip(np.searchsorted(lx, flat_x, side="right") - 1, 0, lx.size - 2)
+    frac = np.clip((flat_x - lx[idx]) / (lx[idx + 1] - lx[idx]), 0.0, 1.0)
+    res = ly[..., idx] + frac * (ly[..., idx + 1] - ly[..., idx])
     return np.exp(res.reshape(ly.shape[:-1] + np.shape(lxn)))
 
 
