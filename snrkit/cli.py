@@ -28,6 +28,8 @@ COMMANDS = {
     "precision": ("precision", "per-bin transit-depth precision for an instrument mode"),
     "calendar": ("calendar", "transit windows and their observability for a system file"),
     "spectrum": ("spectrum", "transmission spectra of atmosphere scenarios"),
+    "transits": ("transits", "transits needed to detect an atmosphere, a gas, or reject a scenario"),
+    "contrast": ("contrast", "transits needed to tell each pair of scenarios apart"),
 }
 
 

@@ -15,7 +15,7 @@ such as planet and scenario; the last axis is wavelength):
 * :func:`significance_from_delta_chi2` -- Z from a Delta chi^2 with nu degrees
   of freedom through the chi^2 tail probability, with the two-sided
   convention that makes Z = sqrt(Delta chi^2) for nu = 1 (Wilks 1938, Ann.
-  Math. Stat. 9, 60; Cowan et al. 2011, eq. 29).
+  Math. Stat. 9, 60; Cowan et al. 2011; equation numbers from memory).
 * :func:`detection_probability` -- the probability that a noisy measurement
   reaches the target significance: the measured Delta chi^2 follows a
   noncentral chi^2 with nu degrees of freedom and noncentrality lambda =
@@ -31,6 +31,8 @@ value; so "transits needed" always means "reached with 50% probability",
 and :func:`detection_probability` gives any other probability.
 """
 
+from functools import lru_cache
+
 import numpy as np
 
 from .errors import InputError
@@ -40,15 +42,15 @@ __all__ = [
     "delta_chi2_for_significance", "critical_delta_chi2", "detection_probability",
     "noncentrality_for_probability", "expected_statistic", "transits_needed",
     "asymptotic_delta_chi2", "contamination_factor", "check_sigma", "check_probability",
-    "stack_transits", "LIMITING_TERMS",
+    "stack_transits", "LIMITING_TERMS", "default_curve_transits",
 ]
 
 
 def check_sigma(sigma, field="sigma"):
     """Validate a target significance (> 0, finite)."""
     s = np.asarray(sigma, dtype=np.float64)
-    if s.ndim or not np.isfinite(s) or s <= 0 or s > 38:
-        raise InputError(field, float(s) if s.ndim == 0 else sigma, "a significance in (0, 38] sigma")
+    if s.ndim or not np.isfinite(s) or s <= 0 or s > 37:
+        raise InputError(field, float(s) if s.ndim == 0 else sigma, "a significance in (0, 37] sigma")
     return float(s)
 
 
@@ -98,7 +100,8 @@ def profiled_delta_chi2(residual, sigma, templates=None):
     residual : array_like, shape (..., n_wl)
         True spectrum minus alternative spectrum (same units as sigma).
     sigma : array_like, broadcastable to ``residual``
-        Per-bin standard deviation.
+        Per-bin standard deviation (> 0); NaN or inf marks a bin that is not
+        used (zero weight), e.g. a saturated one.
     templates : array_like, shape (..., n_wl, n_nuisance), optional
         Nuisance templates whose amplitudes are fitted; a constant column
         (the vertical offset) is always included.
@@ -109,24 +112,33 @@ def profiled_delta_chi2(residual, sigma, templates=None):
         The profiled Delta chi^2 (>= 0).
     """
     r = np.asarray(residual, dtype=np.float64)
-    w = 1.0 / np.asarray(sigma, dtype=np.float64) ** 2
+    sig = np.asarray(sigma, dtype=np.float64)
+    if np.any(sig <= 0):
+        raise InputError("sigma", float(np.min(sig)), "per-bin noise > 0 (NaN or inf: bin not used)")
+    with np.errstate(divide="ignore"):
+        w = np.where(np.isfinite(sig), 1.0 / np.where(np.isfinite(sig), sig, 1.0) ** 2, 0.0)
     r, w = np.broadcast_arrays(r, w)
-    ones = np.ones(r.shape + (1,))
-    if templates is None:
-        x = ones
-    else:
-        t = np.asarray(templates, dtype=np.float64)
-        t = np.broadcast_to(t, r.shape + t.shape[-1:])
-        x = np.concatenate([ones, t], axis=-1)
+    r = np.where(w > 0, r, 0.0)
     wr = w * r
     chi2 = np.sum(wr * r, axis=-1)
+    if templates is None:
+        # offset only: closed form sum w r^2 - (sum w r)^2 / sum w
+        sw = np.sum(w, axis=-1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            out = chi2 - np.where(sw > 0, np.sum(wr, axis=-1) ** 2 / np.where(sw > 0, sw, 1.0), 0.0)
+        # differences at the rounding level of chi2 are no signal
+        return np.where(out <= 1e-12 * chi2, 0.0, out)
+    ones = np.ones(r.shape + (1,))
+    t = np.asarray(templates, dtype=np.float64)
+    t = np.broadcast_to(t, r.shape + t.shape[-1:])
+    x = np.concatenate([ones, np.where(np.isfinite(t), t, 0.0)], axis=-1)
     b = np.einsum("...l,...lk->...k", wr, x)
     a = np.einsum("...l,...lk,...lm->...km", w, x, x)
     # Solve with a pseudo-inverse so degenerate templates (a template equal to
     # the offset, or zero) do not fail: they simply add no freedom.
     coef = np.einsum("...km,...m->...k", np.linalg.pinv(a, hermitian=True), b)
     out = chi2 - np.einsum("...k,...k->...", b, coef)
-    return np.clip(out, 0.0, None)
+    return np.where(out <= 1e-10 * chi2, 0.0, out)
 
 
 def _z_from_logp(logp):
@@ -174,7 +186,7 @@ def significance_from_delta_chi2(delta_chi2, dof=1):
 
     p = P(chi^2_dof > Delta chi^2) and Z = Phi^-1(1 - p/2), the two-sided
     convention under which Z = sqrt(Delta chi^2) exactly for dof = 1 (Wilks'
-    theorem; Cowan et al. 2011, Eur. Phys. J. C 71, 1554).
+    theorem; Cowan et al. 2011, Eur. Phys. J. C 71, 1554, the q0 test).
     """
     d = np.clip(np.asarray(delta_chi2, dtype=np.float64), 0.0, None)
     dof = np.asarray(dof, dtype=np.float64)
@@ -193,19 +205,40 @@ def critical_delta_chi2(sigma, dof=1):
 delta_chi2_for_significance = critical_delta_chi2
 
 
+_LAMBDA_GRID = np.logspace(-4.0, 8.0, 481)
+
+
+@lru_cache(maxsize=256)
+def _median_table(dof):
+    from scipy import stats
+    return np.log(stats.ncx2.median(dof, _LAMBDA_GRID))
+
+
 def expected_statistic(noncentrality, dof=1):
-    """Median of the measured statistic: noncentral chi^2 median (nu, lambda).
+    """Median of the measured statistic: the noncentral chi^2 median (nu, lambda).
 
     For dof = 1 the Asimov value lambda itself is used (Cowan et al. 2011:
-    the Asimov data set gives the median significance), which is what
-    makes Z = sqrt(lambda).
+    the Asimov data set gives the median significance), which is what makes
+    Z = sqrt(lambda).  For dof > 1 the median is interpolated (log-log) in a
+    table computed once per dof with scipy.stats.ncx2 (relative error below
+    1e-4); below lambda = 1e-4 the central chi^2 median is used, above 1e8
+    lambda + nu.
     """
     from scipy import stats
-    lam = np.asarray(noncentrality, dtype=np.float64)
-    dof = np.asarray(dof, dtype=np.float64)
-    med = stats.ncx2.median(np.broadcast_to(dof, lam.shape), np.clip(lam, 1e-12, None))
-    # For lambda -> 0 the noncentral median tends to the central one.
-    return np.where(dof == 1, lam, med)
+    lam = np.asarray(np.clip(np.asarray(noncentrality, dtype=np.float64), 0.0, None))
+    dof = np.broadcast_to(np.asarray(dof, dtype=np.float64), lam.shape)
+    out = np.array(lam, dtype=np.float64, copy=True)
+    for d in np.unique(dof):
+        if d == 1:
+            continue
+        sel = dof == d
+        x = lam[sel]
+        logx = np.log(np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1]))
+        med = np.exp(np.interp(logx, np.log(_LAMBDA_GRID), _median_table(float(d))))
+        med = np.where(x < _LAMBDA_GRID[0], stats.chi2.median(d), med)
+        med = np.where(x > _LAMBDA_GRID[-1], x + d, med)
+        out[sel] = med
+    return out
 
 
 def detection_probability(noncentrality, sigma, dof=1):
@@ -214,7 +247,10 @@ def detection_probability(noncentrality, sigma, dof=1):
     P = P(chi'^2_{dof}(lambda) > Delta chi^2_crit), the survival function of
     the noncentral chi^2 (scipy.stats.ncx2) at the critical value of the
     target significance.  For dof = 1 it equals
-    Phi(sqrt(lambda) - Z) + Phi(-sqrt(lambda) - Z).
+    Phi(sqrt(lambda) - Z) + Phi(-sqrt(lambda) - Z): the two-sided tail, so
+    at lambda = Z^2 it is slightly above 1/2 (by Phi(-2Z), which matters
+    only for targets below about 2 sigma), whereas the "expected" answer
+    uses the Asimov value Z = sqrt(lambda).
     """
     from scipy import stats
     lam = np.clip(np.asarray(noncentrality, dtype=np.float64), 0.0, None)
@@ -272,24 +308,37 @@ def transits_needed(lambda_of_n, target_lambda, n_max):
     return np.where(reach, hi, 0)
 
 
-def asymptotic_delta_chi2(residual, floor, templates=None):
+def asymptotic_delta_chi2(residual, floor, templates=None, usable=None):
     """Delta chi^2 as N -> infinity with a floor that does not average down.
 
-    Infinite where any bin carrying signal has zero floor.
+    Per element of the batch: infinite where a used bin carrying signal has
+    zero floor; otherwise the profiled Delta chi^2 with sigma = floor on the
+    bins with a floor.
+
+    Parameters
+    ----------
+    residual : array_like (..., n_wl)
+    floor : array_like, broadcastable
+    templates : optional, see :func:`profiled_delta_chi2`
+    usable : array_like of bool, optional
+        Bins taking part (default: all).
     """
-    f = np.asarray(floor, dtype=np.float64)
     r = np.asarray(residual, dtype=np.float64)
-    if np.all(f > 0):
-        return profiled_delta_chi2(r, np.broadcast_to(f, r.shape), templates)
-    return np.full(r.shape[:-1], np.inf)
+    f = np.broadcast_to(np.asarray(floor, dtype=np.float64), r.shape)
+    use = np.ones(r.shape, dtype=bool) if usable is None else np.broadcast_to(usable, r.shape)
+    unbounded = np.any(use & (f == 0) & (r != 0), axis=-1)
+    sig = np.where(use & (f > 0), f, np.inf)
+    lam = profiled_delta_chi2(r, sig, templates)
+    return np.where(unbounded, np.inf, lam)
 
 
 def contamination_factor(spot_fraction, spot_contrast, facula_fraction=0.0, facula_contrast=1.0):
     """Transit-light-source factor of unocculted active regions.
 
     epsilon = 1 / [1 - f_spot (1 - F_spot/F_phot) - f_fac (1 - F_fac/F_phot)]
-    (Rackham, Apai & Giampapa 2018, ApJ 853, 122, eq. 2 extended to two
-    region types).  The observed depth is epsilon times the true depth.
+    (Rackham, Apai & Giampapa 2018, ApJ 853, 122, Section 2; equation
+    number from memory: their spot-only form, with the faculae term added the
+    same way).  The observed depth is epsilon times the true depth.
 
     Parameters
     ----------
@@ -301,6 +350,14 @@ def contamination_factor(spot_fraction, spot_contrast, facula_fraction=0.0, facu
     """
     fs = np.asarray(spot_fraction, dtype=np.float64)
     ff = np.asarray(facula_fraction, dtype=np.float64)
+    for name, v in (("spot_fraction", fs), ("facula_fraction", ff)):
+        if np.any(~np.isfinite(v)) or np.any(v < 0) or np.any(v >= 1):
+            raise InputError(name, v.tolist(), "a covering fraction in [0, 1)")
+    if np.any(fs + ff >= 1):
+        raise InputError("spot_fraction + facula_fraction", (fs + ff).tolist(), "a sum below 1")
+    for name, v in (("spot_contrast", spot_contrast), ("facula_contrast", facula_contrast)):
+        if np.any(np.asarray(v, dtype=np.float64) < 0):
+            raise InputError(name, "negative", "flux ratios >= 0")
     denom = 1.0 - fs * (1.0 - np.asarray(spot_contrast)) - ff * (1.0 - np.asarray(facula_contrast))
     return 1.0 / denom
 
@@ -317,18 +374,23 @@ LIMITING_TERMS = ("white noise", "noise floor", "stellar contamination", "transi
 def _lambda_function(residual, sigma1, floor, floor_averages, templates):
     """Closure lambda(N) over the batch shape of ``residual`` (..., n_wl)."""
     r = np.asarray(residual, dtype=np.float64)
-    s1 = np.broadcast_to(np.asarray(sigma1, dtype=np.float64), r.shape)
-    fl = np.broadcast_to(np.asarray(floor, dtype=np.float64), r.shape)
-    white_only = np.all(fl == 0)
-    lam1 = profiled_delta_chi2(r, noise_per_bin(s1, 1.0, fl, floor_averages), templates)
+    s2 = np.broadcast_to(np.asarray(sigma1, dtype=np.float64), r.shape) ** 2
+    f2 = np.broadcast_to(np.asarray(floor, dtype=np.float64), r.shape) ** 2
+    white_only = np.all(f2 == 0)
+    lam1 = profiled_delta_chi2(r, np.sqrt(s2 + f2), templates)
     if white_only or floor_averages:
-        # sigma_N^2 = sigma_1^2 / N exactly: lambda(N) = N lambda(1)
+        # sigma_N^2 = (sigma_1^2 + floor^2) / N exactly: lambda(N) = N lambda(1)
         return lambda n: np.asarray(n, dtype=np.float64) * lam1, lam1
 
     def lam(n):
         n = np.asarray(n, dtype=np.float64)[..., None]
-        return profiled_delta_chi2(r, noise_per_bin(s1, n, fl, False), templates)
+        return profiled_delta_chi2(r, np.sqrt(s2 / n + f2), templates)
     return lam, lam1
+
+
+def default_curve_transits(n_max, points=40):
+    """About ``points`` log-spaced integers from 1 to n_max (for curves and plots)."""
+    return np.unique(np.round(np.geomspace(1, max(int(n_max), 1), points)).astype(np.int64))
 
 
 def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=False,
@@ -366,7 +428,7 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     n_max : int
         Largest number of transits considered.
     n_curve : array_like of int, optional
-        N values for the returned curve (default 1..min(n_max, 100)).
+        N values for the returned curve (default :func:`default_curve_transits`).
 
     Returns
     -------
@@ -390,10 +452,11 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     dof_arr = np.broadcast_to(np.asarray(dof, dtype=np.float64), resid.shape[:-1])
     lam_fn, lam1 = _lambda_function(resid, sigma1, floor, floor_averages, templates)
     fl = np.broadcast_to(np.asarray(floor, dtype=np.float64), resid.shape)
+    used = np.isfinite(np.broadcast_to(np.asarray(sigma1, dtype=np.float64), resid.shape))
     if floor_averages or np.all(fl == 0):
         lam_inf = np.where(lam1 > 0, np.inf, 0.0)
     else:
-        lam_inf = asymptotic_delta_chi2(resid, fl, templates)
+        lam_inf = asymptotic_delta_chi2(resid, fl, templates, usable=used)
 
     # the lambda to reach: expected (median) statistic at the target, and per probability
     def target_lambda(prob):
@@ -419,6 +482,8 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     if templates is not None:
         lam1_free = profiled_delta_chi2(resid, noise_per_bin(np.broadcast_to(sigma1, resid.shape),
                                                              1.0, fl, floor_averages))
+        # "masked" when the fitted signature removes three quarters of the
+        # signal (threshold: common practice, no source)
         masked = (lam1 < 0.25 * lam1_free)
     else:
         masked = np.zeros(resid.shape[:-1], dtype=bool)
@@ -426,17 +491,19 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     limiting = np.where(~reachable & floor_limited, "noise floor", limiting)
     limiting = np.where(~reachable & ~floor_limited, "transit limit", limiting)
     limiting = np.where(~reachable & masked, "stellar contamination", limiting)
-    limiting = np.where(lam1 <= 0, "no signal", limiting)
+    limiting = np.where((lam1 <= 0) & ~masked, "no signal", limiting)
     # For reachable targets: which noise term dominates at the N needed
     if np.any(reachable) and not np.all(fl == 0):
         n_at = np.maximum(n_needed, 1)[..., None].astype(np.float64)
         s1 = np.broadcast_to(np.asarray(sigma1, dtype=np.float64), resid.shape)
-        white = np.median(s1 ** 2 / n_at, axis=-1)
-        flr = np.median(fl ** 2 / (n_at if floor_averages else 1.0), axis=-1)
+        with np.errstate(all="ignore"):
+            white = np.nanmedian(np.where(used, s1 ** 2 / n_at, np.nan), axis=-1)
+            flr = np.nanmedian(np.where(used, fl ** 2 / (n_at if floor_averages else 1.0), np.nan),
+                               axis=-1)
         limiting = np.where(reachable & (flr > white), "noise floor", limiting)
 
     if n_curve is None:
-        n_curve = np.arange(1, min(n_max, 100) + 1)
+        n_curve = default_curve_transits(n_max)
     n_curve = np.asarray(n_curve, dtype=np.int64)
     lam_curve = np.stack([np.broadcast_to(lam_fn(np.full(resid.shape[:-1], n)), resid.shape[:-1])
                           for n in n_curve], axis=-1)

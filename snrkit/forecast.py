@@ -36,14 +36,23 @@ def fisher_matrix(jacobian, sigma):
     return np.einsum("...lp,...l,...lq->...pq", j, w, j)
 
 
-def fisher_errors(fisher):
-    """Marginalised 1-sigma errors sqrt(diag(F^-1)); inf for unconstrained directions."""
+def fisher_errors(fisher, rtol=1e-10):
+    """Marginalised 1-sigma errors sqrt(diag(F^-1)).
+
+    Directions of (numerically) zero information -- eigenvalues below
+    ``rtol`` times the largest -- make every parameter with a share in them
+    unconstrained (error inf), as for two perfectly degenerate parameters;
+    the covariance of the rest comes from the remaining eigen-directions.
+    """
     f = np.asarray(fisher, dtype=np.float64)
-    cov = np.linalg.pinv(f, hermitian=True)
-    err = np.sqrt(np.clip(np.diagonal(cov, axis1=-2, axis2=-1), 0.0, None))
-    # directions with (numerically) no information
-    diag = np.diagonal(f, axis1=-2, axis2=-1)
-    return np.where(diag > 0, err, np.inf)
+    vals, vecs = np.linalg.eigh(f)
+    top = np.max(np.abs(vals), axis=-1, keepdims=True)
+    null = vals <= rtol * np.where(top > 0, top, 1.0)
+    inv = np.where(null, 0.0, 1.0 / np.where(null, 1.0, vals))
+    cov_diag = np.einsum("...ik,...k,...ik->...i", vecs, inv, vecs)
+    share = np.einsum("...ik,...k->...i", vecs ** 2, null.astype(np.float64))
+    err = np.sqrt(np.clip(cov_diag, 0.0, None))
+    return np.where(share > 1e-8, np.inf, err)
 
 
 def numerical_jacobian(model, theta, steps):
@@ -125,6 +134,12 @@ def feature_scale_draws(radius, radius_sigma, mass, mass_sigma, draws, rng,
     m0 = np.atleast_1d(np.asarray(mass, dtype=np.float64))
     rs = np.nan_to_num(np.atleast_1d(np.asarray(radius_sigma, dtype=np.float64)), nan=0.0)
     ms = np.nan_to_num(np.atleast_1d(np.asarray(mass_sigma, dtype=np.float64)), nan=0.0)
+    for name, v in (("radius", r0), ("mass", m0)):
+        if not np.all(np.isfinite(v) & (v > 0)):
+            raise InputError(name, v.tolist(), "positive values")
+    for name, v in (("radius_uncertainty", rs), ("mass_uncertainty", ms)):
+        if not np.all(np.isfinite(v) & (v >= 0)):
+            raise InputError(name, v.tolist(), "uncertainties >= 0")
     shape = (int(draws),) + np.broadcast_shapes(r0.shape, m0.shape)
 
     def positive_normal(mu, sd):
@@ -162,9 +177,9 @@ def transits_distribution(truth, alternative, sigma1, scale_draws, *, floor=0.0,
     Returns
     -------
     dict
-        ``median``, ``p16``, ``p84`` (per planet; NaN where fewer than half
-        the draws reach the target within ``n_max``) and
-        ``fraction_reachable``.
+        ``median``, ``p16``, ``p84`` (per planet; a percentile is NaN when
+        the draws beyond it do not reach the target within ``n_max``, e.g.
+        ``p84`` once more than 16 % fail) and ``fraction_reachable``.
     """
     truth = np.atleast_2d(np.asarray(truth, dtype=np.float64))
     alt = np.broadcast_to(np.atleast_2d(np.asarray(alternative, dtype=np.float64)), truth.shape)

@@ -97,13 +97,15 @@ def test_grazing_warning_goes_to_stderr(capsys, tmp_path):
     assert "warning: grazing" in err
 
 
-def test_demo(capsys):
-    rc, out, _ = run_cli(capsys, "demo")
+def test_demo_describe_only(capsys):
+    rc, out, _ = run_cli(capsys, "demo", "--describe-only")
     assert rc == 0
     for name in ("Alder b", "Birch b", "Cedar c"):
         assert name in out
-    rc, out, _ = run_cli(capsys, "demo", "--json")
+    rc, out, _ = run_cli(capsys, "demo", "--describe-only", "--json")
     assert rc == 0 and len(json.loads(out)["systems"]) >= 3
+    rc, out, err = run_cli(capsys, "demo", "--only", "nosuch")
+    assert rc == 2 and "cedar" in err
 
 
 def test_presets_json(capsys):

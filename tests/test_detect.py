@@ -193,3 +193,66 @@ def test_signal_scaling_quadratic(scale):
     a = dt.profiled_delta_chi2(feature(), 40.0)
     b = dt.profiled_delta_chi2(scale * feature(), 40.0)
     assert b == pytest.approx(scale ** 2 * a, rel=1e-9)
+
+
+def test_far_tail_branch_against_closed_forms():
+    # chi^2 with even dof has a closed-form survival function (a Poisson sum):
+    # dof 2: sf = exp(-x/2); dof 4: sf = exp(-x/2) (1 + x/2) (e.g. Abramowitz &
+    # Stegun 1964, 26.4.21).  At x = 1500 and 6000 the direct route underflows, so
+    # this checks the asymptotic branch itself.
+    x = np.array([1500.0, 6000.0])
+    np.testing.assert_allclose(dt._chi2_logsf(x, 2.0), -x / 2, rtol=1e-9)
+    np.testing.assert_allclose(dt._chi2_logsf(x, 4.0), -x / 2 + np.log1p(x / 2), rtol=1e-6)
+
+
+def test_expected_statistic_table_matches_scipy_median():
+    # The interpolated noncentral median against scipy.stats.ncx2.median directly.
+    lam = np.array([1e-3, 0.5, 7.0, 120.0, 3.3e4])
+    for nu in (3, 40):
+        ref = stats.ncx2.median(nu, lam)
+        np.testing.assert_allclose(dt.expected_statistic(lam, nu), ref, rtol=2e-4)
+
+
+def test_asymptote_is_per_planet():
+    # One planet with a zero-floor signal bin must not make another planet's
+    # asymptote infinite.
+    r = np.stack([feature(), feature()])
+    floor = np.stack([np.full(WL.size, 15.0), np.where(np.arange(WL.size) == 20, 0.0, 15.0)])
+    lam = dt.asymptotic_delta_chi2(r, floor)
+    assert np.isfinite(lam[0]) and np.isinf(lam[1])
+    assert lam[0] == pytest.approx(np.sum((r[0] - r[0].mean()) ** 2) / 15.0 ** 2, rel=1e-10)
+
+
+def test_unused_bins_carry_no_weight():
+    r = feature()
+    sig = np.full(WL.size, 30.0)
+    sig_nan = sig.copy()
+    sig_nan[:5] = np.nan
+    keep = np.arange(WL.size) >= 5
+    a = dt.profiled_delta_chi2(r, sig_nan)
+    b = dt.profiled_delta_chi2(r[keep], sig[keep])
+    assert a == pytest.approx(b, rel=1e-12)
+    with pytest.raises(InputError):
+        dt.profiled_delta_chi2(r, np.zeros(WL.size))
+
+
+def test_transits_for_probability_against_monte_carlo():
+    # Seeded Monte Carlo of the 1-dof amplitude test at the N the stacker gives for a
+    # 90% detection probability: the simulated fraction is >= 0.9 there and < 0.9 one
+    # transit earlier (within Monte Carlo error).
+    rng = np.random.default_rng(99)
+    r = feature(20.0)
+    s1 = 60.0
+    res = dt.stack_transits(r, 0 * r, s1, sigma=3.0, probabilities=(0.9,), n_max=400)
+    n90 = int(res["transits_for_probability"][0.9])
+    x = np.column_stack([np.ones_like(r), r])
+
+    def fraction(n):
+        sig = s1 / np.sqrt(n)
+        data = r + rng.normal(0.0, sig, size=(20000, r.size))
+        coef, *_ = np.linalg.lstsq(x, data.T, rcond=None)
+        var = np.linalg.inv(x.T @ x)[1, 1] * sig ** 2
+        return np.mean(coef[1] ** 2 / var > 9.0)
+    tol = 3 * np.sqrt(0.09 / 20000)
+    assert fraction(n90) >= 0.9 - tol
+    assert fraction(n90 - 1) < 0.9 + tol

@@ -73,3 +73,20 @@ def test_programme_hours():
     assert out["hours_total"][0] == pytest.approx(15.0) and np.isnan(out["hours_total"][1])
     out = fc.programme_hours(2.0, 4, baseline=3.0, baseline_is_multiple=False, overhead_hours=0.5)
     assert out["hours_total"] == pytest.approx(4 * 5.5)
+
+
+def test_degenerate_parameters_are_unconstrained():
+    # D = (A + B) s: only A + B is measured, so the marginal errors on A and B are
+    # infinite (a singular Fisher matrix; Tegmark, Taylor & Heavens 1997).
+    sig = np.full(WL.size, 30.0)
+    out = fc.fisher_forecast(lambda p: (p["A"] + p["B"]) * 50 * SHAPE,
+                             {"A": (1.0, 0.01), "B": (1.0, 0.01)}, sig, 1, fit_offset=False)
+    assert np.all(np.isinf(out["errors"][0]))
+
+
+def test_scale_draws_reject_bad_inputs():
+    from snrkit.errors import InputError
+    with pytest.raises(InputError):
+        fc.feature_scale_draws(2.0, 0.1, 0.0, 0.0, 10, np.random.default_rng(0))
+    with pytest.raises(InputError):
+        fc.feature_scale_draws(2.0, -0.1, 5.0, 1.0, 10, np.random.default_rng(0))

@@ -31,7 +31,7 @@ def test_wheel_install_finds_data_tables(tmp_path):
         "import sys, json; sys.path.insert(0, sys.argv[1]); import snrkit, snrkit.tables as t; "
         "from snrkit.cli import main; "
         "print(json.dumps({'pkg': snrkit.__file__, 'data': str(t.data_path('species.ecsv'))})); "
-        "sys.stdout.flush(); rc = main(['demo', '--json']); sys.exit(rc)"
+        "sys.stdout.flush(); rc = main(['demo', '--describe-only', '--json']); sys.exit(rc)"
     )
     work = tmp_path / "elsewhere"
     work.mkdir()

@@ -1,0 +1,138 @@
+"""``snrkit transits SYSTEM.toml --mode M``: transits needed for a detection."""
+
+from ._common import add_system_args, print_json
+
+__all__ = ["add_parser", "run", "add_observation_args", "parse_contamination"]
+
+
+def add_observation_args(p):
+    """Options shared by the commands that stack transits."""
+    p.add_argument("--mode", metavar="PRESET_OR_FILE",
+                   help="instrument mode preset or file (default: observation.mode in the file)")
+    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
+    p.add_argument("--max-transits", type=int, default=500, metavar="N",
+                   help="largest number of transits considered (default 500)")
+    p.add_argument("--resolution", type=float, metavar="R",
+                   help="bin the spectrum to this resolving power (default: the mode's bins)")
+    p.add_argument("--floor", type=float, metavar="PPM", help="systematics floor per bin [ppm]")
+    p.add_argument("--floor-averages", choices=("yes", "no"),
+                   help="whether the floor averages down over transits (default: the mode's)")
+    p.add_argument("--overhead", type=float, metavar="HOURS",
+                   help="per-visit overhead in hours (default 1)")
+    p.add_argument("--solver", choices=("analytic", "layers"), default="analytic")
+
+
+def parse_contamination(args):
+    """Build the contamination dict from --spots/--faculae (FRACTION,DELTA_T)."""
+    from ..errors import InputError
+    out = {}
+    for opt, key in (("spots", "spot"), ("faculae", "facula")):
+        text = getattr(args, opt, None)
+        if not text:
+            continue
+        try:
+            frac, dt = (float(x) for x in text.split(","))
+        except ValueError:
+            raise InputError(f"--{opt}", text, "FRACTION,TEMPERATURE_CONTRAST_K, e.g. 0.05,400") from None
+        if not 0 <= frac < 1 or dt < 0:
+            raise InputError(f"--{opt}", text, "a fraction in [0, 1) and a contrast >= 0 K")
+        out[f"{key}_fraction"] = frac
+        out[f"{key}_temperature_contrast"] = dt
+    if out:
+        out["fitted"] = not getattr(args, "unfitted_contamination", False)
+    return out or None
+
+
+def add_parser(p):
+    add_system_args(p)
+    p.add_argument("--scenario", metavar="NAME_OR_FILE",
+                   help="scenario assumed true (default: each planet's [planet.atmosphere])")
+    test = p.add_mutually_exclusive_group()
+    test.add_argument("--atmosphere", action="store_true",
+                      help="test: any atmosphere against a flat line (default)")
+    test.add_argument("--species", metavar="GAS", help="test: detect one gas of the scenario")
+    test.add_argument("--against", metavar="SCENARIO_OR_FILE",
+                      help="test: reject another scenario (or a spectrum file, depth in ppm)")
+    p.add_argument("--against-unit", metavar="UNIT",
+                   help="wavelength unit of an --against spectrum file that carries none (e.g. um)")
+    p.add_argument("--against-kind", default="ppm", metavar="KIND",
+                   help="what the depth column of an --against file holds: ppm, percent, fraction "
+                        "or radius-ratio (default ppm)")
+    add_observation_args(p)
+    p.add_argument("--probability", type=float, action="append", metavar="P",
+                   help="also report N for this detection probability (repeatable; default 0.5 and 0.9)")
+    p.add_argument("--spots", metavar="FRACTION,DT",
+                   help="unocculted spots: covering fraction and temperature contrast [K]")
+    p.add_argument("--faculae", metavar="FRACTION,DT",
+                   help="unocculted faculae: covering fraction and temperature contrast [K]")
+    p.add_argument("--unfitted-contamination", action="store_true",
+                   help="leave the spot/facula signature out of the fit (a bias that can mimic features)")
+    p.add_argument("--uncertainty-draws", type=int, default=300, metavar="N",
+                   help="seeded draws of planet mass and radius for the spread of N (0: off; default 300)")
+    p.add_argument("--seed", type=int, default=1, help="seed of the draws and of the simulated spectrum")
+    p.add_argument("--fisher", action="store_true",
+                   help="also forecast parameter errors at the N needed (slower)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--plot", metavar="FILE.png",
+                   help="significance vs transits and a simulated spectrum")
+
+
+def _fmt_n(n):
+    return "not reachable" if n is None else str(n)
+
+
+def format_result(res):
+    """Plain-text summary of a :func:`snrkit.transits.transits_for_system` result."""
+    lines = []
+    for p in res["planets"]:
+        lines.append(f"{p['name']}: {p['scenario']} vs {p['alternative']} with {p['mode']}, "
+                     f"target {p['target_sigma']:g} sigma")
+        if p["status"] == "saturated":
+            lines.append(f"  cannot observe: {p['reason']}")
+            continue
+        lines.append(f"  transits needed (expected significance): {_fmt_n(p['transits_needed'])}"
+                     + (f"  -> {p['hours_total']:.1f} h of telescope time" if p["hours_total"] else ""))
+        probs = ", ".join(f"{float(k):.0%}: {_fmt_n(v)}" for k, v in p["transits_for_probability"].items())
+        if probs:
+            lines.append(f"  transits for detection probability {probs}")
+        lines.append(f"  per transit: {p['significance_per_transit_sigma']:.2f} sigma; limit as N grows: "
+                     f"{p['asymptotic_significance_sigma']:.2f} sigma; limiting term: {p['limiting_term']}")
+        if not p["reachable"] and p["reason"]:
+            lines.append(f"  {p['reason']}")
+        lines.append(f"  visit: T14 {p['t14_hours']:.2f} h + baseline {p['baseline_hours']:.2f} h + "
+                     f"overhead = {p['hours_per_transit']:.2f} h; {p['bins_used']} bins used"
+                     + (f", {p['bins_saturated']} saturated" if p["bins_saturated"] else ""))
+        spread = p.get("transits_needed_spread")
+        if spread:
+            s = {k: ("-" if v is None else f"{v:.0f}") for k, v in spread.items()}
+            lines.append(f"  with mass/radius uncertainty: median {s['median']} (16-84%: {s['p16']}-"
+                         f"{s['p84']}); reachable in {p['fraction_of_draws_reachable']:.0%} of draws")
+        if p.get("fisher_errors"):
+            errs = ", ".join(f"{k} +/- {('inf' if v is None else f'{v:.3g}')}"
+                             for k, v in p["fisher_errors"].items())
+            lines.append(f"  1-sigma errors at N: {errs}")
+    return "\n".join(lines)
+
+
+def run(args):
+    from ..io.systemfile import load_system
+    from ..transits import transits_for_system
+    system = load_system(args.system, planet=args.planet)
+    fa = None if args.floor_averages is None else args.floor_averages == "yes"
+    res = transits_for_system(
+        system, args.mode, args.scenario, species=args.species, against=args.against,
+        sigma=args.sigma, probabilities=tuple(args.probability or (0.5, 0.9)),
+        n_max=args.max_transits, resolution=args.resolution, floor_ppm=args.floor,
+        floor_averages_down=fa, overhead_hours=args.overhead,
+        contamination=parse_contamination(args), uncertainty_draws=args.uncertainty_draws,
+        seed=args.seed, fisher=args.fisher, solver=args.solver,
+        against_wavelength_unit=args.against_unit, against_depth_kind=args.against_kind)
+    if args.plot:
+        from ..plots import plot_transits
+        plot_transits(res, args.plot, seed=args.seed)
+    if args.json:
+        print_json({"planets": res["planets"], "notes": res["notes"]})
+    else:
+        print(format_result(res))
+        print("planning estimate; official observatory tools govern real proposals")
+    return 0

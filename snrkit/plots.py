@@ -1,0 +1,95 @@
+"""Figures for the stacking results.  matplotlib is imported inside each function.
+
+Every figure is written through :func:`snrkit.io.atomic.atomic_path`, so a
+failed plot never leaves half a file.
+"""
+
+import numpy as np
+
+__all__ = ["plot_transits", "simulated_spectrum", "display_bins"]
+
+
+def display_bins(edges_um, max_bins=80):
+    """Group native bins into at most ``max_bins`` display bins (index groups)."""
+    n = len(edges_um) - 1
+    k = max(1, int(np.ceil(n / max_bins)))
+    return [np.arange(i, min(i + k, n)) for i in range(0, n, k)]
+
+
+def simulated_spectrum(model_ppm, white_ppm, floor_ppm, n_transits, floor_averages, rng):
+    """One seeded noise realisation of the stacked spectrum after N transits.
+
+    The white part scatters as sigma_1 / sqrt(N); a non-averaging floor is a
+    single draw shared by the N transits (it does not average down).
+    """
+    from .detect import noise_per_bin
+    sig = noise_per_bin(white_ppm, n_transits, floor_ppm, floor_averages)
+    return model_ppm + rng.normal(0.0, 1.0, np.shape(model_ppm)) * sig, sig
+
+
+def plot_transits(result, path, seed=0):
+    """Significance vs transits (with the target) and a simulated spectrum, per planet.
+
+    Parameters
+    ----------
+    result : dict
+        Output of :func:`snrkit.transits.transits_for_system`.
+    path : str or pathlib.Path
+        PNG file to write.
+    seed : int
+        Seed of the simulated noise realisation.
+    """
+    from matplotlib.figure import Figure
+    from .io.atomic import atomic_path
+    ds = result["dataset"]
+    planets = result["planets"]
+    n = len(planets)
+    fig = Figure(figsize=(11, 3.6 * n))
+    rng = np.random.default_rng(seed)
+    edges = np.concatenate([ds["wavelength_lower"].values, ds["wavelength_upper"].values[-1:]])
+    groups = display_bins(edges)
+    for i, rec in enumerate(planets):
+        ax1 = fig.add_subplot(n, 2, 2 * i + 1)
+        ntr = ds["transits"].values
+        ax1.plot(ntr, ds["significance"].values[i], color="C0", label="expected significance")
+        ax1.axhline(rec["target_sigma"], color="C3", ls="--", label=f"target {rec['target_sigma']:g} sigma")
+        if rec["transits_needed"]:
+            ax1.axvline(rec["transits_needed"], color="0.5", ls=":", label=f"N = {rec['transits_needed']}")
+        ax1.set_xscale("log")
+        ax1.set_xlabel("number of transits")
+        ax1.set_ylabel("significance [sigma]")
+        ax1.set_title(f"{rec['name']}: {rec['scenario']} vs {rec['alternative']}", fontsize=9)
+        ax1.legend(fontsize=7, loc="upper left")
+        ax2 = fig.add_subplot(n, 2, 2 * i + 2)
+        n_show = rec["transits_needed"] or int(ds["transits"].values[-1])
+        model = ds["model_ppm"].values[i]
+        white = ds["white_noise_ppm_per_transit"].values[i]
+        floor = ds["floor_ppm"].values[i]
+        ok = np.isfinite(white)
+        wl = ds["wavelength"].values
+        ax2.plot(wl, np.where(ok, model, np.nan), color="C0", lw=0.8, label="model")
+        ax2.plot(wl, np.where(ok, ds["alternative_ppm"].values[i], np.nan), color="C1", lw=0.8,
+                 label=rec["alternative"])
+        # Display bins: white noise combines as 1/sqrt(k) within a group; the
+        # floor is taken as fully correlated inside a group (it does not shrink).
+        x, y, e = [], [], []
+        for g in groups:
+            g = g[ok[g]]
+            if g.size == 0:
+                continue
+            wn = np.sqrt(np.sum(white[g] ** 2)) / g.size
+            fl = np.mean(floor[g])
+            sim, sig = simulated_spectrum(np.mean(model[g]), wn, fl, n_show,
+                                          bool(ds.attrs.get("floor_averages_down", 0)), rng)
+            x.append(np.mean(wl[g]))
+            y.append(sim)
+            e.append(sig)
+        ax2.errorbar(x, y, yerr=e, fmt="o", ms=2.5, color="k", lw=0.7,
+                     label=f"simulated, {n_show} transits")
+        ax2.set_xlabel("wavelength [um]")
+        ax2.set_ylabel("transit depth [ppm]")
+        ax2.legend(fontsize=7)
+    fig.suptitle(f"mode {ds.attrs.get('mode', '')} - planning estimate", fontsize=10)
+    fig.tight_layout()
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format="png", dpi=100)

@@ -1,0 +1,190 @@
+"""The whole chain: precision + spectrum + test + stacker, and its commands.
+
+The physics of each link is checked against its sources in the layer's own
+tests (test_detect.py: Wilks, scipy.stats chi2/ncx2, Monte Carlo; test_photons*:
+photon statistics; test_spectrum*: Heng & Kitzmann 2017).  Here the links must
+agree with each other: the chain's Delta chi^2 equals the stacker's on the
+chain's own arrays, and the noise and spectrum it uses are those of the layers.
+"""
+
+import json
+
+import numpy as np
+import pytest
+
+from snrkit.cli import main
+from snrkit.errors import InputError
+from snrkit.io.systemfile import load_system, read_system_text
+from snrkit.tables import data_path
+from snrkit.transits import transits_for_system, contrast_for_system
+from snrkit import detect as dt
+
+CEDAR = str(data_path("demo", "cedar.toml"))
+ALDER = str(data_path("demo", "alder.toml"))
+PRISM = "cold6m-prism-lowres"
+
+
+@pytest.fixture(scope="module")
+def cedar():
+    return load_system(CEDAR)
+
+
+@pytest.fixture(scope="module")
+def co2_result(cedar):
+    return transits_for_system(cedar.select("Cedar b"), PRISM, species="CO2", resolution=60)
+
+
+def test_chain_matches_stacker_on_its_arrays(co2_result):
+    ds = co2_result["dataset"]
+    rec = co2_result["planets"][0]
+    ok = np.isfinite(ds["white_noise_ppm_per_transit"].values[0])
+    r = (ds["model_ppm"] - ds["alternative_ppm"]).values[0][ok]
+    sig1 = ds["noise_ppm_per_transit"].values[0][ok]
+    lam = dt.profiled_delta_chi2(r, sig1)
+    assert rec["delta_chi2_per_transit"] == pytest.approx(float(lam), rel=1e-9)
+    assert rec["significance_per_transit_sigma"] == pytest.approx(np.sqrt(lam), rel=1e-9)
+    # transits needed: the smallest N with Z(N) >= 5 (non-averaging floor: recompute per N)
+    floor = ds["floor_ppm"].values[0][ok]
+    white = ds["white_noise_ppm_per_transit"].values[0][ok]
+    n = next(n for n in range(1, 500)
+             if dt.profiled_delta_chi2(r, np.sqrt(white ** 2 / n + floor ** 2)) >= 25.0)
+    assert rec["transits_needed"] == n
+    # hours: N (T14 + baseline + 1 h overhead)
+    assert rec["hours_total"] == pytest.approx(n * (rec["t14_hours"] + rec["baseline_hours"] + 1.0))
+
+
+def test_required_keys(co2_result):
+    rec = co2_result["planets"][0]
+    for key in ("transits_needed", "reachable", "limiting_term", "significance_per_transit_sigma",
+                "hours_total"):
+        assert key in rec
+    assert rec["status"] == "ok" and rec["reachable"]
+
+
+def test_flat_scenario_has_no_signal(cedar):
+    res = transits_for_system(cedar.select("Cedar b"), PRISM, scenario="flat", resolution=30)
+    rec = res["planets"][0]
+    assert rec["transits_needed"] is None and rec["limiting_term"] == "no signal"
+
+
+def test_transit_limit_reported(cedar):
+    res = transits_for_system(cedar.select("Cedar c"), PRISM, species="CO2", n_max=3,
+                              resolution=30, floor_ppm=0.0)
+    rec = res["planets"][0]
+    assert rec["transits_needed"] is None and rec["status"] == "not_reachable"
+    assert "3 transits" in rec["reason"]
+
+
+def test_saturating_mode_is_said_so():
+    text = data_path("demo", "alder.toml").read_text().replace("J = 9.05", "J = 4.0").replace(
+        "H = 8.75", "H = 3.7").replace("Ks = 8.70", "Ks = 3.6").replace("V = 10.20", "V = 5.2")
+    system = read_system_text(text)
+    res = transits_for_system(system, PRISM, resolution=30)
+    rec = res["planets"][0]
+    assert rec["status"] == "saturated" and rec["transits_needed"] is None
+    assert "brightest usable magnitude" in rec["reason"]
+    assert any("too bright" in n for n in res["notes"])
+
+
+def test_bad_inputs(cedar):
+    one = cedar.select("Cedar b")
+    with pytest.raises(InputError, match="gas of scenario"):
+        transits_for_system(one, PRISM, species="CH4", resolution=30)
+    with pytest.raises(InputError):
+        transits_for_system(one, PRISM, sigma=0.0)
+    with pytest.raises(InputError):
+        transits_for_system(one, PRISM, probabilities=(1.2,))
+    with pytest.raises(InputError):
+        transits_for_system(one, PRISM, scenario="no-such-scenario")
+    with pytest.raises(InputError):
+        transits_for_system(one, PRISM, test="molecule:CO2")
+
+
+def test_user_spectrum_on_another_grid_is_resampled(cedar, tmp_path):
+    # An alternative given as a file on its own (finer) grid is rebinned, not refused.
+    wl = np.linspace(0.5, 5.5, 2000)
+    f = tmp_path / "alt.csv"
+    depth = 5400.0 + 30 * np.exp(-0.5 * ((wl - 4.3) / 0.1) ** 2)
+    f.write_text("wavelength_um,depth_ppm\n" + "\n".join(f"{a},{b}" for a, b in zip(wl, depth)))
+    from snrkit.atmosphere import user_spectrum
+    ds = user_spectrum.read_user_spectrum(f, "ppm", wavelength_unit="um")
+    assert ds.sizes["wavelength"] == 2000
+    res = transits_for_system(cedar.select("Cedar b"), PRISM, against=str(f), resolution=30,
+                              against_wavelength_unit="um")
+    assert res["planets"][0]["alternative"].startswith("user spectrum")
+    # no unit in the file and none given: a clear error, not a guess
+    with pytest.raises(InputError, match="unit"):
+        transits_for_system(cedar.select("Cedar b"), PRISM, against=str(f), resolution=30)
+
+
+def test_contamination_can_mask_or_mimic(cedar):
+    one = cedar.select("Cedar b")
+    base = transits_for_system(one, PRISM, species="CO2", resolution=40)["planets"][0]
+    spots = {"spot_fraction": 0.1, "spot_temperature_contrast": 300.0}
+    fitted = transits_for_system(one, PRISM, species="CO2", resolution=40,
+                                 contamination=dict(spots, fitted=True))["planets"][0]
+    # a fitted signature can only remove signal (more transits or equal)
+    assert fitted["delta_chi2_per_transit"] <= base["delta_chi2_per_transit"] * 1.2 + 1e-9
+    with pytest.raises(InputError):
+        transits_for_system(one, PRISM, contamination={"spot_fraction": 1.5})
+
+
+def test_uncertainty_spread_is_seeded(cedar):
+    one = cedar.select("Cedar c")
+    a = transits_for_system(one, PRISM, species="H2O", resolution=30, uncertainty_draws=100, seed=4)
+    b = transits_for_system(one, PRISM, species="H2O", resolution=30, uncertainty_draws=100, seed=4)
+    assert a["planets"][0]["transits_needed_spread"] == b["planets"][0]["transits_needed_spread"]
+    s = a["planets"][0]["transits_needed_spread"]
+    assert s["p16"] <= s["median"]
+
+
+def test_contrast_matrix(cedar):
+    res = contrast_for_system(cedar, PRISM, "co2-thick,steam,flat", resolution=30)
+    assert res["scenarios"] == ["co2-thick", "steam", "flat"]
+    for p in res["planets"]:
+        m = p["transits_needed"]
+        assert all(m[i][i] is None for i in range(3))
+        assert all(isinstance(m[i][j], int) for i in range(3) for j in range(3) if i != j)
+    with pytest.raises(InputError):
+        contrast_for_system(cedar, PRISM, "steam")
+
+
+def test_transits_cli_json(capsys, tmp_path):
+    png = tmp_path / "t.png"
+    rc = main(["transits", CEDAR, "--mode", PRISM, "--species", "CO2", "--resolution", "40",
+               "--uncertainty-draws", "50", "--json", "--plot", str(png)])
+    out, err = capsys.readouterr()
+    assert rc == 0
+    doc = json.loads(out)
+    assert [p["name"] for p in doc["planets"]] == ["Cedar b", "Cedar c"]
+    b, c = doc["planets"]
+    assert isinstance(b["transits_needed"], int) and b["reachable"] is True and b["hours_total"] > 0
+    # Cedar c at this coarse binning is limited by the 20 ppm floor: null, with the reason
+    assert c["reachable"] is (c["transits_needed"] is not None)
+    if not c["reachable"]:
+        assert c["limiting_term"] == "noise floor" and c["hours_total"] is None
+    assert png.stat().st_size > 10_000
+    rc = main(["transits", CEDAR, "--mode", PRISM, "--species", "CH4"])
+    assert rc == 2 and "CO2" in capsys.readouterr().err
+    rc = main(["transits", CEDAR, "--mode", PRISM, "--sigma", "-1"])
+    assert rc == 2
+
+
+def test_contrast_cli(capsys):
+    rc = main(["contrast", ALDER, "--mode", "cold6m-grism-2.4-5um", "--scenarios",
+               "h2-clear-solar,h2-cloudy-solar,flat", "--resolution", "50"])
+    out, _ = capsys.readouterr()
+    assert rc == 0 and "true \\ rejected" in out
+    rc = main(["contrast", ALDER, "--mode", "cold6m-grism-2.4-5um", "--scenarios",
+               "h2-clear-solar,flat", "--json"])
+    assert rc == 0 and json.loads(capsys.readouterr().out)["planets"][0]["transits_needed"][0][1]
+
+
+def test_demo_writes_results_folder(tmp_path, capsys):
+    rc = main(["demo", "--only", "cedar", "--out", str(tmp_path / "res")])
+    out, _ = capsys.readouterr()
+    assert rc == 0
+    files = {p.name for p in (tmp_path / "res").iterdir()}
+    assert {"summary.txt", "cedar_spectra.ecsv", "Cedar_b_CO2.png", "Cedar_c_atmosphere.json"} <= files
+    assert "transits for 5 sigma" in (tmp_path / "res" / "summary.txt").read_text()
+    assert not any(name.startswith(".") for name in files)   # no temporary files left
