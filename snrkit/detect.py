@@ -197,9 +197,9 @@ def significance_from_delta_chi2(delta_chi2, dof=1):
 
 def critical_delta_chi2(sigma, dof=1):
     """Delta chi^2 at which a test with ``dof`` degrees of freedom reaches ``sigma``."""
-    from scipy import stats
-    p = 2.0 * stats.norm.sf(sigma)
-    return stats.chi2.isf(p, dof)
+    from scipy import special
+    p = 2.0 * special.ndtr(-np.asarray(sigma, dtype=np.float64))
+    return special.chdtri(dof, p)
 
 
 delta_chi2_for_significance = critical_delta_chi2
@@ -210,8 +210,8 @@ _LAMBDA_GRID = np.logspace(-4.0, 8.0, 481)
 
 @lru_cache(maxsize=256)
 def _median_table(dof):
-    from scipy import stats
-    return np.log(stats.ncx2.median(dof, _LAMBDA_GRID))
+    from scipy import special
+    return np.log(special.chndtrix(0.5, dof, _LAMBDA_GRID))
 
 
 def expected_statistic(noncentrality, dof=1):
@@ -220,11 +220,11 @@ def expected_statistic(noncentrality, dof=1):
     For dof = 1 the Asimov value lambda itself is used (Cowan et al. 2011:
     the Asimov data set gives the median significance), which is what makes
     Z = sqrt(lambda).  For dof > 1 the median is interpolated (log-log) in a
-    table computed once per dof with scipy.stats.ncx2 (relative error below
+    table computed once per dof with scipy.special.chndtrix (relative error below
     1e-4); below lambda = 1e-4 the central chi^2 median is used, above 1e8
     lambda + nu.
     """
-    from scipy import stats
+    from scipy import special
     lam = np.asarray(np.clip(np.asarray(noncentrality, dtype=np.float64), 0.0, None))
     dof = np.broadcast_to(np.asarray(dof, dtype=np.float64), lam.shape)
     out = np.array(lam, dtype=np.float64, copy=True)
@@ -235,7 +235,7 @@ def expected_statistic(noncentrality, dof=1):
         x = lam[sel]
         logx = np.log(np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1]))
         med = np.exp(np.interp(logx, np.log(_LAMBDA_GRID), _median_table(float(d))))
-        med = np.where(x < _LAMBDA_GRID[0], stats.chi2.median(d), med)
+        med = np.where(x < _LAMBDA_GRID[0], special.chdtri(d, 0.5), med)
         med = np.where(x > _LAMBDA_GRID[-1], x + d, med)
         out[sel] = med
     return out
@@ -245,31 +245,36 @@ def detection_probability(noncentrality, sigma, dof=1):
     """Probability that a measurement reaches ``sigma``.
 
     P = P(chi'^2_{dof}(lambda) > Delta chi^2_crit), the survival function of
-    the noncentral chi^2 (scipy.stats.ncx2) at the critical value of the
+    the noncentral chi^2 (scipy.special.chndtr, the distribution function
+    behind scipy.stats.ncx2) at the critical value of the
     target significance.  For dof = 1 it equals
     Phi(sqrt(lambda) - Z) + Phi(-sqrt(lambda) - Z): the two-sided tail, so
     at lambda = Z^2 it is slightly above 1/2 (by Phi(-2Z), which matters
     only for targets below about 2 sigma), whereas the "expected" answer
     uses the Asimov value Z = sqrt(lambda).
     """
-    from scipy import stats
+    from scipy import special
     lam = np.clip(np.asarray(noncentrality, dtype=np.float64), 0.0, None)
     crit = critical_delta_chi2(sigma, dof)
-    return stats.ncx2.sf(crit, dof, np.clip(lam, 1e-12, None))
+    return 1.0 - special.chndtr(crit, dof, np.clip(lam, 1e-12, None))
 
 
 def noncentrality_for_probability(probability, sigma, dof=1):
     """The lambda at which the detection probability equals ``probability``."""
-    from scipy import optimize
-    crit = critical_delta_chi2(sigma, dof)
-
-    def f(lam):
-        return detection_probability(lam, sigma, dof) - probability
-
-    hi = max(crit, 1.0)
-    while f(hi) < 0:
+    # Bisection on a bracket (the probability rises monotonically with lambda);
+    # scipy.optimize is not needed for one monotone scalar.
+    lo, hi = 0.0, max(float(critical_delta_chi2(sigma, dof)), 1.0)
+    while detection_probability(hi, sigma, dof) < probability:
         hi *= 2.0
-    return optimize.brentq(f, 0.0, hi, xtol=1e-10 * hi, rtol=1e-12)
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        if detection_probability(mid, sigma, dof) < probability:
+            lo = mid
+        else:
+            hi = mid
+        if hi - lo <= 1e-12 * hi:
+            break
+    return 0.5 * (lo + hi)
 
 
 def transits_needed(lambda_of_n, target_lambda, n_max):

@@ -22,7 +22,10 @@ from . import forecast as fc
 from .constants import HOUR, R_EARTH, M_EARTH, R_SUN, AU
 
 __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamination_templates", "TESTS",
-           "DEFAULT_MAX_TRANSITS"]
+           "DEFAULT_MAX_TRANSITS", "REFIT_PARAMETERS"]
+
+#: Continuum parameters the alternative may re-fit.
+REFIT_PARAMETERS = ("temperature", "cloud_top_pressure", "reference_radius")
 
 #: Test kinds: "atmosphere" (vs a flat line), "species" (one molecule removed),
 #: "against" (another scenario).
@@ -142,6 +145,14 @@ def transits_for_system(system, mode, scenario=None, **options):
         Also forecast 1-sigma errors on log10 mixing ratios, temperature,
         log10 cloud-top pressure and reference radius at the N needed.
     solver : {"analytic", "layers"}
+    refit : sequence of str
+        Continuum parameters of the alternative re-fitted (scipy.optimize,
+        Nelder-Mead on the one-transit weights) before the test, so a
+        feature is only credited if the alternative cannot mimic it:
+        any of ``"temperature"`` (a factor on the scenario temperature),
+        ``"cloud_top_pressure"`` (log10, bar) and ``"reference_radius"``
+        (a factor).  For the species and against tests; the vertical offset
+        is always profiled.
 
     Returns
     -------
@@ -182,7 +193,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                   resolution=None, bin_edges=None, floor_ppm=None,
                   floor_averages_down=None, baseline=None, overhead_hours=None,
                   contamination=None, uncertainty_draws=0, seed=0, fisher=False,
-                  solver="analytic", against_wavelength_unit=None, against_depth_kind="ppm"):
+                  solver="analytic", against_wavelength_unit=None, against_depth_kind="ppm",
+                  refit=()):
     """:func:`transits_for_system` for planets sharing one scenario."""
     from .atmosphere.spectrum import transmission_spectrum
     from .atmosphere.scenarios import load_scenario
@@ -219,6 +231,26 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     else:
         alt, label = _alternative_spectrum(arg, rp, rs, edges_um, spec_kw, transmission_spectrum,
                                            truth.shape, against_wavelength_unit, against_depth_kind)
+
+    refit = tuple(refit or ())
+    refit_values = [None] * len(names)
+    if refit:
+        for k in refit:
+            if k not in REFIT_PARAMETERS:
+                raise InputError("refit", k, "any of " + ", ".join(REFIT_PARAMETERS))
+        if kind == "atmosphere":
+            raise InputError("refit", refit, "the species or against tests (the flat line "
+                             "has only its level, which is always fitted)")
+        if kind == "against" and not isinstance(arg, str) or (
+                kind == "against" and str(arg).lower().endswith((".csv", ".ecsv", ".fits", ".fit",
+                                                                 ".txt", ".dat"))):
+            raise InputError("refit", refit, "a scenario alternative (a spectrum file has no "
+                             "parameters)")
+        alt_sc = sc if kind == "species" else load_scenario(arg)
+        excl = arg if kind == "species" else None
+        total1 = np.sqrt(white ** 2 + floor ** 2)
+        alt, refit_values = _refit(alt_sc, excl, refit, truth, alt, total1, rp, rs, spec_kw,
+                                   transmission_spectrum)
 
     data = truth.copy()
     templates = None
@@ -325,6 +357,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
             rec["transits_needed_spread"] = {k: (None if not np.isfinite(spread[k][i]) else float(spread[k][i]))
                                              for k in ("p16", "median", "p84")}
             rec["fraction_of_draws_reachable"] = float(spread["fraction_reachable"][i])
+        if refit_values[i] is not None:
+            rec["refit"] = refit_values[i]
         if fisher_out is not None:
             rec["fisher_errors"] = {k: (float(v[i]) if np.isfinite(v[i]) else None)
                                     for k, v in fisher_out.items()}
@@ -396,6 +430,63 @@ def _alternative_spectrum(arg, rp, rs, edges_um, spec_kw, transmission_spectrum,
     other = load_scenario(arg)
     ds = transmission_spectrum(other, rp, rs, **spec_kw)
     return np.asarray(ds["transit_depth_ppm"].values, dtype=np.float64), other.name
+
+
+def _refit(alt_sc, exclude, names, truth, alt0, sigma, rp, rs, spec_kw, transmission_spectrum):
+    """Best-fitting alternative spectrum per planet over the chosen continuum parameters."""
+    import dataclasses
+    from scipy.optimize import minimize
+    out = np.array(alt0, dtype=np.float64, copy=True)
+    values = []
+    for i in range(len(rp)):
+        kw = dict(spec_kw)
+        kw["planet_names"] = [kw["planet_names"][i]]
+        for key in ("planet_mass", "equilibrium_temperature", "semi_major_axis"):
+            kw[key] = np.atleast_1d(kw[key])[i:i + 1]
+        ok = np.isfinite(sigma[i]) & np.isfinite(truth[i])
+
+        def model(theta):
+            p = dict(zip(names, theta))
+            changes = {}
+            if "temperature" in p:
+                if alt_sc.temperature_K is not None:
+                    changes["temperature_K"] = alt_sc.temperature_K * np.exp(p["temperature"])
+                else:
+                    changes["temperature_factor"] = alt_sc.temperature_factor * np.exp(p["temperature"])
+            if "cloud_top_pressure" in p:
+                changes["cloud_top_pressure_Pa"] = 1e5 * 10.0 ** p["cloud_top_pressure"]
+            sc_i = dataclasses.replace(alt_sc, **changes)
+            scale = np.exp(p.get("reference_radius", 0.0))
+            ds = transmission_spectrum(sc_i, np.atleast_1d(rp)[i:i + 1] * scale, np.atleast_1d(rs)[i:i + 1],
+                                       exclude_species=exclude, **kw)
+            return np.asarray(ds["transit_depth_ppm"].values[0], dtype=np.float64)
+
+        def cost(theta):
+            m = model(theta)
+            return float(dt.profiled_delta_chi2(np.where(ok, truth[i] - m, 0.0),
+                                                np.where(ok, sigma[i], np.nan)))
+
+        start = []
+        for k in names:
+            if k == "cloud_top_pressure":
+                p0 = alt_sc.cloud_top_pressure_Pa or alt_sc.surface_pressure_Pa or 1e6
+                start.append(float(np.log10(p0 / 1e5)))
+            else:
+                start.append(0.0)
+        res = minimize(cost, np.array(start), method="Nelder-Mead",
+                       options={"xatol": 1e-3, "fatol": 1e-3, "maxfev": 150 * len(names)})
+        best = res.x if res.fun <= cost(np.array(start)) else np.array(start)
+        out[i] = model(best)
+        rec = {}
+        for k, v in zip(names, best):
+            if k == "temperature":
+                rec["temperature_factor"] = float(np.exp(v))
+            elif k == "cloud_top_pressure":
+                rec["cloud_top_pressure_bar"] = float(10.0 ** v)
+            else:
+                rec["reference_radius_factor"] = float(np.exp(v))
+        values.append(rec)
+    return out, values
 
 
 def _fisher(sc, rp, rs, spec_kw, transmission_spectrum, w_sig, f_sig, floor_avg, n_needed):

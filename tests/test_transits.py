@@ -188,3 +188,21 @@ def test_demo_writes_results_folder(tmp_path, capsys):
     assert {"summary.txt", "cedar_spectra.ecsv", "Cedar_b_CO2.png", "Cedar_c_atmosphere.json"} <= files
     assert "transits for 5 sigma" in (tmp_path / "res" / "summary.txt").read_text()
     assert not any(name.startswith(".") for name in files)   # no temporary files left
+
+
+def test_refit_can_only_lower_delta_chi2_and_finds_the_degeneracy():
+    # h2-cloudy-solar is h2-clear-solar with a cloud deck at 1 mbar; with the cloud-top
+    # pressure free, the cloudy model moves its deck below the photosphere and becomes
+    # the clear spectrum, so the "cloudy" alternative can no longer be rejected.
+    alder = load_system(ALDER)
+    fixed = transits_for_system(alder, "cold6m-grism-2.4-5um", against="h2-cloudy-solar",
+                                resolution=40)["planets"][0]
+    free = transits_for_system(alder, "cold6m-grism-2.4-5um", against="h2-cloudy-solar",
+                               resolution=40, refit=("cloud_top_pressure",))["planets"][0]
+    assert fixed["transits_needed"] == 1
+    assert free["delta_chi2_per_transit"] < 1e-3 * fixed["delta_chi2_per_transit"]
+    assert free["refit"]["cloud_top_pressure_bar"] > 0.1
+    with pytest.raises(InputError):
+        transits_for_system(alder, "cold6m-grism-2.4-5um", refit=("temperature",))
+    with pytest.raises(InputError):
+        transits_for_system(alder, "cold6m-grism-2.4-5um", against="flat", refit=("albedo",))

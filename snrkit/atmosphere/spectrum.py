@@ -622,7 +622,7 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
                           wavelength_edges=None, resolution=100, solver="analytic",
                           n_layers=None, n_g=8, top_pressure=None, refraction=False,
                           pressure_broadening=True, contributions=False, planet_names=None,
-                          opacity_source=None):
+                          opacity_source=None, exclude_species=None):
     """Transmission spectrum of one or more atmosphere scenarios.
 
     Parameters
@@ -667,6 +667,9 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         Layered solver: line shapes at each level's pressure (default), or,
         if False, at the opacity tables' reference pressure everywhere (as the
         analytic solver, which has no pressure axis).
+    exclude_species : str, optional
+        Leave this species' opacity out (mean molecular weight unchanged), as
+        in the ``depth_without_species_ppm`` contributions.
     contributions : bool
         Also compute the spectrum with each absorbing species removed
         (``depth_without_species_ppm``).
@@ -763,7 +766,8 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
     datasets, contrib = [], []
     for sc in scenarios:
         depth, ex = _solve_depth(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers,
-                                 n_g, p_top, refraction, pressure_broadening=pressure_broadening)
+                                 n_g, p_top, refraction, exclude=exclude_species,
+                                 pressure_broadening=pressure_broadening)
         _warn_top(sc, ex, p_top)
         h = scale_height(ex["temperature"], ex["mu"], g0)
         ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names)

@@ -70,6 +70,9 @@ def add_parser(p):
     p.add_argument("--uncertainty-draws", type=int, default=300, metavar="N",
                    help="seeded draws of planet mass and radius for the spread of N (0: off; default 300)")
     p.add_argument("--seed", type=int, default=1, help="seed of the draws and of the simulated spectrum")
+    p.add_argument("--refit", metavar="PARAMS",
+                   help="re-fit the alternative's continuum first: comma-separated from "
+                        "temperature, cloud_top_pressure, reference_radius")
     p.add_argument("--fisher", action="store_true",
                    help="also forecast parameter errors at the N needed (slower)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -107,6 +110,9 @@ def format_result(res):
             s = {k: ("-" if v is None else f"{v:.0f}") for k, v in spread.items()}
             lines.append(f"  with mass/radius uncertainty: median {s['median']} (16-84%: {s['p16']}-"
                          f"{s['p84']}); reachable in {p['fraction_of_draws_reachable']:.0%} of draws")
+        if p.get("refit"):
+            lines.append("  alternative re-fitted: " + ", ".join(f"{k} = {v:.4g}"
+                                                                  for k, v in p["refit"].items()))
         if p.get("fisher_errors"):
             errs = ", ".join(f"{k} +/- {('inf' if v is None else f'{v:.3g}')}"
                              for k, v in p["fisher_errors"].items())
@@ -126,7 +132,8 @@ def run(args):
         floor_averages_down=fa, overhead_hours=args.overhead,
         contamination=parse_contamination(args), uncertainty_draws=args.uncertainty_draws,
         seed=args.seed, fisher=args.fisher, solver=args.solver,
-        against_wavelength_unit=args.against_unit, against_depth_kind=args.against_kind)
+        against_wavelength_unit=args.against_unit, against_depth_kind=args.against_kind,
+        refit=tuple(x for x in (args.refit or "").split(",") if x))
     if args.plot:
         from ..plots import plot_transits
         plot_transits(res, args.plot, seed=args.seed)
