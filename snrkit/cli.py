@@ -26,6 +26,7 @@ COMMANDS = {
     "demo": ("demo", "run snrkit on the embedded invented demo systems"),
     "presets": ("presets", "list the shipped presets (scenarios, instrument modes)"),
     "precision": ("precision", "per-bin transit-depth precision for an instrument mode"),
+    "limits": ("limits", "brightest usable and floor-limited magnitudes of instrument modes"),
     "calendar": ("calendar", "transit windows and their observability for a system file"),
     "spectrum": ("spectrum", "transmission spectra of atmosphere scenarios"),
     "transits": ("transits", "transits needed to detect an atmosphere, a gas, or reject a scenario"),

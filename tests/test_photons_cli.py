@@ -89,3 +89,18 @@ def test_command_through_cli_main(capsys, monkeypatch):
     assert cli.main(["precision", CEDAR, "--mode", "cold6m-xdisp-medres", "--json"]) == 0
     out, _ = capsys.readouterr()
     assert json.loads(out)["mode"] == "cold6m-xdisp-medres"     # exactly one JSON object
+
+
+def test_limits_command(capsys):
+    # `snrkit limits` reports the helper's numbers (checked against the saturation
+    # rule in test_photons_precision.py); the scan mode has no bright limit.
+    from snrkit.cli import main
+    from snrkit.photons.precision import limiting_magnitudes
+    rc = main(["limits", "--mode", "cold6m-prism-lowres", "--mode", "space2.4m-grism-scan",
+               "--teff", "3300", "--json"])
+    assert rc == 0
+    rows = json.loads(capsys.readouterr().out)["modes"]
+    ref = limiting_magnitudes("cold6m-prism-lowres", 3300.0, "J")
+    assert rows[0]["saturation_mag"] == pytest.approx(ref["saturation_mag"])
+    assert rows[1]["saturation_mag"] is None
+    assert main(["limits", "--mode", "nope", "--teff", "3300"]) == 2
