@@ -31,6 +31,8 @@ COMMANDS = {
     "spectrum": ("spectrum", "transmission spectra of atmosphere scenarios"),
     "transits": ("transits", "transits needed to detect an atmosphere, a gas, or reject a scenario"),
     "contrast": ("contrast", "transits needed to tell each pair of scenarios apart"),
+    "rank": ("rank", "rank a catalogue of planets by the time they need"),
+    "plan": ("plan", "the observing programme: transits, dated windows, hours, years"),
 }
 
 

@@ -206,6 +206,9 @@ delta_chi2_for_significance = critical_delta_chi2
 
 
 _LAMBDA_GRID = np.logspace(-4.0, 8.0, 481)
+#: Up to this many values per dof the median is computed directly, beyond
+#: that through the per-dof table (the table costs ~0.1 s to build).
+_DIRECT_MEDIAN_MAX = 2000
 
 
 @lru_cache(maxsize=256)
@@ -233,8 +236,12 @@ def expected_statistic(noncentrality, dof=1):
             continue
         sel = dof == d
         x = lam[sel]
-        logx = np.log(np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1]))
-        med = np.exp(np.interp(logx, np.log(_LAMBDA_GRID), _median_table(float(d))))
+        if x.size <= _DIRECT_MEDIAN_MAX:
+            # few values: evaluate the quantile directly
+            med = special.chndtrix(0.5, d, np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1]))
+        else:
+            logx = np.log(np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1]))
+            med = np.exp(np.interp(logx, np.log(_LAMBDA_GRID), _median_table(float(d))))
         med = np.where(x < _LAMBDA_GRID[0], special.chdtri(d, 0.5), med)
         med = np.where(x > _LAMBDA_GRID[-1], x + d, med)
         out[sel] = med
@@ -478,7 +485,10 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     n_needed = transits_needed(lam_fn, need_expected, n_max)
     n_prob = {p: transits_needed(lam_fn, target_lambda(p), n_max) for p in probabilities}
 
-    z1 = significance_from_delta_chi2(expected_statistic(lam1, dof_arr), dof_arr)
+    # No signal at all is 0 sigma (for dof > 1 the noncentral median would give
+    # the null's median, 0.67 sigma, for any lambda -> 0+).
+    z1 = np.where(lam1 > 0, significance_from_delta_chi2(expected_statistic(lam1, dof_arr), dof_arr),
+                  0.0)
     z_inf = np.where(np.isinf(lam_inf), np.inf,
                      significance_from_delta_chi2(expected_statistic(np.where(np.isinf(lam_inf), 0, lam_inf),
                                                                      dof_arr), dof_arr))
@@ -501,9 +511,11 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     if np.any(reachable) and not np.all(fl == 0):
         n_at = np.maximum(n_needed, 1)[..., None].astype(np.float64)
         s1 = np.broadcast_to(np.asarray(sigma1, dtype=np.float64), resid.shape)
+        # rows with no usable bin are unreachable anyway: give them zeros
+        use = used | ~np.any(used, axis=-1, keepdims=True)
         with np.errstate(all="ignore"):
-            white = np.nanmedian(np.where(used, s1 ** 2 / n_at, np.nan), axis=-1)
-            flr = np.nanmedian(np.where(used, fl ** 2 / (n_at if floor_averages else 1.0), np.nan),
+            white = np.nanmedian(np.where(use, np.nan_to_num(s1 ** 2 / n_at), np.nan), axis=-1)
+            flr = np.nanmedian(np.where(use, fl ** 2 / (n_at if floor_averages else 1.0), np.nan),
                                axis=-1)
         limiting = np.where(reachable & (flr > white), "noise floor", limiting)
 
@@ -513,7 +525,8 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     lam_curve = np.stack([np.broadcast_to(lam_fn(np.full(resid.shape[:-1], n)), resid.shape[:-1])
                           for n in n_curve], axis=-1)
     dof_c = dof_arr[..., None]
-    z_curve = significance_from_delta_chi2(expected_statistic(lam_curve, dof_c), dof_c)
+    z_curve = np.where(lam_curve > 0,
+                       significance_from_delta_chi2(expected_statistic(lam_curve, dof_c), dof_c), 0.0)
     p_curve = np.empty_like(lam_curve)
     for d in np.unique(dof_arr):
         sel = dof_arr == d

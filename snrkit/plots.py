@@ -6,7 +6,7 @@ failed plot never leaves half a file.
 
 import numpy as np
 
-__all__ = ["plot_transits", "simulated_spectrum", "display_bins"]
+__all__ = ["plot_transits", "simulated_spectrum", "display_bins", "plot_ranking"]
 
 
 def display_bins(edges_um, max_bins=80):
@@ -93,3 +93,33 @@ def plot_transits(result, path, seed=0):
     fig.tight_layout()
     with atomic_path(path) as tmp:
         fig.savefig(tmp, format="png", dpi=100)
+
+
+def plot_ranking(table, path, top=20):
+    """Hours to the target against TSM (log axes) for the ranked rows of a ranking table."""
+    from matplotlib.figure import Figure
+    from .io.atomic import atomic_path
+    ok = np.asarray(table["rank"]) > 0
+    tsm = np.asarray(table["tsm"], dtype=np.float64)[ok]
+    hours = np.asarray(table["hours_total"], dtype=np.float64)[ok]
+    radius = np.asarray(table["radius_earth"], dtype=np.float64)[ok]
+    names = np.asarray(table["name"]).astype(str)[ok]
+    rank = np.asarray(table["rank"])[ok]
+    fig = Figure(figsize=(7.5, 5.5))
+    ax = fig.add_subplot(1, 1, 1)
+    good = np.isfinite(tsm) & (tsm > 0) & np.isfinite(hours) & (hours > 0)
+    sc = ax.scatter(tsm[good], hours[good], c=np.log10(radius[good]), s=14, cmap="viridis")
+    cb = fig.colorbar(sc, ax=ax)
+    cb.set_label("log10 planet radius [R_earth]")
+    for i in np.flatnonzero(good & (rank <= top)):
+        ax.annotate(names[i], (tsm[i], hours[i]), fontsize=6, xytext=(3, 2),
+                    textcoords="offset points")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlabel("transmission spectroscopy metric (TSM)")
+    ax.set_ylabel(f"hours to {table.meta.get('target_sigma', 5):g} sigma [h]")
+    ax.set_title(f"{table.meta.get('test', '')}: {', '.join(table.meta.get('scenarios', []))} "
+                 f"with {', '.join(table.meta.get('modes', []))} - planning estimate", fontsize=8)
+    fig.tight_layout()
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format="png", dpi=110)

@@ -313,14 +313,16 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
         fisher_out = _fisher(sc, rp, rs, spec_kw, transmission_spectrum, w_sig, f_sig, floor_avg,
                              np.maximum(res["transits_needed"], 1))
 
-    saturated_all = n_bins == 0
+    # an offset-profiled test needs two usable bins
+    saturated_all = (n_bins < 2) & (saturated.sum(axis=-1) > 0)
     planets = []
     for i, name in enumerate(names):
         n = int(res["transits_needed"][i])
         status, reason = "ok", ""
         if saturated_all[i]:
             status = "saturated"
-            reason = (f"mode {prec.attrs.get('mode', mode)} saturates on this star in every bin "
+            reason = (f"mode {prec.attrs.get('mode', mode)} saturates on this star in "
+                      f"{int(saturated[i].sum())} of {saturated.shape[-1]} bins "
                       f"(brightest usable magnitude "
                       f"{float(np.asarray(prec['saturation_limit_mag'].values).ravel()[i]):.2f})")
         elif n == 0:
@@ -329,6 +331,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                       f"{float(res['asymptotic_significance'][i]):.2f} sigma"
                       if res["limiting_term"][i] == "noise floor" else
                       f"not reached within {int(n_max)} transits ({res['limiting_term'][i]})")
+            if saturated[i].any():
+                reason += f"; {int(saturated[i].sum())} of {saturated.shape[-1]} bins saturated"
         rec = {
             "name": name, "scenario": sc.name, "test": kind if arg is None else f"{kind}:{arg}",
             "alternative": label, "mode": str(prec.attrs.get("mode", mode)),

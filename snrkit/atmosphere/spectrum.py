@@ -521,6 +521,48 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
             "cia": cia, "g_weights": gw}
 
 
+#: From this many planets on, the analytic solver tabulates the mixture opacity
+#: on a temperature grid and interpolates (see _mixture_on_temperature_grid).
+GRID_OPACITY_MIN_PLANETS = 48
+#: Nodes of that temperature grid (log-spaced over the planets' range).
+GRID_OPACITY_NODES = 64
+
+
+def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude):
+    """Mixture opacity for many isothermal planets through a temperature grid.
+
+    The random-overlap mixture is computed at :data:`GRID_OPACITY_NODES`
+    temperatures spanning the planets' range (log-spaced) and interpolated
+    linearly in ln k against 1/T -- the same rule the species tables use
+    between their own 13 temperatures -- so a catalogue costs one mixture per
+    node instead of one per planet.  tests/test_spectrum_fast.py bounds the
+    difference from the per-planet path.
+    """
+    t = np.asarray(t_iso, dtype=np.float64)
+    lo, hi = float(np.min(t)), float(np.max(t))
+    grid = np.array([lo]) if hi <= lo * (1 + 1e-9) else np.geomspace(lo, hi, GRID_OPACITY_NODES)
+    op = mixture_opacity(source, sc.mixing_ratios, edges, grid[:, None], n_g,
+                         sc.haze_enhancement, sc.haze_slope, exclude)
+    if grid.size == 1:
+        idx = np.zeros(t.size, dtype=int)
+        return {"line": op["line"][idx], "continuum": op["continuum"][idx], "cia": op["cia"][idx],
+                "g_weights": op["g_weights"]}
+    x, xg = 1.0 / t, 1.0 / grid                      # xg decreasing
+    j = np.clip(np.searchsorted(-xg, -x) - 1, 0, grid.size - 2)
+    w = ((x - xg[j]) / (xg[j + 1] - xg[j]))
+
+    def interp(a, extra_dims):
+        tiny = 1e-300
+        la = np.log(np.maximum(a, tiny))
+        ww = w.reshape((-1,) + (1,) * extra_dims)
+        out = np.exp((1 - ww) * la[j] + ww * la[j + 1])
+        return np.where(out <= tiny * 10, 0.0, out)
+
+    return {"line": interp(op["line"], op["line"].ndim - 1),
+            "continuum": op["continuum"][j],
+            "cia": interp(op["cia"], op["cia"].ndim - 1), "g_weights": op["g_weights"]}
+
+
 def _profile_for(sc, temperature_K, gravity):
     from .profiles import IsothermalProfile, GreyTwoStreamProfile
     if sc.temperature_profile == "grey-two-stream":
@@ -561,8 +603,11 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
             np.asarray(gw, dtype=np.float64), extras
     if solver == "analytic":
         t_iso = profile.reference_temperature()
-        op = mixture_opacity(source, sc.mixing_ratios, edges, t_iso[:, None], n_g,
-                             sc.haze_enhancement, sc.haze_slope, exclude)
+        if npl >= GRID_OPACITY_MIN_PLANETS:
+            op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude)
+        else:
+            op = mixture_opacity(source, sc.mixing_ratios, edges, t_iso[:, None], n_g,
+                                 sc.haze_enhancement, sc.haze_slope, exclude)
         radius, sat = analytic_radius(op["line"][:, 0], op["continuum"][:, 0], op["cia"][:, 0],
                                       t_iso, mu, rp, p0, g0, floor, np.full(npl, p_top))
         extras["top_limited"] = sat.any(axis=(1, 2))

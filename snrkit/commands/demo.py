@@ -75,6 +75,8 @@ def run_demo(out_dir, only=None, describe_only=False):
                               json.dumps(jsonable(desc), indent=2) + "\n")
         systems.append(entry)
         summary.append("")
+    if not describe_only and not only:
+        _catalogue_and_plan(files, out, summary)
     if not describe_only:
         summary.append(f"results written to {out}/")
         atomic_write_text(out / "summary.txt", "\n".join(summary) + "\n")
@@ -123,6 +125,52 @@ def _chain(system, stem, out, summary):
                              f"84th percentile over mass/radius: {s84 if s84 is not None else 'n/a'})")
         summary.extend(lines)
     return results
+
+
+def _catalogue_and_plan(files, out, summary):
+    """Rank the invented demo catalogue and plan the demo planets' transits."""
+    import json
+    import numpy as np
+    from ..catalog import read_catalogue
+    from ..rank import rank_catalogue
+    from ..plan import programme_plan
+    from ..plots import plot_ranking
+    from ..io.systemfile import load_system
+    from ..io.atomic import atomic_path, atomic_write_text
+    from ..tables import data_path
+    from ._common import jsonable
+    cat = read_catalogue(data_path("demo", "catalogue.ecsv"))
+    table = rank_catalogue(cat, DEFAULT_MODE, "h2-clear-solar")
+    with atomic_path(out / "catalogue_ranked.ecsv") as tmp:
+        table.write(tmp, format="ascii.ecsv", overwrite=True)
+    plot_ranking(table, out / "catalogue_ranking.png")
+    top = table[np.asarray(table["rank"]) > 0]
+    top.sort("rank")
+    summary.append(f"demo catalogue ({len(table)} invented rows), atmosphere test, h2-clear-solar, "
+                   f"{DEFAULT_MODE}: {table.meta['status_counts']}")
+    for r in top[:5]:
+        summary.append(f"  {int(r['rank']):>2}. {r['name']:<14} {int(r['transits_needed'])} transits, "
+                       f"{float(r['hours_total']):.1f} h (TSM {float(r['tsm']):.1f})")
+    summary.append("")
+    plans = []
+    for path in files:
+        system = load_system(path)
+        modes = {(system.observations[i] or {}).get("mode", DEFAULT_MODE) for i in range(len(system))}
+        for mode in sorted(modes):
+            idx = [i for i in range(len(system))
+                   if (system.observations[i] or {}).get("mode", DEFAULT_MODE) == mode]
+            res = programme_plan(system.take(idx), mode, start="2027-01-01", years=5)
+            for p in res["planets"]:
+                plans.append(p)
+                if p["enough_windows"]:
+                    summary.append(f"  plan {p['name']}: {p['transits_needed']} transits from "
+                                   f"{p['windows'][0]['start_utc'][:10]} to "
+                                   f"{p['windows'][-1]['end_utc'][:10]} ({p['span_years']:.2f} years, "
+                                   f"{p['hours_total']:.0f} h; {p['observable_fraction']:.0%} of "
+                                   "windows observable)")
+                else:
+                    summary.append(f"  plan {p['name']}: {p['reason'] or p['status']}")
+    atomic_write_text(out / "programme_plan.json", json.dumps(jsonable({"planets": plans}), indent=2) + "\n")
 
 
 def run(args):

@@ -1,0 +1,135 @@
+"""``snrkit rank CATALOG --mode M --scenario S``: rank a catalogue of planets."""
+
+import sys
+
+from ._common import print_json
+
+__all__ = ["add_parser", "run", "ProgressBar"]
+
+
+def add_parser(p):
+    p.add_argument("catalogue", metavar="CATALOG", help="catalogue file (.csv, .ecsv, .vot/.xml)")
+    p.add_argument("--mapping", metavar="FILE.toml", help="column mapping (default: the plain layout)")
+    p.add_argument("--mode", required=True, action="append", metavar="PRESET_OR_FILE",
+                   help="instrument mode (repeatable: the best mode per planet is kept)")
+    p.add_argument("--scenario", required=True, action="append", metavar="NAME_OR_FILE",
+                   help="atmosphere scenario (repeatable: the best per planet is kept)")
+    p.add_argument("--test", default="atmosphere",
+                   help="atmosphere (default), species:GAS or against:SCENARIO")
+    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
+    p.add_argument("--max-transits", type=int, default=500, metavar="N")
+    p.add_argument("--resolution", type=float, default=30.0, metavar="R",
+                   help="resolving power of the ranking bins (default 30)")
+    p.add_argument("--sort", default="hours", metavar="KEY",
+                   help="hours (default), transits, tsm, esm, significance, or a column (-col: descending)")
+    p.add_argument("--top", type=int, metavar="N", help="print only the first N ranked rows")
+    p.add_argument("--radius-min", type=float, metavar="R_EARTH")
+    p.add_argument("--radius-max", type=float, metavar="R_EARTH")
+    p.add_argument("--teq-min", type=float, metavar="K")
+    p.add_argument("--teq-max", type=float, metavar="K")
+    p.add_argument("--habitable-zone", action="store_true", help="keep only planets in the habitable zone")
+    p.add_argument("--band", default="J", help="band of the magnitude limits (default J)")
+    p.add_argument("--brighter-than", type=float, metavar="MAG", help="keep stars brighter than this")
+    p.add_argument("--fainter-than", type=float, metavar="MAG", help="keep stars fainter than this")
+    p.add_argument("--out", metavar="FILE", help="write every row to FILE (.ecsv or .csv)")
+    p.add_argument("--plot", metavar="FILE.png", help="hours to the target against TSM")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+class ProgressBar:
+    """A one-line progress bar on stderr (only when stderr is a terminal)."""
+
+    def __init__(self, enabled):
+        self.enabled = enabled and sys.stderr.isatty()
+
+    def __call__(self, done, total):
+        if not self.enabled:
+            return
+        width = 30
+        k = int(width * done / max(total, 1))
+        sys.stderr.write(f"\r  ranking [{'#' * k}{'.' * (width - k)}] {done}/{total}")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def _filters(args):
+    f = {}
+    for opt, key in (("radius_min", "radius_min"), ("radius_max", "radius_max"),
+                     ("teq_min", "teq_min"), ("teq_max", "teq_max"),
+                     ("brighter_than", "magnitude_max"), ("fainter_than", "magnitude_min")):
+        v = getattr(args, opt)
+        if v is not None:
+            f[key] = v
+    if args.habitable_zone:
+        f["habitable_zone_only"] = True
+    if "magnitude_max" in f or "magnitude_min" in f:
+        f["band"] = args.band
+    return f
+
+
+def _write(table, path):
+    from pathlib import Path
+    from ..errors import InputError
+    from ..io.atomic import atomic_path
+    suffix = Path(path).suffix.lower()
+    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}.get(suffix)
+    if fmt is None:
+        raise InputError("--out", str(path), "a file ending in .ecsv or .csv")
+    out = table.copy()
+    if fmt == "ascii.csv":
+        out.meta = {}
+    with atomic_path(path) as tmp:
+        out.write(tmp, format=fmt, overwrite=True)
+
+
+def run(args):
+    from ..catalog import read_catalogue
+    from ..rank import rank_catalogue
+    cat = read_catalogue(args.catalogue, mapping=args.mapping)
+    table = rank_catalogue(cat, args.mode, args.scenario, test=args.test, sigma=args.sigma,
+                           n_max=args.max_transits, resolution=args.resolution,
+                           sort_by=args.sort, filters=_filters(args),
+                           progress=ProgressBar(not args.quiet and not args.json))
+    if args.out:
+        _write(table, args.out)
+    if args.plot:
+        from ..plots import plot_ranking
+        plot_ranking(table, args.plot)
+    if args.json:
+        rows = []
+        for r in table:
+            rows.append({"input_index": int(r["input_index"]), "name": str(r["name"]),
+                         "status": str(r["status"]), "reason": str(r["reason"]),
+                         "rank": int(r["rank"]) if r["rank"] > 0 else None,
+                         "mode": str(r["mode"]) or None, "scenario": str(r["scenario"]) or None,
+                         "tsm": float(r["tsm"]), "esm": float(r["esm"]),
+                         "radius_earth": float(r["radius_earth"]),
+                         "equilibrium_temperature_K": float(r["equilibrium_temperature_K"]),
+                         "habitable_zone": str(r["habitable_zone"]) or None,
+                         "quick_feature_ppm": float(r["quick_feature_ppm"]),
+                         "significance_per_transit_sigma": float(r["significance_per_transit"]),
+                         "transits_needed": int(r["transits_needed"]) or None,
+                         "hours_total": float(r["hours_total"]),
+                         "limiting_term": str(r["limiting_term"]) or None})
+        print_json({"rows": rows, "summary": table.meta["status_counts"],
+                    "settings": {k: table.meta[k] for k in ("test", "target_sigma", "modes",
+                                                            "scenarios", "resolution", "sort_by")}})
+        return 0
+    ranked = table[table["rank"] > 0]
+    ranked.sort("rank")
+    if args.top:
+        ranked = ranked[:args.top]
+    print(f"{'rank':>4}  {'planet':<16} {'R [Re]':>7} {'Teq [K]':>8} {'TSM':>7} {'quick [ppm]':>11} "
+          f"{'N':>5} {'hours':>8}  mode / scenario")
+    for r in ranked:
+        print(f"{int(r['rank']):>4}  {str(r['name']):<16} {r['radius_earth']:>7.2f} "
+              f"{r['equilibrium_temperature_K']:>8.0f} {r['tsm']:>7.1f} {r['quick_feature_ppm']:>11.1f} "
+              f"{int(r['transits_needed']):>5} {r['hours_total']:>8.1f}  {r['mode']} / {r['scenario']}")
+    counts = ", ".join(f"{k}: {v}" for k, v in sorted(table.meta["status_counts"].items()))
+    print(f"{table.meta['rows']} input rows -- {counts}")
+    for note in table.meta.get("notes", [])[:5]:
+        print(f"note: {note}", file=sys.stderr)
+    print("planning estimate; official observatory tools govern real proposals")
+    return 0

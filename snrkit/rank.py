@@ -1,0 +1,286 @@
+"""Ranking a catalogue of candidate planets for transmission spectroscopy.
+
+:func:`rank_catalogue` runs the whole chain (precision of each instrument
+mode, spectrum of each scenario, the chosen test, the stacker, programme
+hours) as whole arrays over the usable rows of a catalogue, in chunks of
+planets (no per-planet Python loop on the hot path), keeps for each input
+row the best mode x scenario combination (fewest hours to the target),
+applies the filters, and ranks.  Every input row appears in the output, in
+input order, with ``status``, ``reason`` and ``rank`` (empty when not
+ranked).
+
+The quick estimate beside the full model is the scale-height signal
+2 H Rp / Rs^2 times the scenario's documented band amplitude in scale
+heights (``feature_scale_heights``, N_H), with H from the scenario's mean
+molecular weight and temperature rule.
+"""
+
+import numpy as np
+
+from .errors import InputError
+from .constants import R_EARTH, M_EARTH
+
+__all__ = ["rank_catalogue", "SORT_KEYS", "FILTER_KEYS", "DEFAULT_CHUNK"]
+
+#: Sort keys: name -> (column, descending)
+SORT_KEYS = {"hours": ("hours_total", False), "transits": ("transits_needed", False),
+             "tsm": ("tsm", True), "esm": ("esm", True),
+             "significance": ("significance_per_transit", True)}
+#: Accepted filter keys (see :func:`rank_catalogue`).
+FILTER_KEYS = ("radius_min", "radius_max", "teq_min", "teq_max", "habitable_zone_only",
+               "magnitude_max", "magnitude_min", "band", "keep_saturated")
+#: Planets per chunk of the array path.
+DEFAULT_CHUNK = 2000
+
+
+def _check_filters(filters):
+    f = dict(filters or {})
+    for k in f:
+        if k not in FILTER_KEYS:
+            import difflib
+            close = difflib.get_close_matches(k, FILTER_KEYS, n=1)
+            raise InputError(f"filter {k}", f[k], "one of " + ", ".join(FILTER_KEYS),
+                             detail=f"did you mean {close[0]!r}?" if close else "")
+    return f
+
+
+def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
+                   resolution=30.0, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
+                   progress=None, overhead_hours=None):
+    """Rank every usable row of a catalogue.
+
+    Parameters
+    ----------
+    catalogue : snrkit.catalog.Catalogue
+        From :func:`snrkit.catalog.read_catalogue`.
+    modes : str or sequence of str
+        Instrument mode presets or files.
+    scenarios : str or sequence
+        Scenario presets, files or tables.
+    test : str, optional
+        ``"atmosphere"`` (default), ``"species:GAS"`` or ``"against:SCENARIO"``.
+    sigma : float
+        Target significance.
+    n_max : int
+        Largest number of transits considered.
+    resolution : float
+        Resolving power of the ranking bins (default 30: coarse bins keep
+        catalogue runs fast; features span many of the native bins).
+    sort_by : str
+        A key of :data:`SORT_KEYS`, or an output column name (prefix ``-``
+        for descending).
+    filters : dict, optional
+        ``radius_min``/``radius_max`` [R_earth], ``teq_min``/``teq_max`` [K],
+        ``habitable_zone_only`` (conservative or optimistic),
+        ``magnitude_min``/``magnitude_max`` with ``band`` (default J),
+        ``keep_saturated`` (default False: saturating rows are not ranked).
+    chunk : int
+        Planets per array chunk.
+    progress : callable, optional
+        ``progress(done, total)`` after each chunk (the CLI draws a bar).
+    overhead_hours : float, optional
+        Per-visit overhead.
+
+    Returns
+    -------
+    astropy.table.Table
+        One row per input row, input order: ``input_index``, ``name``,
+        ``status``, ``reason``, ``rank``, ``mode``, ``scenario``,
+        ``radius_earth``, ``mass_earth``, ``mass_estimated``,
+        ``equilibrium_temperature_K``, ``tsm``, ``esm``, ``habitable_zone``,
+        ``quick_feature_ppm``, ``significance_per_transit``,
+        ``transits_needed`` (0 when not reachable), ``hours_per_transit``,
+        ``hours_total``, ``limiting_term``; ``meta`` holds the settings and
+        the status counts.
+    """
+    from astropy.table import Table
+    from .transits import transits_for_system, parse_test
+    from .atmosphere.scenarios import load_scenario
+    from . import detect as dt
+    kind, arg = parse_test(test)
+    sigma = dt.check_sigma(sigma)
+    filters = _check_filters(filters)
+    modes = [m for m in ([modes] if isinstance(modes, str) else list(modes)) if m]
+    scen_specs = [scenarios] if isinstance(scenarios, (str, dict)) else list(scenarios)
+    if not modes:
+        raise InputError("mode", modes, "at least one instrument mode")
+    scs = [load_scenario(s) for s in scen_specs]
+    if not scs:
+        raise InputError("scenario", scenarios, "at least one scenario")
+    if sort_by not in SORT_KEYS and sort_by.lstrip("-") not in _OUTPUT_COLUMNS:
+        raise InputError("sort_by", sort_by, "one of " + ", ".join(SORT_KEYS)
+                         + " or an output column (prefix - for descending)")
+
+    n_rows = len(catalogue.table)
+    out = {c: np.full(n_rows, np.nan) for c in _FLOAT_COLUMNS}
+    out["transits_needed"] = np.zeros(n_rows, dtype=np.int64)
+    out["mode"] = np.full(n_rows, "", dtype=object)
+    out["scenario"] = np.full(n_rows, "", dtype=object)
+    out["limiting_term"] = np.full(n_rows, "", dtype=object)
+    out["habitable_zone"] = np.full(n_rows, "", dtype=object)
+    out["mass_estimated"] = np.zeros(n_rows, dtype=bool)
+    status = np.array([str(s) for s in catalogue.status], dtype=object)
+    reason = np.array([str(r) for r in catalogue.reason], dtype=object)
+    names = np.array([str(x) for x in catalogue.table[_name_column(catalogue)]], dtype=object)
+
+    import warnings
+    from .errors import SnrkitWarning
+    notes = {}
+    system = catalogue.system
+    good = catalogue.good_index
+    if system is not None and len(good):
+        d = system.derived_arrays()
+        out["radius_earth"][good] = d["radius_m"] / R_EARTH
+        out["mass_earth"][good] = d["mass_kg"] / M_EARTH
+        out["mass_estimated"][good] = d["mass_estimated"]
+        out["equilibrium_temperature_K"][good] = d["equilibrium_temperature_K"]
+        out["tsm"][good] = d["tsm"]
+        out["esm"][good] = d["esm"]
+        out["habitable_zone"][good] = d["hz_position"]
+        best_hours = np.full(len(good), np.inf)
+        best_sat = np.zeros(len(good), dtype=bool)
+        starts = list(range(0, len(good), max(int(chunk), 1)))
+        total = len(starts) * len(modes) * len(scs)
+        done = 0
+        for mode in modes:
+            for sc in scs:
+                quick = _quick_feature_ppm(sc, d)
+                for s0 in starts:
+                    idx = np.arange(s0, min(s0 + int(chunk), len(good)))
+                    sub = system.take(idx)
+                    with warnings.catch_warnings(record=True) as caught:
+                        warnings.simplefilter("always", SnrkitWarning)
+                        res = transits_for_system(sub, mode, sc, test=test, sigma=sigma,
+                                                  n_max=n_max, resolution=resolution,
+                                                  probabilities=(), overhead_hours=overhead_hours)
+                    for w in caught:
+                        notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
+                    notes.update({n[:300]: None for n in res["notes"][:3]})
+                    recs = res["planets"]
+                    n = np.array([r["transits_needed"] or 0 for r in recs])
+                    hrs = np.array([r["hours_total"] if r["hours_total"] is not None else np.inf
+                                    for r in recs])
+                    sat = np.array([r["status"] == "saturated" for r in recs])
+                    # keep a saturated answer only where nothing better exists
+                    better = (hrs < best_hours[idx]) | (np.isinf(best_hours[idx])
+                                                        & (out["mode"][good[idx]] == ""))
+                    for j in np.flatnonzero(better):
+                        gi, r = good[idx[j]], recs[j]
+                        out["mode"][gi] = r["mode"]
+                        out["scenario"][gi] = r["scenario"]
+                        out["limiting_term"][gi] = r["limiting_term"]
+                        out["transits_needed"][gi] = n[j]
+                        out["hours_total"][gi] = hrs[j] if np.isfinite(hrs[j]) else np.nan
+                        out["hours_per_transit"][gi] = r["hours_per_transit"]
+                        out["significance_per_transit"][gi] = r["significance_per_transit_sigma"]
+                        out["quick_feature_ppm"][gi] = quick[idx[j]]
+                        best_sat[idx[j]] = sat[j]
+                    best_hours[idx] = np.where(better, hrs, best_hours[idx])
+                    done += 1
+                    if progress is not None:
+                        progress(done, total)
+        # statuses from the chain
+        sub_status = np.where(best_sat, "saturated",
+                              np.where(np.isfinite(best_hours), "ok", "not_reachable"))
+        for j, gi in enumerate(good):
+            if sub_status[j] == "saturated":
+                status[gi] = "saturated"
+                reason[gi] = "every mode saturates on this star"
+            elif sub_status[j] == "not_reachable":
+                status[gi] = "not_reachable"
+                reason[gi] = (f"{out['limiting_term'][gi]}: target {sigma:g} sigma not reached "
+                              f"within {int(n_max)} transits")
+    # filters
+    ok = status == "ok"
+    filt = _apply_filters(filters, catalogue, out, ok)
+    status = np.where(ok & ~filt, "filtered", status)
+    reason = np.where(ok & ~filt, "outside the filters", reason)
+    ok = status == "ok"
+    # ranking
+    if sort_by in SORT_KEYS:
+        col, desc = SORT_KEYS[sort_by]
+    else:
+        col, desc = sort_by.lstrip("-"), sort_by.startswith("-")
+    key = np.asarray(out[col] if col in out else out["hours_total"], dtype=np.float64)
+    key = np.where(ok, -key if desc else key, np.inf)
+    order = np.argsort(key, kind="stable")
+    rank = np.zeros(n_rows, dtype=np.int64)
+    rank[order[:int(ok.sum())]] = np.arange(1, int(ok.sum()) + 1)
+
+    t = Table()
+    t["input_index"] = np.arange(n_rows)
+    t["name"] = names.astype(str)
+    t["status"] = status.astype(str)
+    t["reason"] = reason.astype(str)
+    t["rank"] = rank
+    for c in ("mode", "scenario"):
+        t[c] = out[c].astype(str)
+    for c in _OUTPUT_ORDER:
+        t[c] = out[c] if out[c].dtype != object else out[c].astype(str)
+    for c, unit in _UNITS.items():
+        t[c].unit = unit
+    counts = {str(s): int(np.sum(status == s)) for s in np.unique(status)}
+    t.meta.update({"test": kind if arg is None else f"{kind}:{arg}", "target_sigma": sigma,
+                   "modes": list(modes), "scenarios": [s.name for s in scs],
+                   "resolution": float(resolution), "max_transits": int(n_max),
+                   "sort_by": sort_by, "status_counts": counts, "rows": int(n_rows),
+                   "notes": list(notes)[:50],
+                   "note": "planning estimates; official observatory tools govern real proposals"})
+    return t
+
+
+_FLOAT_COLUMNS = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
+                  "quick_feature_ppm", "significance_per_transit", "hours_per_transit",
+                  "hours_total")
+_OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_temperature_K",
+                 "tsm", "esm", "habitable_zone", "quick_feature_ppm", "significance_per_transit",
+                 "transits_needed", "hours_per_transit", "hours_total", "limiting_term")
+_OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
+_UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
+          "quick_feature_ppm": "", "hours_per_transit": "h", "hours_total": "h"}
+
+
+def _name_column(catalogue):
+    for c in ("planet_name", "name"):
+        if c in catalogue.table.colnames:
+            return c
+    return catalogue.table.colnames[0]
+
+
+def _quick_feature_ppm(sc, d):
+    """N_H x 2 H Rp / Rs^2 [ppm] with the scenario's mu and temperature rule."""
+    from .metrics import scale_height, annulus_signal
+    if sc.featureless or sc.feature_scale_heights is None:
+        return np.zeros_like(d["radius_m"])
+    temp = sc.temperature(d["equilibrium_temperature_K"])
+    h = scale_height(temp, sc.mean_molecular_weight, d["surface_gravity_m_s2"])
+    return float(sc.feature_scale_heights) * annulus_signal(h, d["radius_m"], d["radius_m"] / np.sqrt(d["transit_depth"])) * 1e6
+
+
+def _apply_filters(f, catalogue, out, ok):
+    keep = np.ones(len(ok), dtype=bool)
+    r = out["radius_earth"]
+    teq = out["equilibrium_temperature_K"]
+    with np.errstate(invalid="ignore"):
+        if "radius_min" in f:
+            keep &= r >= float(f["radius_min"])
+        if "radius_max" in f:
+            keep &= r <= float(f["radius_max"])
+        if "teq_min" in f:
+            keep &= teq >= float(f["teq_min"])
+        if "teq_max" in f:
+            keep &= teq <= float(f["teq_max"])
+        if f.get("habitable_zone_only"):
+            keep &= np.isin(out["habitable_zone"].astype(str), ["conservative", "optimistic"])
+        if "magnitude_min" in f or "magnitude_max" in f:
+            band = f.get("band", "J")
+            col = {"V": "star_mag_V", "J": "star_mag_J", "H": "star_mag_H", "Ks": "star_mag_Ks"}.get(band)
+            if col is None:
+                raise InputError("band", band, "V, J, H or Ks")
+            mags = np.asarray(catalogue.values[col], dtype=np.float64) if col in catalogue.values.colnames \
+                else np.full(len(ok), np.nan)
+            if "magnitude_min" in f:
+                keep &= mags >= float(f["magnitude_min"])
+            if "magnitude_max" in f:
+                keep &= mags <= float(f["magnitude_max"])
+    return keep
