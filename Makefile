@@ -31,6 +31,9 @@ test: $(STAMP)
 
 bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_derived.py
+	$(VPY) benchmarks/bench_spectrum.py
+	$(VPY) benchmarks/bench_stacker.py
+	$(VPY) benchmarks/bench_rank.py
 
 clean:
 	rm -rf $(VENV) build dist .pytest_cache snrkit_demo_output
