@@ -89,7 +89,7 @@ def noise_per_bin(sigma1, n_transits, floor=0.0, floor_averages=False):
     return np.sqrt(s2 / n + f2)
 
 
-def profiled_delta_chi2(residual, sigma, templates=None):
+def profiled_delta_chi2(residual, sigma, templates=None, template_sigma=None):
     """Asimov Delta chi^2 with linear nuisance parameters profiled.
 
     Delta chi^2 = min_c sum_i (r_i - sum_k c_k X_ik)^2 / sigma_i^2
@@ -105,6 +105,11 @@ def profiled_delta_chi2(residual, sigma, templates=None):
     templates : array_like, shape (..., n_wl, n_nuisance), optional
         Nuisance templates whose amplitudes are fitted; a constant column
         (the vertical offset) is always included.
+    template_sigma : array_like, shape (n_nuisance,), optional
+        Gaussian prior width of each template amplitude (in units of the
+        template): the fit pays a^2 / s^2 for amplitude a.  Default: free
+        (no prior).  A template scaled to the expected size of a systematic
+        with s = 1 lets that systematic vary by its own size.
 
     Returns
     -------
@@ -134,6 +139,10 @@ def profiled_delta_chi2(residual, sigma, templates=None):
     x = np.concatenate([ones, np.where(np.isfinite(t), t, 0.0)], axis=-1)
     b = np.einsum("...l,...lk->...k", wr, x)
     a = np.einsum("...l,...lk,...lm->...km", w, x, x)
+    if template_sigma is not None:
+        ts = np.broadcast_to(np.asarray(template_sigma, dtype=np.float64), (t.shape[-1],))
+        prior = np.concatenate([[0.0], np.where(np.isfinite(ts), 1.0 / ts ** 2, 0.0)])
+        a = a + np.diag(prior)
     # Solve with a pseudo-inverse so degenerate templates (a template equal to
     # the offset, or zero) do not fail: they simply add no freedom.
     coef = np.einsum("...km,...m->...k", np.linalg.pinv(a, hermitian=True), b)
@@ -320,7 +329,7 @@ def transits_needed(lambda_of_n, target_lambda, n_max):
     return np.where(reach, hi, 0)
 
 
-def asymptotic_delta_chi2(residual, floor, templates=None, usable=None):
+def asymptotic_delta_chi2(residual, floor, templates=None, usable=None, template_sigma=None):
     """Delta chi^2 as N -> infinity with a floor that does not average down.
 
     Per element of the batch: infinite where a used bin carrying signal has
@@ -340,7 +349,7 @@ def asymptotic_delta_chi2(residual, floor, templates=None, usable=None):
     use = np.ones(r.shape, dtype=bool) if usable is None else np.broadcast_to(usable, r.shape)
     unbounded = np.any(use & (f == 0) & (r != 0), axis=-1)
     sig = np.where(use & (f > 0), f, np.inf)
-    lam = profiled_delta_chi2(r, sig, templates)
+    lam = profiled_delta_chi2(r, sig, templates, template_sigma)
     return np.where(unbounded, np.inf, lam)
 
 
@@ -383,20 +392,22 @@ LIMITING_TERMS = ("white noise", "noise floor", "stellar contamination", "transi
                   "no signal")
 
 
-def _lambda_function(residual, sigma1, floor, floor_averages, templates):
+def _lambda_function(residual, sigma1, floor, floor_averages, templates, template_sigma=None):
     """Closure lambda(N) over the batch shape of ``residual`` (..., n_wl)."""
     r = np.asarray(residual, dtype=np.float64)
     s2 = np.broadcast_to(np.asarray(sigma1, dtype=np.float64), r.shape) ** 2
     f2 = np.broadcast_to(np.asarray(floor, dtype=np.float64), r.shape) ** 2
     white_only = np.all(f2 == 0)
-    lam1 = profiled_delta_chi2(r, np.sqrt(s2 + f2), templates)
-    if white_only or floor_averages:
+    lam1 = profiled_delta_chi2(r, np.sqrt(s2 + f2), templates, template_sigma)
+    if (white_only or floor_averages) and template_sigma is None:
         # sigma_N^2 = (sigma_1^2 + floor^2) / N exactly: lambda(N) = N lambda(1)
         return lambda n: np.asarray(n, dtype=np.float64) * lam1, lam1
 
     def lam(n):
         n = np.asarray(n, dtype=np.float64)[..., None]
-        return profiled_delta_chi2(r, np.sqrt(s2 / n + f2), templates)
+        if floor_averages:
+            return profiled_delta_chi2(r, np.sqrt((s2 + f2) / n), templates, template_sigma)
+        return profiled_delta_chi2(r, np.sqrt(s2 / n + f2), templates, template_sigma)
     return lam, lam1
 
 
@@ -406,7 +417,8 @@ def default_curve_transits(n_max, points=40):
 
 
 def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=False,
-                   dof=1, templates=None, sigma=5.0, probabilities=(0.5, 0.9),
+                   dof=1, templates=None, template_sigma=None, sigma=5.0,
+                   probabilities=(0.5, 0.9),
                    n_max=1000, n_curve=None):
     """Significance versus number of transits, and the transits needed.
 
@@ -433,6 +445,9 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     templates : array_like, shape (..., n_wl, k), optional
         Extra linear nuisance shapes (for example a stellar-contamination
         signature) whose amplitudes are fitted.
+    template_sigma : array_like (k,), optional
+        Prior widths of those amplitudes (see :func:`profiled_delta_chi2`);
+        with a prior, lambda(N) is not N lambda(1), so it is recomputed per N.
     sigma : float
         Target significance.
     probabilities : sequence of float
@@ -462,13 +477,18 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     alternative = np.asarray(alternative, dtype=np.float64)
     resid = truth - alternative
     dof_arr = np.broadcast_to(np.asarray(dof, dtype=np.float64), resid.shape[:-1])
-    lam_fn, lam1 = _lambda_function(resid, sigma1, floor, floor_averages, templates)
+    lam_fn, lam1 = _lambda_function(resid, sigma1, floor, floor_averages, templates,
+                                    template_sigma)
     fl = np.broadcast_to(np.asarray(floor, dtype=np.float64), resid.shape)
     used = np.isfinite(np.broadcast_to(np.asarray(sigma1, dtype=np.float64), resid.shape))
-    if floor_averages or np.all(fl == 0):
+    if (floor_averages or np.all(fl == 0)) and template_sigma is None:
+        lam_inf = np.where(lam1 > 0, np.inf, 0.0)
+    elif floor_averages or np.all(fl == 0):
+        # white noise -> 0 with a prior on the templates: the prior alone limits them
         lam_inf = np.where(lam1 > 0, np.inf, 0.0)
     else:
-        lam_inf = asymptotic_delta_chi2(resid, fl, templates, usable=used)
+        lam_inf = asymptotic_delta_chi2(resid, fl, templates, usable=used,
+                                        template_sigma=template_sigma)
 
     # the lambda to reach: expected (median) statistic at the target, and per probability
     def target_lambda(prob):
@@ -497,6 +517,7 @@ def stack_transits(truth, alternative, sigma1, *, floor=0.0, floor_averages=Fals
     if templates is not None:
         lam1_free = profiled_delta_chi2(resid, noise_per_bin(np.broadcast_to(sigma1, resid.shape),
                                                              1.0, fl, floor_averages))
+        # (lam1 already includes the templates and their prior)
         # "masked" when the fitted signature removes three quarters of the
         # signal (threshold: common practice, no source)
         masked = (lam1 < 0.25 * lam1_free)

@@ -30,29 +30,42 @@ DEFAULT_OVERHEAD_HOURS = 1.0
 
 
 def fisher_matrix(jacobian, sigma):
-    """Fisher matrix from a Jacobian (..., n_wl, n_par) and per-bin sigma (..., n_wl)."""
+    """Fisher matrix from a Jacobian (..., n_wl, n_par) and per-bin sigma (..., n_wl).
+
+    Bins with non-finite sigma, or where the Jacobian is not finite, carry no
+    information (zero weight).
+    """
     j = np.asarray(jacobian, dtype=np.float64)
-    w = 1.0 / np.asarray(sigma, dtype=np.float64) ** 2
+    sig = np.asarray(sigma, dtype=np.float64)
+    ok = np.isfinite(sig) & (sig > 0) & np.all(np.isfinite(j), axis=-1)
+    w = np.where(ok, 1.0 / np.where(ok, sig, 1.0) ** 2, 0.0)
+    j = np.where(ok[..., None], j, 0.0)
     return np.einsum("...lp,...l,...lq->...pq", j, w, j)
 
 
 def fisher_errors(fisher, rtol=1e-10):
     """Marginalised 1-sigma errors sqrt(diag(F^-1)).
 
-    Directions of (numerically) zero information -- eigenvalues below
-    ``rtol`` times the largest -- make every parameter with a share in them
-    unconstrained (error inf), as for two perfectly degenerate parameters;
-    the covariance of the rest comes from the remaining eigen-directions.
+    The matrix is first scaled to unit diagonal (Jacobi scaling).  Directions
+    of (numerically) zero information -- eigenvalues below ``rtol`` times the
+    largest -- make every parameter with a share in them unconstrained
+    (error inf), as for two perfectly degenerate parameters; the covariance
+    of the rest comes from the remaining eigen-directions.
     """
     f = np.asarray(fisher, dtype=np.float64)
-    vals, vecs = np.linalg.eigh(f)
+    # Jacobi scaling: parameters in very different units must not make the
+    # small eigenvalues of the well-measured ones look like "no information"
+    d = np.sqrt(np.clip(np.diagonal(f, axis1=-2, axis2=-1), 0.0, None))
+    scale = np.where(d > 0, d, 1.0)
+    fs = f / (scale[..., :, None] * scale[..., None, :])
+    vals, vecs = np.linalg.eigh(fs)
     top = np.max(np.abs(vals), axis=-1, keepdims=True)
     null = vals <= rtol * np.where(top > 0, top, 1.0)
     inv = np.where(null, 0.0, 1.0 / np.where(null, 1.0, vals))
     cov_diag = np.einsum("...ik,...k,...ik->...i", vecs, inv, vecs)
     share = np.einsum("...ik,...k->...i", vecs ** 2, null.astype(np.float64))
-    err = np.sqrt(np.clip(cov_diag, 0.0, None))
-    return np.where(share > 1e-8, np.inf, err)
+    err = np.sqrt(np.clip(cov_diag, 0.0, None)) / scale
+    return np.where((share > 1e-8) | (d == 0), np.inf, err)
 
 
 def numerical_jacobian(model, theta, steps):
@@ -162,7 +175,8 @@ def feature_scale_draws(radius, radius_sigma, mass, mass_sigma, draws, rng,
 
 
 def transits_distribution(truth, alternative, sigma1, scale_draws, *, floor=0.0,
-                          floor_averages=False, dof=1, sigma=5.0, n_max=1000):
+                          floor_averages=False, dof=1, sigma=5.0, n_max=1000, templates=None,
+                          template_sigma=None):
     """Distribution of the transits needed when the feature amplitude is uncertain.
 
     Parameters
@@ -173,6 +187,9 @@ def transits_distribution(truth, alternative, sigma1, scale_draws, *, floor=0.0,
     scale_draws : array_like (draws, n_planets)
         Multiplicative factors on the feature (truth - alternative), e.g.
         from :func:`feature_scale_draws`.
+    templates, template_sigma : optional
+        Nuisance templates (n_planets, n_wl, k) and their priors, as in
+        :func:`snrkit.detect.stack_transits`.
 
     Returns
     -------
@@ -185,9 +202,11 @@ def transits_distribution(truth, alternative, sigma1, scale_draws, *, floor=0.0,
     alt = np.broadcast_to(np.atleast_2d(np.asarray(alternative, dtype=np.float64)), truth.shape)
     s = np.asarray(scale_draws, dtype=np.float64)
     resid = (truth - alt)[None] * s[..., None]
+    tm = None if templates is None else np.asarray(templates)[None]
     res = stack_transits(resid, np.zeros_like(resid), np.broadcast_to(sigma1, truth.shape)[None],
                          floor=floor, floor_averages=floor_averages, dof=dof, sigma=sigma,
-                         probabilities=(), n_max=n_max, n_curve=[1])
+                         probabilities=(), n_max=n_max, n_curve=[1], templates=tm,
+                         template_sigma=template_sigma)
     n = res["transits_needed"].astype(np.float64)
     n[n == 0] = np.inf
     frac = np.mean(np.isfinite(n), axis=0)
@@ -213,8 +232,10 @@ def programme_hours(t14_hours, n_transits, *, baseline=1.0, baseline_is_multiple
     """
     t14 = np.asarray(t14_hours, dtype=np.float64)
     base = t14 * baseline if baseline_is_multiple else np.asarray(baseline, dtype=np.float64)
-    if np.any(np.asarray(base) < 0) or overhead_hours < 0:
-        raise InputError("baseline/overhead", (baseline, overhead_hours), "non-negative values")
+    if np.any(~np.isfinite(np.asarray(base))) or np.any(np.asarray(base) < 0):
+        raise InputError("baseline", float(np.min(base)), "a non-negative duration")
+    if not (np.isfinite(overhead_hours) and overhead_hours >= 0):
+        raise InputError("overhead", float(overhead_hours), "non-negative hours")
     per = t14 + base + overhead_hours
     n = np.asarray(n_transits, dtype=np.float64)
     total = np.where(n > 0, n * per, np.nan)

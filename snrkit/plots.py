@@ -9,6 +9,16 @@ import numpy as np
 __all__ = ["plot_transits", "simulated_spectrum", "display_bins", "plot_ranking"]
 
 
+def _format(path):
+    """Figure format from the file name (png, pdf or svg)."""
+    from pathlib import Path
+    from .errors import InputError
+    fmt = Path(path).suffix.lower().lstrip(".")
+    if fmt not in ("png", "pdf", "svg"):
+        raise InputError("plot file", str(path), "a name ending in .png, .pdf or .svg")
+    return fmt
+
+
 def display_bins(edges_um, max_bins=80):
     """Group native bins into at most ``max_bins`` display bins (index groups)."""
     n = len(edges_um) - 1
@@ -92,7 +102,7 @@ def plot_transits(result, path, seed=0):
     fig.suptitle(f"mode {ds.attrs.get('mode', '')} - planning estimate", fontsize=10)
     fig.tight_layout()
     with atomic_path(path) as tmp:
-        fig.savefig(tmp, format="png", dpi=100)
+        fig.savefig(tmp, format=_format(path), dpi=100)
 
 
 def plot_ranking(table, path, top=20):
@@ -108,6 +118,12 @@ def plot_ranking(table, path, top=20):
     fig = Figure(figsize=(7.5, 5.5))
     ax = fig.add_subplot(1, 1, 1)
     good = np.isfinite(tsm) & (tsm > 0) & np.isfinite(hours) & (hours > 0)
+    if not good.any():
+        ax.text(0.5, 0.5, "no ranked rows", ha="center", va="center", transform=ax.transAxes)
+        ax.set_axis_off()
+        with atomic_path(path) as tmp:
+            fig.savefig(tmp, format=_format(path), dpi=110)
+        return
     sc = ax.scatter(tsm[good], hours[good], c=np.log10(radius[good]), s=14, cmap="viridis")
     cb = fig.colorbar(sc, ax=ax)
     cb.set_label("log10 planet radius [R_earth]")
@@ -122,4 +138,4 @@ def plot_ranking(table, path, top=20):
                  f"with {', '.join(table.meta.get('modes', []))} - planning estimate", fontsize=8)
     fig.tight_layout()
     with atomic_path(path) as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
+        fig.savefig(tmp, format=_format(path), dpi=110)

@@ -28,7 +28,7 @@ SORT_KEYS = {"hours": ("hours_total", False), "transits": ("transits_needed", Fa
              "significance": ("significance_per_transit", True)}
 #: Accepted filter keys (see :func:`rank_catalogue`).
 FILTER_KEYS = ("radius_min", "radius_max", "teq_min", "teq_max", "habitable_zone_only",
-               "magnitude_max", "magnitude_min", "band", "keep_saturated")
+               "magnitude_max", "magnitude_min", "band")
 #: Planets per chunk of the array path.
 DEFAULT_CHUNK = 2000
 
@@ -41,6 +41,14 @@ def _check_filters(filters):
             close = difflib.get_close_matches(k, FILTER_KEYS, n=1)
             raise InputError(f"filter {k}", f[k], "one of " + ", ".join(FILTER_KEYS),
                              detail=f"did you mean {close[0]!r}?" if close else "")
+        if k not in ("habitable_zone_only", "band"):
+            v = f[k]
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not np.isfinite(v):
+                raise InputError(f"filter {k}", v, "a finite number")
+    for lo, hi in (("radius_min", "radius_max"), ("teq_min", "teq_max"),
+                   ("magnitude_min", "magnitude_max")):
+        if lo in f and hi in f and f[lo] > f[hi]:
+            raise InputError(f"filter {lo}", f[lo], f"a value <= {hi} = {f[hi]}")
     return f
 
 
@@ -67,13 +75,14 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         Resolving power of the ranking bins (default 30: coarse bins keep
         catalogue runs fast; features span many of the native bins).
     sort_by : str
-        A key of :data:`SORT_KEYS`, or an output column name (prefix ``-``
-        for descending).
+        A key of :data:`SORT_KEYS` or a numeric output column, optionally
+        ``KEY:asc`` or ``KEY:desc`` (default direction: fewest hours or
+        transits first, largest TSM, ESM or significance first).
     filters : dict, optional
         ``radius_min``/``radius_max`` [R_earth], ``teq_min``/``teq_max`` [K],
         ``habitable_zone_only`` (conservative or optimistic),
-        ``magnitude_min``/``magnitude_max`` with ``band`` (default J),
-        ``keep_saturated`` (default False: saturating rows are not ranked).
+        ``magnitude_min``/``magnitude_max`` with ``band`` (default J).
+        Saturating rows are never ranked (their status says so).
     chunk : int
         Planets per array chunk.
     progress : callable, optional
@@ -107,9 +116,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     scs = [load_scenario(s) for s in scen_specs]
     if not scs:
         raise InputError("scenario", scenarios, "at least one scenario")
-    if sort_by not in SORT_KEYS and sort_by.lstrip("-") not in _OUTPUT_COLUMNS:
-        raise InputError("sort_by", sort_by, "one of " + ", ".join(SORT_KEYS)
-                         + " or an output column (prefix - for descending)")
+    _sort_key(sort_by)                        # validate before the long run
 
     n_rows = len(catalogue.table)
     out = {c: np.full(n_rows, np.nan) for c in _FLOAT_COLUMNS}
@@ -137,8 +144,10 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         out["tsm"][good] = d["tsm"]
         out["esm"][good] = d["esm"]
         out["habitable_zone"][good] = d["hz_position"]
+        best_class = np.full(len(good), 9)
         best_hours = np.full(len(good), np.inf)
-        best_sat = np.zeros(len(good), dtype=bool)
+        best_status = np.full(len(good), "", dtype=object)
+        best_reason = np.full(len(good), "", dtype=object)
         starts = list(range(0, len(good), max(int(chunk), 1)))
         total = len(starts) * len(modes) * len(scs)
         done = 0
@@ -152,60 +161,52 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                         warnings.simplefilter("always", SnrkitWarning)
                         res = transits_for_system(sub, mode, sc, test=test, sigma=sigma,
                                                   n_max=n_max, resolution=resolution,
-                                                  probabilities=(), overhead_hours=overhead_hours)
+                                                  probabilities=(), overhead_hours=overhead_hours,
+                                                  curves=False)
                     for w in caught:
                         notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
                     notes.update({n[:300]: None for n in res["notes"][:3]})
                     recs = res["planets"]
-                    n = np.array([r["transits_needed"] or 0 for r in recs])
-                    hrs = np.array([r["hours_total"] if r["hours_total"] is not None else np.inf
+                    st = np.array([r["status"] for r in recs], dtype=object)
+                    cls = np.array([_STATUS_CLASS.get(x, 1) for x in st])
+                    hrs = np.array([np.inf if r["hours_total"] is None else r["hours_total"]
                                     for r in recs])
-                    sat = np.array([r["status"] == "saturated" for r in recs])
-                    # keep a saturated answer only where nothing better exists
-                    better = (hrs < best_hours[idx]) | (np.isinf(best_hours[idx])
-                                                        & (out["mode"][good[idx]] == ""))
-                    for j in np.flatnonzero(better):
-                        gi, r = good[idx[j]], recs[j]
-                        out["mode"][gi] = r["mode"]
-                        out["scenario"][gi] = r["scenario"]
-                        out["limiting_term"][gi] = r["limiting_term"]
-                        out["transits_needed"][gi] = n[j]
-                        out["hours_total"][gi] = hrs[j] if np.isfinite(hrs[j]) else np.nan
-                        out["hours_per_transit"][gi] = r["hours_per_transit"]
-                        out["significance_per_transit"][gi] = r["significance_per_transit_sigma"]
-                        out["quick_feature_ppm"][gi] = quick[idx[j]]
-                        best_sat[idx[j]] = sat[j]
-                    best_hours[idx] = np.where(better, hrs, best_hours[idx])
+                    # finite hours < not reachable < unbound < saturated; then fewer hours
+                    better = (cls < best_class[idx]) | ((cls == best_class[idx]) & (hrs < best_hours[idx]))
+                    j = np.flatnonzero(better)
+                    gi = good[idx[j]]
+                    out["mode"][gi] = [recs[k]["mode"] for k in j]
+                    out["scenario"][gi] = [recs[k]["scenario"] for k in j]
+                    out["limiting_term"][gi] = [recs[k]["limiting_term"] for k in j]
+                    out["transits_needed"][gi] = [recs[k]["transits_needed"] or 0 for k in j]
+                    out["hours_total"][gi] = np.where(np.isfinite(hrs[j]), hrs[j], np.nan)
+                    out["hours_per_transit"][gi] = [recs[k]["hours_per_transit"] for k in j]
+                    out["significance_per_transit"][gi] = [recs[k]["significance_per_transit_sigma"]
+                                                           for k in j]
+                    out["quick_feature_ppm"][gi] = quick[idx[j]]
+                    best_status[idx[j]] = st[j]
+                    best_reason[idx[j]] = [recs[k]["reason"] for k in j]
+                    best_class[idx[j]] = cls[j]
+                    best_hours[idx[j]] = hrs[j]
                     done += 1
                     if progress is not None:
                         progress(done, total)
-        # statuses from the chain
-        sub_status = np.where(best_sat, "saturated",
-                              np.where(np.isfinite(best_hours), "ok", "not_reachable"))
-        for j, gi in enumerate(good):
-            if sub_status[j] == "saturated":
-                status[gi] = "saturated"
-                reason[gi] = "every mode saturates on this star"
-            elif sub_status[j] == "not_reachable":
-                status[gi] = "not_reachable"
-                reason[gi] = (f"{out['limiting_term'][gi]}: target {sigma:g} sigma not reached "
-                              f"within {int(n_max)} transits")
+        status[good] = best_status
+        reason[good] = best_reason
     # filters
     ok = status == "ok"
     filt = _apply_filters(filters, catalogue, out, ok)
     status = np.where(ok & ~filt, "filtered", status)
     reason = np.where(ok & ~filt, "outside the filters", reason)
     ok = status == "ok"
-    # ranking
-    if sort_by in SORT_KEYS:
-        col, desc = SORT_KEYS[sort_by]
-    else:
-        col, desc = sort_by.lstrip("-"), sort_by.startswith("-")
-    key = np.asarray(out[col] if col in out else out["hours_total"], dtype=np.float64)
-    key = np.where(ok, -key if desc else key, np.inf)
-    order = np.argsort(key, kind="stable")
+    # ranking: ok rows only; NaN keys after finite ones
+    col, desc = _sort_key(sort_by)
+    key = np.asarray(out[col], dtype=np.float64)
+    key = -key if desc else key
+    order = np.lexsort((key, np.isnan(key), ~ok))
     rank = np.zeros(n_rows, dtype=np.int64)
-    rank[order[:int(ok.sum())]] = np.arange(1, int(ok.sum()) + 1)
+    n_ok = int(ok.sum())
+    rank[order[:n_ok]] = np.arange(1, n_ok + 1)
 
     t = Table()
     t["input_index"] = np.arange(n_rows)
@@ -238,6 +239,31 @@ _OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_te
 _OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
 _UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
           "quick_feature_ppm": "", "hours_per_transit": "h", "hours_total": "h"}
+
+
+_STATUS_CLASS = {"ok": 0, "not_reachable": 1, "unbound_atmosphere": 2, "saturated": 3}
+_NUMERIC_SORT = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
+                 "quick_feature_ppm", "significance_per_transit", "transits_needed",
+                 "hours_per_transit", "hours_total")
+
+
+def _sort_key(sort_by):
+    """(column, descending) from ``KEY`` or ``KEY:asc`` / ``KEY:desc``."""
+    text = str(sort_by)
+    name, _, direction = text.partition(":")
+    if name in SORT_KEYS:
+        col, desc = SORT_KEYS[name]
+    elif name in _NUMERIC_SORT:
+        col, desc = name, False
+    else:
+        keys = list(dict.fromkeys(list(SORT_KEYS) + list(_NUMERIC_SORT)))
+        raise InputError("sort", sort_by, "one of " + ", ".join(keys)
+                         + ", optionally with :asc or :desc")
+    if direction:
+        if direction not in ("asc", "desc"):
+            raise InputError("sort", sort_by, "KEY, KEY:asc or KEY:desc")
+        desc = direction == "desc"
+    return col, desc
 
 
 def _name_column(catalogue):

@@ -22,7 +22,24 @@ from . import forecast as fc
 from .constants import HOUR, R_EARTH, M_EARTH, R_SUN, AU
 
 __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamination_templates", "TESTS",
-           "DEFAULT_MAX_TRANSITS", "REFIT_PARAMETERS"]
+           "DEFAULT_MAX_TRANSITS", "REFIT_PARAMETERS", "MAX_SCALE_HEIGHT_RATIO",
+           "JEANS_PARAMETER_MIN", "HYDROGEN_RICH_MU"]
+
+#: Largest scale height, as a fraction of the planet radius, at which a scenario
+#: is treated as a bound hydrostatic atmosphere (R/H >= 10; a planet with a
+#: smaller ratio loses its atmosphere hydrodynamically -- cf. the Jeans escape
+#: parameter of Fossati et al. 2017, A&A 598, A90; threshold: common practice,
+#: no source).
+MAX_SCALE_HEIGHT_RATIO = 0.1
+#: Hydrogen-rich scenarios (mean molecular weight below this, g/mol) need the
+#: planet to retain hydrogen: the restricted Jeans escape parameter
+#: Lambda = G Mp m_H / (k Teq Rp) must be at least JEANS_PARAMETER_MIN
+#: (Fossati et al. 2017, A&A 598, A90, who find that planets below about 20
+#: lose their hydrogen envelopes by "boil-off"; value from memory).
+HYDROGEN_RICH_MU = 4.0
+JEANS_PARAMETER_MIN = 20.0
+#: Largest number of planet-parameter draws (memory grows with draws x bins).
+MAX_UNCERTAINTY_DRAWS = 20000
 
 #: Continuum parameters the alternative may re-fit.
 REFIT_PARAMETERS = ("temperature", "cloud_top_pressure", "reference_radius")
@@ -194,7 +211,7 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                   floor_averages_down=None, baseline=None, overhead_hours=None,
                   contamination=None, uncertainty_draws=0, seed=0, fisher=False,
                   solver="analytic", against_wavelength_unit=None, against_depth_kind="ppm",
-                  refit=()):
+                  refit=(), curves=True):
     """:func:`transits_for_system` for planets sharing one scenario."""
     from .atmosphere.spectrum import transmission_spectrum
     from .atmosphere.scenarios import load_scenario
@@ -205,6 +222,11 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     probabilities = tuple(dt.check_probability(p) for p in probabilities)
     if int(n_max) < 1:
         raise InputError("max_transits", n_max, "an integer >= 1")
+    if not 0 <= int(uncertainty_draws) <= MAX_UNCERTAINTY_DRAWS:
+        raise InputError("uncertainty_draws", uncertainty_draws,
+                         f"an integer in [0, {MAX_UNCERTAINTY_DRAWS}]")
+    if overhead_hours is not None and not (np.isfinite(overhead_hours) and 0 <= overhead_hours <= 100):
+        raise InputError("overhead", overhead_hours, "hours in [0, 100]")
     names = [str(x) for x in system.names]
     sc = load_scenario(scenario)
     obs = _observation(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
@@ -254,6 +276,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
 
     data = truth.copy()
     templates = None
+    template_sigma = None
+    contamination_signature = None
     if contamination:
         c = dict(contamination)
         fitted = bool(c.pop("fitted", True))
@@ -265,13 +289,24 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
         for k in ("spot_fraction", "facula_fraction"):
             if not 0.0 <= float(c.get(k, 0.0)) < 1.0:
                 raise InputError(f"contamination.{k}", c[k], "a covering fraction in [0, 1)")
-        eps, sig_shape = contamination_templates(
+        for k in ("spot_temperature_contrast", "facula_temperature_contrast"):
+            v = float(c.get(k, 0.0))
+            if not np.isfinite(v) or v < 0 or np.any(v >= system.star.teff_K):
+                raise InputError(f"contamination.{k}", c.get(k), "a temperature contrast >= 0 K "
+                                 "and below the star's Teff")
+        eps, _ = contamination_templates(
             truth, system.star.teff_K, wl, c.get("spot_fraction", 0.0),
             c.get("spot_temperature_contrast", 0.0), c.get("facula_fraction", 0.0),
             c.get("facula_temperature_contrast", 0.0))
+        # Rackham et al. 2018: the data are epsilon x the true depth; a model of the
+        # alternative sees epsilon x its own depth.  The signature the fit can use is
+        # alt (epsilon - 1), scaled to the stated covering fractions, with a prior of
+        # its own size (amplitude 1 +/- 1): a vanishing contamination changes nothing.
         data = truth * eps
+        contamination_signature = alt * (eps - 1.0)
         if fitted:
-            templates = sig_shape[..., None]
+            templates = contamination_signature[..., None]
+            template_sigma = np.array([1.0])
 
     saturated = obs["saturated"]
     usable = (~saturated & np.isfinite(white) & (white > 0) & np.isfinite(data) & np.isfinite(alt))
@@ -281,16 +316,27 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     f_sig = np.where(usable, floor, 0.0)
     resid_data = np.where(usable, data, 0.0)
     resid_alt = np.where(usable, alt, 0.0)
-    dof = np.maximum(n_bins - 1, 1) if kind == "atmosphere" else 1
+    k_templates = 0 if templates is None else templates.shape[-1]
+    dof = np.maximum(n_bins - 1 - k_templates, 1) if kind == "atmosphere" else 1
+    tmpl = None if templates is None else np.where(usable[..., None], templates, 0.0)
     res = dt.stack_transits(resid_data, resid_alt, w_sig, floor=f_sig, floor_averages=floor_avg,
-                            dof=dof, templates=None if templates is None else np.where(
-                                usable[..., None], templates, 0.0),
-                            sigma=sigma, probabilities=probabilities, n_max=int(n_max))
+                            dof=dof, templates=tmpl, template_sigma=template_sigma,
+                            sigma=sigma, probabilities=probabilities, n_max=int(n_max),
+                            n_curve=None if curves else [1])
+    bias_share = np.zeros(len(names))
+    if contamination_signature is not None and templates is None:
+        # unmodelled contamination: how much of the Delta chi^2 it makes up
+        clean = dt.profiled_delta_chi2(np.where(usable, truth - alt, 0.0),
+                                       np.where(usable, np.sqrt(white ** 2 + floor ** 2), np.nan))
+        with np.errstate(invalid="ignore", divide="ignore"):
+            bias_share = np.where(res["delta_chi2_per_transit"] > 0,
+                                  1.0 - clean / res["delta_chi2_per_transit"], 0.0)
     t14_h = d["t14_s"] / HOUR
     base_h = np.asarray(prec["baseline_time"].values, dtype=np.float64) if "baseline_time" in prec else t14_h
     if base_h.ndim == 0:
         base_h = np.full(len(names), float(base_h))
-    hours = fc.programme_hours(t14_h, res["transits_needed"], baseline=base_h, baseline_is_multiple=False,
+    hours = fc.programme_hours(t14_h, np.where((np.asarray(res["transits_needed"]) > 0), res["transits_needed"], 0),
+                               baseline=base_h, baseline_is_multiple=False,
                                overhead_hours=fc.DEFAULT_OVERHEAD_HOURS if overhead_hours is None
                                else float(overhead_hours))
 
@@ -306,56 +352,95 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                                        mass_sigma_log10=np.where(est, dex, 0.0))
         spread = fc.transits_distribution(resid_data, resid_alt, w_sig, draws, floor=f_sig,
                                           floor_averages=floor_avg, dof=dof, sigma=sigma,
-                                          n_max=int(n_max))
+                                          n_max=int(n_max), templates=tmpl,
+                                          template_sigma=template_sigma)
 
     fisher_out = None
     if fisher:
+        # errors at the N needed; for planets that never reach the target, at n_max
+        n_f = np.where(np.asarray(res["transits_needed"]) > 0, res["transits_needed"], int(n_max))
         fisher_out = _fisher(sc, rp, rs, spec_kw, transmission_spectrum, w_sig, f_sig, floor_avg,
-                             np.maximum(res["transits_needed"], 1))
+                             n_f)
 
     # an offset-profiled test needs two usable bins
     saturated_all = (n_bins < 2) & (saturated.sum(axis=-1) > 0)
+    h_km = np.asarray(truth_ds["scale_height_km"].values, dtype=np.float64)
+    annulus = np.asarray(truth_ds["annulus_ppm_per_scale_height"].values, dtype=np.float64)
+    h_over_r = h_km * 1e3 / d["radius_m"]
+    from .constants import G, K_B, M_U
+    jeans = G * d["mass_kg"] * (1.008 * M_U) / (K_B * d["equilibrium_temperature_K"] * d["radius_m"])
+    hydrogen_rich = sc.mean_molecular_weight < HYDROGEN_RICH_MU
+    escaping = hydrogen_rich & (jeans < JEANS_PARAMETER_MIN)
+    unbound = ((h_over_r > MAX_SCALE_HEIGHT_RATIO) | escaping) & ~sc.featureless
+    sat_limit = np.asarray(prec["saturation_limit_mag"].values, dtype=np.float64).ravel()
+    n_arr = np.asarray(res["transits_needed"])
+    limiting = np.asarray(res["limiting_term"]).astype(str).astype(object)
+    limiting = np.where(saturated_all, "saturation", limiting)
+    limiting = np.where((n_arr == 0) & (bias_share > 0.5), "stellar contamination (bias)", limiting)
+    limiting = np.where((n_arr > 0) & (bias_share > 0.5), "stellar contamination (bias)", limiting)
+    z1, zinf = res["significance_per_transit"], res["asymptotic_significance"]
+    lam1 = res["delta_chi2_per_transit"]
+    probs = {f"{p:g}": np.asarray(v) for p, v in res["transits_for_probability"].items()}
+    dof_b = np.broadcast_to(dof, (len(names),))
+    feat = np.where(usable, data - alt, np.nan)
+    with np.errstate(invalid="ignore"), __import__("warnings").catch_warnings():
+        __import__("warnings").simplefilter("ignore", RuntimeWarning)  # all-NaN rows
+        amp = np.nanmax(feat, axis=-1) - np.nanmin(feat, axis=-1)
     planets = []
     for i, name in enumerate(names):
-        n = int(res["transits_needed"][i])
+        n = int(n_arr[i])
         status, reason = "ok", ""
         if saturated_all[i]:
             status = "saturated"
             reason = (f"mode {prec.attrs.get('mode', mode)} saturates on this star in "
                       f"{int(saturated[i].sum())} of {saturated.shape[-1]} bins "
-                      f"(brightest usable magnitude "
-                      f"{float(np.asarray(prec['saturation_limit_mag'].values).ravel()[i]):.2f})")
+                      f"(brightest usable magnitude {sat_limit[i]:.2f})")
+        elif unbound[i]:
+            status = "unbound_atmosphere"
+            if h_over_r[i] > MAX_SCALE_HEIGHT_RATIO:
+                reason = (f"scale height {h_km[i]:.0f} km is {h_over_r[i]:.2f} of the planet radius "
+                          f"(> {MAX_SCALE_HEIGHT_RATIO:g}): scenario {sc.name!r} is not a bound "
+                          "hydrostatic atmosphere on this planet, so its spectrum is not used")
+            else:
+                reason = (f"Jeans escape parameter {jeans[i]:.1f} < {JEANS_PARAMETER_MIN:g}: a "
+                          f"hydrogen-rich envelope ({sc.name!r}) is not retained by this planet, "
+                          "so its spectrum is not used")
+            n = 0
         elif n == 0:
             status = "not_reachable"
-            reason = (f"{res['limiting_term'][i]} limits the test to "
-                      f"{float(res['asymptotic_significance'][i]):.2f} sigma"
-                      if res["limiting_term"][i] == "noise floor" else
-                      f"not reached within {int(n_max)} transits ({res['limiting_term'][i]})")
+            reason = (f"{limiting[i]} limits the test to {float(zinf[i]):.2f} sigma"
+                      if limiting[i] == "noise floor" else
+                      f"not reached within {int(n_max)} transits ({limiting[i]})")
             if saturated[i].any():
                 reason += f"; {int(saturated[i].sum())} of {saturated.shape[-1]} bins saturated"
+        if bias_share[i] > 0.5:
+            reason = (reason + "; " if reason else "") + (
+                f"unmodelled stellar contamination makes up {bias_share[i]:.0%} of the signal")
         rec = {
             "name": name, "scenario": sc.name, "test": kind if arg is None else f"{kind}:{arg}",
             "alternative": label, "mode": str(prec.attrs.get("mode", mode)),
             "target_sigma": sigma, "status": status, "reason": reason,
             "transits_needed": n if n > 0 else None, "reachable": bool(n > 0),
-            "limiting_term": "saturation" if saturated_all[i] else str(res["limiting_term"][i]),
-            "significance_per_transit_sigma": float(res["significance_per_transit"][i]),
-            "asymptotic_significance_sigma": float(res["asymptotic_significance"][i]),
-            "delta_chi2_per_transit": float(res["delta_chi2_per_transit"][i]),
-            "degrees_of_freedom": int(np.broadcast_to(dof, (len(names),))[i]),
+            "limiting_term": "unbound atmosphere" if unbound[i] and not saturated_all[i]
+            else str(limiting[i]),
+            "significance_per_transit_sigma": float(z1[i]),
+            "asymptotic_significance_sigma": float(zinf[i]),
+            "delta_chi2_per_transit": float(lam1[i]),
+            "degrees_of_freedom": int(dof_b[i]),
             "bins_used": int(n_bins[i]),
             "bins_saturated": int(saturated[i].sum()),
-            "transits_for_probability": {f"{p:g}": (int(v[i]) if v[i] > 0 else None)
-                                         for p, v in res["transits_for_probability"].items()},
+            "transits_for_probability": {k: (int(v[i]) if v[i] > 0 and n > 0 else None)
+                                         for k, v in probs.items()},
+            "scale_height_over_radius": float(h_over_r[i]),
+            "jeans_parameter": float(jeans[i]),
+            "contamination_share": float(bias_share[i]),
             "t14_hours": float(t14_h[i]), "baseline_hours": float(base_h[i]),
             "hours_per_transit": float(hours["hours_per_transit"][i]),
             "hours_total": (float(hours["hours_total"][i]) if n > 0 else None),
             "period_days": float(system.planet.period_s[i] / 86400.0),
-            "scale_height_km": float(truth_ds["scale_height_km"].values[i]),
-            "annulus_ppm_per_scale_height": float(truth_ds["annulus_ppm_per_scale_height"].values[i]),
-            "feature_amplitude_ppm": float(np.nanmax(np.where(usable[i], data[i] - alt[i], np.nan))
-                                           - np.nanmin(np.where(usable[i], data[i] - alt[i], np.nan)))
-            if n_bins[i] else None,
+            "scale_height_km": float(h_km[i]),
+            "annulus_ppm_per_scale_height": float(annulus[i]),
+            "feature_amplitude_ppm": float(amp[i]) if n_bins[i] else None,
         }
         if spread is not None:
             rec["transits_needed_spread"] = {k: (None if not np.isfinite(spread[k][i]) else float(spread[k][i]))
@@ -496,7 +581,7 @@ def _refit(alt_sc, exclude, names, truth, alt0, sigma, rp, rs, spec_kw, transmis
 def _fisher(sc, rp, rs, spec_kw, transmission_spectrum, w_sig, f_sig, floor_avg, n_needed):
     """Fisher errors per planet on the scenario's main parameters at the N needed.
 
-    Parameters: log10 of each trace gas's mixing ratio (the fill gas takes
+    Parameters: log10 of each trace absorber's mixing ratio (the fill gas takes
     the remainder and mu is recomputed), the temperature (as a factor on the
     scenario's temperature), log10 of the cloud-top pressure [bar] where the
     scenario has a cloud deck, and the reference radius (as a factor), with
@@ -504,10 +589,12 @@ def _fisher(sc, rp, rs, spec_kw, transmission_spectrum, w_sig, f_sig, floor_avg,
     """
     import dataclasses
     from .atmosphere.composition import mean_molecular_weight
+    from .atmosphere.opacity import OPACITY_SPECIES
     params = {}
     fill = sc.fill_gas
     for gas, x in sorted(sc.mixing_ratios.items()):
-        if 0 < x < 0.5 and gas != fill:
+        # trace absorbers with bands of their own (He, N2, Ar only change mu and CIA)
+        if 0 < x < 0.5 and gas != fill and gas in OPACITY_SPECIES:
             params[f"log10_{gas}"] = (float(np.log10(x)), 0.05)
     params["temperature_factor"] = (1.0, 0.02)
     if sc.cloud_top_pressure_Pa is not None:

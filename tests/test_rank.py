@@ -86,14 +86,71 @@ def test_sort_by_tsm_and_filters(cat):
     assert np.all(np.diff(np.asarray(t["tsm"])[ok][order]) <= 0)
     assert np.all(np.asarray(t["radius_earth"])[ok] <= 4.0)
     assert "filtered" in set(np.asarray(t["status"]))
+    assert ok.sum() > 0 and np.all(np.asarray(t["equilibrium_temperature_K"])[ok] <= 1000.0)
     hz = rank_catalogue(cat, PRISM, "n2-o2-temperate", resolution=20,
                         filters={"habitable_zone_only": True})
     ok = np.asarray(hz["rank"]) > 0
+    assert ok.sum() > 0
     assert set(np.asarray(hz["habitable_zone"])[ok]) <= {"conservative", "optimistic"}
+    with pytest.raises(InputError):
+        rank_catalogue(cat, PRISM, "h2-clear-solar", filters={"radius_min": 3, "radius_max": 1})
+    with pytest.raises(InputError):
+        rank_catalogue(cat, PRISM, "h2-clear-solar", filters={"radius_min": float("nan")})
     with pytest.raises(InputError, match="did you mean"):
         rank_catalogue(cat, PRISM, "h2-clear-solar", filters={"radius_maxx": 2})
     with pytest.raises(InputError):
         rank_catalogue(cat, PRISM, "h2-clear-solar", sort_by="nonsense")
+    with pytest.raises(InputError):
+        rank_catalogue(cat, PRISM, "h2-clear-solar", sort_by="tsm:sideways")
+
+
+def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat):
+    # ESM needs a Ks magnitude: blank three of them; those ok rows rank after the rest
+    from snrkit.catalog import catalogue_from_table
+    t = cat.table.copy()
+    base = rank_catalogue(cat, PRISM, "n2-o2-temperate", resolution=20, sort_by="esm")
+    ok_rows = np.flatnonzero(np.asarray(base["status"]) == "ok")[:3]
+    col = t["star_mag_Ks"].astype(float)
+    col[ok_rows] = np.nan
+    t["star_mag_Ks"] = col
+    c2 = catalogue_from_table(t)
+    r = rank_catalogue(c2, PRISM, "n2-o2-temperate", resolution=20, sort_by="esm")
+    status = np.asarray(r["status"])
+    rank = np.asarray(r["rank"])
+    assert np.all(rank[status != "ok"] == 0)
+    assert np.all(rank[status == "ok"] > 0)
+    n_ok = int((status == "ok").sum())
+    nan_rows = [i for i in ok_rows if status[i] == "ok"]
+    assert nan_rows and all(rank[i] > n_ok - len(nan_rows) for i in nan_rows)
+    asc = rank_catalogue(c2, PRISM, "n2-o2-temperate", resolution=20, sort_by="tsm:asc")
+    okm = np.asarray(asc["rank"]) > 0
+    order = np.argsort(np.asarray(asc["rank"])[okm])
+    assert np.all(np.diff(np.asarray(asc["tsm"])[okm][order]) >= 0)
+
+
+def test_best_mode_is_kept_per_row(cat):
+    # With two modes, a row that saturates the bright-star prism but not the grism is
+    # ranked with the grism, and only rows saturating every mode are "saturated".
+    one = rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20)
+    two = rank_catalogue(cat, [PRISM, "cold6m-grism-2.4-5um"], "h2-clear-solar", resolution=20)
+    sat1 = np.asarray(one["status"]) == "saturated"
+    assert sat1.any()
+    s2 = np.asarray(two["status"])
+    assert np.sum(s2 == "saturated") <= np.sum(sat1)
+    rescued = sat1 & (s2 == "ok")
+    assert rescued.any()
+    assert set(np.asarray(two["mode"])[rescued]) == {"cold6m-grism-2.4-5um"}
+    # never worse than either mode alone
+    ok = (np.asarray(one["status"]) == "ok") & (s2 == "ok")
+    assert np.all(np.asarray(two["hours_total"])[ok] <= np.asarray(one["hours_total"])[ok] + 1e-9)
+
+
+def test_empty_ranking_plot(cat, tmp_path):
+    from snrkit.plots import plot_ranking
+    t = rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20, filters={"radius_min": 100.0})
+    assert np.all(np.asarray(t["rank"]) == 0)
+    plot_ranking(t, tmp_path / "empty.png")
+    assert (tmp_path / "empty.png").stat().st_size > 1000
 
 
 def test_quick_estimate_scales_with_the_full_model(ranked):
@@ -130,6 +187,7 @@ def test_plan_turns_transits_into_dated_windows():
     system = load_system(data_path("demo", "cedar.toml"))
     plan = programme_plan(system, PRISM, test="species:CO2", start="2027-01-01", years=3,
                           resolution=30)
+    assert plan["planets"][0]["name"] == "Cedar b" and plan["planets"][0]["enough_windows"]
     for p in plan["planets"]:
         if p["enough_windows"]:
             assert len(p["windows"]) == p["transits_needed"]

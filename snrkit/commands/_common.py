@@ -6,7 +6,8 @@ import sys
 
 import numpy as np
 
-__all__ = ["add_system_args", "print_json", "jsonable"]
+__all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path",
+           "write_table"]
 
 
 def add_system_args(p):
@@ -45,3 +46,37 @@ def jsonable(x):
 def print_json(obj):
     """Print exactly one JSON object on stdout."""
     sys.stdout.write(json.dumps(jsonable(obj), indent=2, allow_nan=False) + "\n")
+
+
+def print_notes(notes, limit=8):
+    """Print the science layer's notes (warnings) on stderr, one line each."""
+    notes = list(notes or [])
+    for note in notes[:limit]:
+        sys.stderr.write(f"note: {note}\n")
+    if len(notes) > limit:
+        sys.stderr.write(f"note: ... and {len(notes) - limit} more\n")
+
+
+def check_output_path(path, suffixes, option):
+    """Check an output file name before any long computation."""
+    from pathlib import Path
+    from ..errors import InputError
+    p = Path(path)
+    if p.suffix.lower() not in suffixes:
+        raise InputError(option, str(path), "a file name ending in " + " or ".join(suffixes))
+    parent = p.parent if str(p.parent) else Path(".")
+    if not parent.is_dir():
+        raise InputError(option, str(path), "a file in an existing folder")
+    return p
+
+
+def write_table(table, path):
+    """Write an astropy Table as .ecsv (with metadata) or .csv, atomically."""
+    from pathlib import Path
+    from ..io.atomic import atomic_path
+    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}[Path(path).suffix.lower()]
+    out = table.copy()
+    if fmt == "ascii.csv":
+        out.meta = {}
+    with atomic_path(path) as tmp:
+        out.write(tmp, format=fmt, overwrite=True)

@@ -1,6 +1,6 @@
 """``snrkit contrast SYSTEM.toml --mode M --scenarios A,B,C``: transits to tell scenarios apart."""
 
-from ._common import add_system_args, print_json
+from ._common import add_system_args, print_json, print_notes
 from .transits import add_observation_args
 
 __all__ = ["add_parser", "run"]
@@ -25,6 +25,7 @@ def run(args):
                               overhead_hours=args.overhead, solver=args.solver)
     if args.json:
         print_json(res)
+        print_notes(res["notes"])
         return 0
     names = res["scenarios"]
     width = max(12, *(len(n) for n in names))
@@ -37,7 +38,6 @@ def run(args):
             for b, n in enumerate(row):
                 cells.append("-" if a == b else ("not reachable" if n is None else str(n)))
             print("  " + names[a].ljust(width) + "".join(c.rjust(width + 2) for c in cells))
-    for note in res["notes"]:
-        print(f"note: {note}")
+    print_notes(res["notes"])
     print("planning estimate; official observatory tools govern real proposals")
     return 0

@@ -1,6 +1,6 @@
 """``snrkit plan SYSTEM.toml ... --mode M``: the observing programme for a target list."""
 
-from ._common import print_json
+from ._common import print_json, print_notes, check_output_path, write_table
 
 __all__ = ["add_parser", "run"]
 
@@ -32,8 +32,18 @@ def run(args):
     from astropy.table import vstack
     from ..io.systemfile import load_system
     from ..plan import programme_plan
+    if args.out:
+        check_output_path(args.out, (".ecsv", ".csv"), "--out")
+    if args.plot:
+        check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     results, tables = [], []
+    seen = set()
     for path in args.targets:
+        from pathlib import Path
+        key = Path(path).resolve()
+        if key in seen:          # the same file twice would count its planets twice
+            continue
+        seen.add(key)
         system = load_system(path, planet=args.planet)
         res = programme_plan(system, args.mode, args.scenario, test=args.test, sigma=args.sigma,
                              start=args.start, years=args.years, observatory=args.observatory,
@@ -55,15 +65,17 @@ def run(args):
         chosen_table.meta["planets"] = [p["name"] for p in planets]
         chosen_table.meta["to_utc"] = max(t.meta.get("to_utc", "") for t in tables)
     if args.out and chosen_table is not None:
-        _write(chosen_table, args.out)
+        write_table(chosen_table, args.out)
     if args.plot and chosen_table is not None:
         from ..calendar import plot_timeline
         plot_timeline(chosen_table, args.plot, title="programme windows (planning estimate)")
     summary = {"hours_total": total, "longest_span_years": max(spans) if spans else None,
                "planets": len(planets),
                "planets_complete": int(sum(p["enough_windows"] for p in planets))}
+    notes = [n for r in results for n in r["notes"]]
     if args.json:
-        print_json({"planets": planets, "programme": summary})
+        print_json({"planets": planets, "programme": summary, "notes": notes})
+        print_notes(notes)
         return 0
     for p in planets:
         n = p["transits_needed"]
@@ -80,21 +92,8 @@ def run(args):
         else:
             print(f"  {p['reason']}")
     ls = f"{summary['longest_span_years']:.2f} years" if summary["longest_span_years"] else "-"
+    print_notes(notes)
     print(f"programme: {summary['planets_complete']} of {summary['planets']} planets complete, "
           f"{total:.1f} h, longest span {ls}")
     print("planning estimate; official observatory tools govern real proposals")
     return 0
-
-
-def _write(table, path):
-    from pathlib import Path
-    from ..errors import InputError
-    from ..io.atomic import atomic_path
-    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}.get(Path(path).suffix.lower())
-    if fmt is None:
-        raise InputError("--out", str(path), "a file ending in .ecsv or .csv")
-    out = table.copy()
-    if fmt == "ascii.csv":
-        out.meta = {}
-    with atomic_path(path) as tmp:
-        out.write(tmp, format=fmt, overwrite=True)

@@ -2,7 +2,7 @@
 
 import sys
 
-from ._common import print_json
+from ._common import print_json, print_notes
 
 __all__ = ["add_parser", "run", "ProgressBar"]
 
@@ -20,8 +20,9 @@ def add_parser(p):
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
     p.add_argument("--resolution", type=float, default=30.0, metavar="R",
                    help="resolving power of the ranking bins (default 30)")
-    p.add_argument("--sort", default="hours", metavar="KEY",
-                   help="hours (default), transits, tsm, esm, significance, or a column (-col: descending)")
+    p.add_argument("--sort", default="hours", metavar="KEY[:asc|:desc]",
+                   help="hours (default), transits, tsm, esm, significance, or a numeric column; "
+                        "append :asc or :desc to choose the direction")
     p.add_argument("--top", type=int, metavar="N", help="print only the first N ranked rows")
     p.add_argument("--radius-min", type=float, metavar="R_EARTH")
     p.add_argument("--radius-max", type=float, metavar="R_EARTH")
@@ -69,31 +70,24 @@ def _filters(args):
     return f
 
 
-def _write(table, path):
-    from pathlib import Path
-    from ..errors import InputError
-    from ..io.atomic import atomic_path
-    suffix = Path(path).suffix.lower()
-    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}.get(suffix)
-    if fmt is None:
-        raise InputError("--out", str(path), "a file ending in .ecsv or .csv")
-    out = table.copy()
-    if fmt == "ascii.csv":
-        out.meta = {}
-    with atomic_path(path) as tmp:
-        out.write(tmp, format=fmt, overwrite=True)
-
-
 def run(args):
     from ..catalog import read_catalogue
     from ..rank import rank_catalogue
+    from ..errors import InputError
+    from ._common import check_output_path, write_table
+    if args.top is not None and args.top < 1:
+        raise InputError("--top", args.top, "an integer >= 1")
+    if args.out:
+        check_output_path(args.out, (".ecsv", ".csv"), "--out")
+    if args.plot:
+        check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     cat = read_catalogue(args.catalogue, mapping=args.mapping)
     table = rank_catalogue(cat, args.mode, args.scenario, test=args.test, sigma=args.sigma,
                            n_max=args.max_transits, resolution=args.resolution,
                            sort_by=args.sort, filters=_filters(args),
                            progress=ProgressBar(not args.quiet and not args.json))
     if args.out:
-        _write(table, args.out)
+        write_table(table, args.out)
     if args.plot:
         from ..plots import plot_ranking
         plot_ranking(table, args.plot)
@@ -114,8 +108,10 @@ def run(args):
                          "hours_total": float(r["hours_total"]),
                          "limiting_term": str(r["limiting_term"]) or None})
         print_json({"rows": rows, "summary": table.meta["status_counts"],
+                    "notes": table.meta.get("notes", []),
                     "settings": {k: table.meta[k] for k in ("test", "target_sigma", "modes",
                                                             "scenarios", "resolution", "sort_by")}})
+        print_notes(table.meta.get("notes", []))
         return 0
     ranked = table[table["rank"] > 0]
     ranked.sort("rank")
@@ -129,7 +125,6 @@ def run(args):
               f"{int(r['transits_needed']):>5} {r['hours_total']:>8.1f}  {r['mode']} / {r['scenario']}")
     counts = ", ".join(f"{k}: {v}" for k, v in sorted(table.meta["status_counts"].items()))
     print(f"{table.meta['rows']} input rows -- {counts}")
-    for note in table.meta.get("notes", [])[:5]:
-        print(f"note: {note}", file=sys.stderr)
+    print_notes(table.meta.get("notes", []))
     print("planning estimate; official observatory tools govern real proposals")
     return 0

@@ -1,6 +1,6 @@
 """``snrkit transits SYSTEM.toml --mode M``: transits needed for a detection."""
 
-from ._common import add_system_args, print_json
+from ._common import add_system_args, print_json, print_notes, check_output_path
 
 __all__ = ["add_parser", "run", "add_observation_args", "parse_contamination"]
 
@@ -34,7 +34,8 @@ def parse_contamination(args):
             frac, dt = (float(x) for x in text.split(","))
         except ValueError:
             raise InputError(f"--{opt}", text, "FRACTION,TEMPERATURE_CONTRAST_K, e.g. 0.05,400") from None
-        if not 0 <= frac < 1 or dt < 0:
+        import math
+        if not (math.isfinite(frac) and math.isfinite(dt)) or not 0 <= frac < 1 or dt < 0:
             raise InputError(f"--{opt}", text, "a fraction in [0, 1) and a contrast >= 0 K")
         out[f"{key}_fraction"] = frac
         out[f"{key}_temperature_contrast"] = dt
@@ -123,6 +124,8 @@ def format_result(res):
 def run(args):
     from ..io.systemfile import load_system
     from ..transits import transits_for_system
+    if args.plot:
+        check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     system = load_system(args.system, planet=args.planet)
     fa = None if args.floor_averages is None else args.floor_averages == "yes"
     res = transits_for_system(
@@ -142,4 +145,5 @@ def run(args):
     else:
         print(format_result(res))
         print("planning estimate; official observatory tools govern real proposals")
+    print_notes(res["notes"])
     return 0

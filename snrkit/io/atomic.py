@@ -26,6 +26,10 @@ def atomic_path(path):
     ...     table.write(tmp, format="ascii.ecsv")
     """
     path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        from ..errors import InputError
+        raise InputError("output file", str(path), "a file in an existing folder")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=path.suffix or ".tmp",
                                dir=str(path.parent if str(path.parent) else "."))
     os.close(fd)
