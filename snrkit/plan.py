@@ -42,7 +42,9 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
         ``planets``: per planet ``name``, ``transits_needed``,
         ``windows`` (the chosen observable windows, ISO UTC), ``windows_found``,
         ``enough_windows``, ``hours_total`` (sum of chosen window lengths plus
-        overhead per visit), ``span_days`` / ``span_years`` (first window start
+        overhead per visit; a window includes its k-sigma timing padding, so
+        this exceeds the N (T14 + baseline + overhead) of ``snrkit transits``
+        by the padding), ``span_days`` / ``span_years`` (first window start
         to last window end), ``observable_fraction``; ``programme``: total
         hours and the longest span; ``table``: every window as an astropy Table.
     """

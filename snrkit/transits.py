@@ -60,6 +60,8 @@ def parse_test(test=None, species=None, against=None):
     given = [x is not None for x in (species, against)]
     if sum(given) > 1:
         raise InputError("test", (species, against), "only one of species or against")
+    if sum(given) and test not in (None, "atmosphere"):
+        raise InputError("test", test, "either test or the species/against keyword, not both")
     if species is not None:
         return "species", str(species)
     if against is not None:

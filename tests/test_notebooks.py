@@ -12,6 +12,8 @@ import pytest
 NOTEBOOKS = sorted((Path(__file__).resolve().parents[1] / "notebooks").glob("*.ipynb"))
 
 
+# the spectrum layer's notes (optically thick top, clamped temperatures) are warnings
+@pytest.mark.filterwarnings("ignore::snrkit.errors.SnrkitWarning")
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=[p.name for p in NOTEBOOKS])
 def test_notebook_code_cells_run(path, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)

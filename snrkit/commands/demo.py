@@ -122,7 +122,8 @@ def _chain(system, stem, out, summary):
                 lines.append(f"    {tag:<10} {rec['transits_needed']:>4} transits for "
                              f"{rec['target_sigma']:g} sigma ({rec['hours_total']:.0f} h; 90% probability: "
                              f"{rec['transits_for_probability'].get('0.9') or 'not reachable'}; "
-                             f"84th percentile over mass/radius: {s84 if s84 is not None else 'n/a'})")
+                             f"84th percentile over mass/radius: "
+                             f"{f'{s84:.0f}' if s84 is not None else 'not reachable'})")
         summary.extend(lines)
     return results
 
