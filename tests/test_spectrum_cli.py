@@ -101,3 +101,24 @@ def test_json_has_planets_list(capsys):
         assert len(p["wavelength_um"]) == len(p["transit_depth_ppm"]) > 10
         assert p["scale_height_km"] > 0 and p["annulus_ppm_per_scale_height"] > 0
         assert isinstance(p["scenario"], str)
+
+
+def test_cross_sections_option(tmp_path, capsys):
+    # A user's own H2O table (a smooth power law in wavenumber, an invented table)
+    # replaces the band model; outside its coverage the command refuses (exit 2).
+    from snrkit import cli
+    nu = np.linspace(1500.0, 20000.0, 4000)              # cm-1, 0.5-6.7 um
+    sigma = 1e-22 * (nu / 5000.0) ** 2
+    f = tmp_path / "h2o.csv"
+    f.write_text("wavenumber [cm-1],cross_section [cm2]\n"
+                 + "\n".join(f"{a},{b}" for a, b in zip(nu, sigma)))
+    cedar = str(data_path("demo", "cedar.toml"))
+    rc = cli.main(["spectrum", cedar, "--planet", "Cedar b", "--scenario", "steam",
+                   "--resolution", "20", "--range", "1", "5", "--cross-sections", f"H2O={f}",
+                   "--json"])
+    assert rc == 0
+    assert json.loads(capsys.readouterr().out)["planets"][0]["transit_depth_ppm"]
+    rc = cli.main(["spectrum", cedar, "--planet", "Cedar b", "--scenario", "steam",
+                   "--resolution", "20", "--range", "0.3", "10", "--cross-sections", f"H2O={f}"])
+    assert rc == 2
+    assert cli.main(["spectrum", cedar, "--scenario", "steam", "--cross-sections", "H2O"]) == 2

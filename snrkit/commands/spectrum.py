@@ -33,6 +33,10 @@ def add_parser(p):
                    help="limit the deepest pressure probed by refraction (layered and analytic)")
     p.add_argument("--contributions", action="store_true",
                    help="also compute the spectrum with each species removed")
+    p.add_argument("--cross-sections", action="append", metavar="SPECIES=FILE",
+                   dest="cross_sections",
+                   help="your own cross-section table for a species (repeat for several; "
+                        "layout: snrkit.atmosphere.user_opacity); it must cover --range")
     p.add_argument("--out", metavar="FILE.ecsv|FILE.nc", help="write the spectra to a file")
     p.add_argument("--plot", metavar="FILE.png", help="plot the spectra")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -218,9 +222,22 @@ def run(args):
     if args.layers is not None and args.solver != "layers":
         raise InputError("--layers", args.layers, "only with --solver layers")
     scenarios = [load_scenario(s, field="--scenario") for s in (args.scenario or [])]
+    source = None
+    if args.cross_sections:
+        from ..atmosphere.user_opacity import UserOpacitySource
+        tables = {}
+        for item in args.cross_sections:
+            species, sep, path = (part.strip() for part in item.partition("="))
+            if not sep or not species or not path:
+                raise InputError("--cross-sections", item, "SPECIES=FILE, e.g. H2O=h2o.csv")
+            if species in tables:
+                raise InputError("--cross-sections", item, "each species at most once")
+            tables[species] = path
+        source = UserOpacitySource(tables)
     ds = spectra_for_system(system, scenarios or None, wavelength_edges=edges * 1e6,
                             solver=args.solver, n_layers=args.layers,
-                            refraction=args.refraction, contributions=args.contributions)
+                            refraction=args.refraction, contributions=args.contributions,
+                            opacity_source=source)
     if args.out:
         write_spectrum(ds, args.out)
     if args.plot:
