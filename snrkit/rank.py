@@ -54,7 +54,7 @@ def _check_filters(filters):
 
 def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
                    resolution=30.0, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
-                   progress=None, overhead_hours=None):
+                   progress=None, overhead_hours=None, each_scenario=False):
     """Rank every usable row of a catalogue.
 
     Parameters
@@ -89,6 +89,11 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``progress(done, total)`` after each chunk (the CLI draws a bar).
     overhead_hours : float, optional
         Per-visit overhead.
+    each_scenario : bool
+        Rank every scenario on its own and stack the tables (one row per
+        input row and scenario, ``rank`` within the scenario) instead of
+        keeping each row's best scenario -- the best is the most optimistic
+        atmosphere, a committee may want them side by side.
 
     Returns
     -------
@@ -106,6 +111,22 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     from .transits import transits_for_system, parse_test
     from .atmosphere.scenarios import load_scenario
     from . import detect as dt
+    if each_scenario:
+        from astropy.table import vstack
+        specs = [scenarios] if isinstance(scenarios, (str, dict)) else list(scenarios)
+        parts = [rank_catalogue(catalogue, modes, [sp], test=test, sigma=sigma, n_max=n_max,
+                                resolution=resolution, sort_by=sort_by, filters=filters,
+                                chunk=chunk, progress=progress, overhead_hours=overhead_hours)
+                 for sp in specs]
+        for part in parts:               # label every row, rejected ones too
+            part["scenario"] = [part.meta["scenarios"][0]] * len(part)
+        out = vstack(parts, metadata_conflicts="silent")
+        out.meta = dict(parts[0].meta)
+        out.meta["scenarios"] = [p.meta["scenarios"][0] for p in parts]
+        out.meta["status_counts"] = {k: sum(p.meta["status_counts"].get(k, 0) for p in parts)
+                                     for k in set().union(*(p.meta["status_counts"] for p in parts))}
+        out.meta["each_scenario"] = True
+        return out
     kind, arg = parse_test(test)
     sigma = dt.check_sigma(sigma)
     filters = _check_filters(filters)

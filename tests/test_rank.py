@@ -208,3 +208,15 @@ def test_plan_cli(tmp_path, capsys):
     doc = json.loads(capsys.readouterr().out)
     assert {"planets", "programme"} <= set(doc)
     assert png.exists()
+
+
+def test_each_scenario_gives_one_row_per_planet_and_scenario(cat):
+    t = rank_catalogue(cat, PRISM, ["steam", "co2-thick"], resolution=20, each_scenario=True)
+    assert len(t) == 2 * len(cat.table)
+    assert set(np.asarray(t["scenario"])) == {"steam", "co2-thick"}
+    for sc in ("steam", "co2-thick"):
+        part = t[np.asarray(t["scenario"]) == sc]
+        ok = np.asarray(part["rank"]) > 0
+        assert ok.sum() > 0
+        np.testing.assert_array_equal(np.sort(np.asarray(part["rank"])[ok]), np.arange(1, ok.sum() + 1))
+    assert sum(t.meta["status_counts"].values()) == len(t)

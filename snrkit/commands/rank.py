@@ -14,6 +14,9 @@ def add_parser(p):
                    help="instrument mode (repeatable: the best mode per planet is kept)")
     p.add_argument("--scenario", required=True, action="append", metavar="NAME_OR_FILE",
                    help="atmosphere scenario (repeatable: the best per planet is kept)")
+    p.add_argument("--each-scenario", action="store_true",
+                   help="rank each scenario on its own (one row per planet and scenario) "
+                        "instead of keeping each planet's best scenario")
     p.add_argument("--test", default="atmosphere",
                    help="atmosphere (default), species:GAS or against:SCENARIO")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
@@ -85,7 +88,8 @@ def run(args):
     table = rank_catalogue(cat, args.mode, args.scenario, test=args.test, sigma=args.sigma,
                            n_max=args.max_transits, resolution=args.resolution,
                            sort_by=args.sort, filters=_filters(args),
-                           progress=ProgressBar(not args.quiet and not args.json))
+                           progress=ProgressBar(not args.quiet and not args.json),
+                           each_scenario=args.each_scenario)
     if args.out:
         write_table(table, args.out)
     if args.plot:
@@ -114,9 +118,10 @@ def run(args):
         print_notes(table.meta.get("notes", []))
         return 0
     ranked = table[table["rank"] > 0]
-    ranked.sort("rank")
+    ranked.sort(["scenario", "rank"] if args.each_scenario else "rank")
     if args.top:
-        ranked = ranked[:args.top]
+        import numpy as np
+        ranked = ranked[np.asarray(ranked["rank"]) <= args.top]   # per scenario with --each-scenario
     print(f"{'rank':>4}  {'planet':<16} {'R [Re]':>7} {'Teq [K]':>8} {'TSM':>7} {'quick [ppm]':>11} "
           f"{'N':>5} {'hours':>8}  mode / scenario")
     for r in ranked:
