@@ -51,12 +51,16 @@ def eccentricity_factor(ecc, omega_rad):
 
 
 def impact_parameter_from_inclination(a_over_rs, inc_rad, ecc, omega_rad):
-    """b = (a cos i / Rs) (1 - e^2) / (1 + e sin w)  (Winn 2010, eq. 7)."""
-    return a_over_rs * np.cos(inc_rad) * eccentricity_factor(ecc, omega_rad)
+    """b = (a |cos i| / Rs) (1 - e^2) / (1 + e sin w)  (Winn 2010, eq. 7).
+
+    The impact parameter is a sky-projected distance and so never negative:
+    an inclination i > 90 deg gives the same b as 180 deg - i.
+    """
+    return a_over_rs * np.abs(np.cos(inc_rad)) * eccentricity_factor(ecc, omega_rad)
 
 
 def inclination_from_impact_parameter(a_over_rs, b, ecc, omega_rad):
-    """Inverse of :func:`impact_parameter_from_inclination` [rad]."""
+    """Inverse of :func:`impact_parameter_from_inclination` [rad], in [0, 90 deg]."""
     cosi = np.asarray(b) / (a_over_rs * eccentricity_factor(ecc, omega_rad))
     return np.arccos(np.clip(cosi, -1.0, 1.0))
 
@@ -100,7 +104,10 @@ def transit_duration(period_s, a_over_rs, k, b, inc_rad, ecc, omega_rad, *, inne
     dur = (period_s / np.pi) * np.arcsin(np.clip(arg, 0.0, 1.0))
     ecc = np.asarray(ecc, dtype=np.float64)
     dur = dur * np.sqrt(1 - ecc ** 2) / (1 + ecc * np.sin(omega_rad))
-    return np.where(chord2 > 0, dur, 0.0)
+    ok = chord2 > 0
+    if inner:
+        ok = ok & (k < 1)  # a planet larger than its star has no T23 (no flat bottom)
+    return np.where(ok, dur, 0.0)
 
 
 def transit_depth(rp_m, rs_m):

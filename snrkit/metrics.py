@@ -120,7 +120,8 @@ def transmission_spectroscopy_metric(rp_m, mp_kg, rs_m, teq_K, mag_j):
 
 def _planck_lambda(wavelength_m, temperature_K):
     x = H_PLANCK * C_LIGHT / (wavelength_m * K_B * np.asarray(temperature_K))
-    return 2 * H_PLANCK * C_LIGHT ** 2 / wavelength_m ** 5 / np.expm1(x)
+    with np.errstate(over="ignore"):  # very cold planets: B -> 0, ESM -> 0
+        return 2 * H_PLANCK * C_LIGHT ** 2 / wavelength_m ** 5 / np.expm1(x)
 
 
 def emission_spectroscopy_metric(rp_m, rs_m, teq_K, teff_K, mag_k):

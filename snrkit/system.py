@@ -17,11 +17,12 @@ import astropy.units as u
 from . import geometry as geo
 from . import metrics as met
 from .constants import R_SUN, M_SUN, R_EARTH, M_EARTH, G, AU, HOUR
-from .errors import InputError, NoTransitError, GrazingTransitWarning
+from .errors import InputError, NoTransitError, GrazingTransitWarning, SnrkitWarning
 from .units import to_si, as_float_array, check_range
 
 __all__ = ["Star", "Planet", "System", "TEFF_RANGE_K", "BANDS",
-           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "derive"]
+           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "KEPLER_TOLERANCE",
+           "derive"]
 
 #: Supported stellar effective temperatures [K] (the Planck/photometry layer
 #: and the metrics are meaningful over this range).
@@ -31,6 +32,10 @@ BANDS = ("V", "J", "H", "Ks")
 #: Mean molecular weight [g/mol] used when a planet has no atmosphere given
 #: (solar H2/He; Kempton et al. 2018 use 2.3 for their TSM).
 DEFAULT_MEAN_MOLECULAR_WEIGHT = 2.3
+#: Relative difference between a given semi-major axis and Kepler's third
+#: law (period, star + planet mass) above which System warns (common
+#: practice, no source).
+KEPLER_TOLERANCE = 0.10
 #: Largest accepted planet radius [R_earth] (about 5.4 R_jup; larger values
 #: are almost always a unit mistake).
 PLANET_RADIUS_MAX_EARTH = 60.0
@@ -118,6 +123,17 @@ class Star(_Frozen):
         if mass is not None:
             m = to_si(mass, "star.mass", u.M_sun, 0.0, None, low_inclusive=False)
             from_logg = False
+            # the same log g range as a given log_gravity (catches unit slips)
+            _size(rad, m)  # a clear error for arrays of different lengths
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                lg_m = np.atleast_1d(np.log10(G * m / rad ** 2 * 100.0))
+            bad = ~((lg_m >= 0.0) & (lg_m <= 9.0))
+            if np.any(bad):
+                i = int(np.flatnonzero(np.ravel(bad))[0])
+                m_i = np.broadcast_to(m, lg_m.shape)[i]
+                raise InputError("star.mass", f"{m_i / M_SUN:.4g} M_sun",
+                                 "a mass giving a log g in [0, 9] (cgs) with the star's radius",
+                                 detail=f"log g would be {lg_m[i]:.3g}")
         else:
             lg = as_float_array(logg, "star.log_gravity")
             check_range(lg, "star.log_gravity", 0.0, 9.0, unit_label="dex (cgs)")
@@ -219,8 +235,10 @@ class Planet(_Frozen):
     eccentricity : float or array, optional
         In [0, 1); default 0.
     periastron_argument : Quantity, float or array, optional
-        Argument of periastron of the planet's orbit, default unit deg,
-        default 90 (the value at which e changes nothing at transit).
+        Argument of periastron of the planet's orbit (Winn 2010 convention:
+        the transit happens at true anomaly 90 deg - w), default unit deg,
+        default 90 (common practice, no source; with e > 0 it puts the
+        transit at periastron, which shortens T14 by sqrt(1 - e^2) / (1 + e)).
     transit_midtime : float or array, optional
         A mid-transit time, BJD_TDB (days).
     transit_midtime_uncertainty, period_uncertainty : optional
@@ -228,7 +246,8 @@ class Planet(_Frozen):
     albedo : float or array, optional
         Bond albedo for Teq (default 0).
     redistribution : float or array, optional
-        Heat-redistribution factor f for Teq (default 1/4, full).
+        Heat-redistribution factor f for Teq, in [1/4, 2/3] (default 1/4,
+        full redistribution; 1/2 uniform dayside; 2/3 instant re-radiation).
     name : str or sequence of str, optional
         Planet names.
     """
@@ -365,25 +384,35 @@ class System(_Frozen):
         later stages.
     observations : sequence of dict, optional
         Raw per-planet observation descriptions.
+    warn_kepler : bool, optional
+        Warn where a given semi-major axis disagrees with Kepler's third
+        law by more than :data:`KEPLER_TOLERANCE` (default False: catalogues
+        flag rows instead; system files warn).  The per-planet flags are in
+        :attr:`kepler_mismatch` either way.
 
     Raises
     ------
     NoTransitError
         Where b >= 1 + Rp/Rs.
     InputError
-        Inconsistent inputs (e.g. a semi-major axis inside the star).
+        Inconsistent inputs (e.g. a semi-major axis, or an eccentric
+        orbit's periastron, inside the star, or Rp >= R_star).
 
     Warns
     -----
     GrazingTransitWarning
         Where 1 - Rp/Rs < b < 1 + Rp/Rs (T23 = 0).
+    SnrkitWarning
+        With ``warn_kepler``, where a given semi-major axis differs from
+        Kepler's third law by more than :data:`KEPLER_TOLERANCE`.
     """
 
     __slots__ = ("_n", "star", "planet", "_a", "_b", "_inc", "_mu", "_tatm", "_tfac",
-                 "atmospheres", "observations", "grazing")
+                 "atmospheres", "observations", "grazing", "kepler_mismatch")
 
     def __init__(self, star, planet, mean_molecular_weight=None, atmosphere_temperature=None,
-                 atmosphere_temperature_factor=1.0, atmospheres=None, observations=None):
+                 atmosphere_temperature_factor=1.0, atmospheres=None, observations=None,
+                 warn_kepler=False):
         if not isinstance(star, Star):
             raise InputError("star", type(star).__name__, "a snrkit.Star")
         if not isinstance(planet, Planet):
@@ -417,8 +446,35 @@ class System(_Frozen):
             i = int(np.flatnonzero(inside)[0])
             raise InputError(f"planet.semi_major_axis ({planet.name[i]})", f"{a[i] / AU:.4g} au",
                              "an orbit outside the star (a > R_star + R_planet)")
+        # An eccentric orbit must also keep its periastron outside the star
+        # (otherwise b, i and the durations have no meaning).
+        peri_inside = a * (1 - planet._ecc) <= rs + planet._radius
+        if peri_inside.any():
+            i = int(np.flatnonzero(peri_inside)[0])
+            raise InputError(f"planet.eccentricity ({planet.name[i]})", f"{planet._ecc[i]:.4g}",
+                             f"e < 1 - (R_star + R_planet) / a = "
+                             f"{1 - (rs[i] + planet._radius[i]) / a[i]:.4g}",
+                             detail="the periastron a (1 - e) would lie inside the star")
+        given = ~miss
+        a_kep = geo.semi_major_axis_from_period(planet._period, ms + planet._mass)
+        self._set("kepler_mismatch", given & (np.abs(a / a_kep - 1) > KEPLER_TOLERANCE))
+        if warn_kepler and self.kepler_mismatch.any():
+            off = self.kepler_mismatch
+            names_off = planet.name[off]
+            shown = ", ".join(names_off[:5]) + (f" and {off.sum() - 5} more" if off.sum() > 5 else "")
+            warnings.warn(f"semi-major axis of {shown} differs by more than "
+                          f"{KEPLER_TOLERANCE:.0%} from Kepler's third law with the period "
+                          "and the star's mass; the given value is used", SnrkitWarning,
+                          stacklevel=2)
         aor = a / rs
         k = planet._radius / rs
+        too_big = k >= 1
+        if too_big.any():
+            i = int(np.flatnonzero(too_big)[0])
+            raise InputError(f"planet.radius ({planet.name[i]})",
+                             f"{planet._radius[i] / R_EARTH:.4g} R_earth",
+                             f"a radius below the star's ({rs[i] / R_EARTH:.4g} R_earth)",
+                             detail="transmission estimates need Rp/Rs < 1")
         b = planet._b.copy()
         inc = planet._inc.copy()
         from_inc = np.isnan(b)

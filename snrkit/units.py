@@ -24,7 +24,8 @@ def parse_quantity(value, field, default_unit):
     ----------
     value : float, array_like, str or astropy.units.Quantity
         A number (taken in ``default_unit``), a string ``"<number> <unit>"``
-        parsed by astropy, or a Quantity.
+        parsed by astropy (a string holding only a number is taken in
+        ``default_unit`` too), or a Quantity.
     field : str
         Name used in error messages.
     default_unit : astropy.units.UnitBase or str
@@ -45,6 +46,11 @@ def parse_quantity(value, field, default_unit):
     unit = u.Unit(default_unit)
     if isinstance(value, str):
         text = value.strip()
+        try:
+            # a bare number written as text ("1.2") is read in the default unit
+            return u.Quantity(float(text), unit, dtype=np.float64)
+        except ValueError:
+            pass
         try:
             q = u.Quantity(text)
         except (TypeError, ValueError) as exc:

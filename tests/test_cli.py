@@ -72,6 +72,23 @@ def test_bad_input_exits_2_with_one_line(capsys, tmp_path):
     assert "Traceback" not in err
 
 
+@pytest.mark.parametrize("content", [
+    b'[star]\nname = "\xff"\n',                                     # not UTF-8
+    b'[star]\neffective_temperature = 5000\nradius = 1\nmass = 1\n'
+    b'[[planet]]\nname = "x"\nradius = 2\nperiod = 10\ninclination = 170\n',  # b = 22
+    b'[star]\neffective_temperature = 5000\nradius = 0.8\nmass = 0.8\n'
+    b'[[planet]]\nname = "x"\nradius = 2\nperiod = 1\neccentricity = 0.8\n',  # periastron in star
+    b'[star]\neffective_temperature = 5000\nradius = 1\nmass = 1\n'
+    b'[[planet]]\nname = "x"\nradius = [2, 3]\nperiod = 10\n',                # two values
+])
+def test_more_bad_files_exit_2(capsys, tmp_path, content):
+    f = tmp_path / "bad.toml"
+    f.write_bytes(content)
+    rc, out, err = run_cli(capsys, "describe", str(f), "--json")
+    assert rc == 2 and out == ""
+    assert err.startswith("error: ") and err.count("\n") == 1
+
+
 def test_user_written_file(capsys, tmp_path):
     f = tmp_path / "mine.toml"
     f.write_text('[star]\nname = "Mine"\neffective_temperature = "3300 K"\nradius = 0.3\n'

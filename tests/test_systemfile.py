@@ -137,3 +137,55 @@ def test_demo_files_load():
         s = load_system(f)
         d = s.derived_arrays()
         assert np.all(np.isfinite(d["t14_s"])) and np.all(d["t14_s"] > 0)
+
+
+def test_one_value_per_key():
+    # a system file describes one star and one value per planet key: a list is
+    # an error, not a hidden second planet with the same name
+    with pytest.raises(InputError) as err:
+        read_system_text(STAR + planet_block().replace('"1.5 earthRad"', "[1.5, 2.0]"))
+    assert "planet.radius" in err.value.field and "one value" in err.value.allowed
+    with pytest.raises(InputError) as err:
+        read_system_text(STAR.replace("J = 9.0", "J = [9.0, 8.0]") + planet_block())
+    assert err.value.field == "star.magnitudes.J"
+    with pytest.raises(InputError) as err:
+        read_system_text(STAR.replace("mass = 0.33", "mass = [0.33, 0.4]") + planet_block())
+    assert err.value.field == "star.mass"
+
+
+def test_number_written_as_text_takes_the_default_unit():
+    s = read_system_text(STAR + planet_block().replace('"1.5 earthRad"', '"1.5"'))
+    assert s.planet.radius.to_value(u.R_earth)[0] == pytest.approx(1.5)
+
+
+def test_file_that_is_not_utf8(tmp_path):
+    f = tmp_path / "latin.toml"
+    f.write_bytes(b'[star]\nname = "\xff\xfe"\n')
+    with pytest.raises(InputError) as err:
+        load_system(f)
+    assert "UTF-8" in err.value.allowed
+
+
+def test_planet_option_warns_only_about_that_planet(tmp_path, recwarn):
+    from snrkit.errors import GrazingTransitWarning
+    # one-letter names, which also occur inside the warning texts
+    graze = planet_block(name="g").replace("impact_parameter = 0.2", "impact_parameter = 1.0")
+    f = tmp_path / "sys.toml"
+    f.write_text(STAR + planet_block(name="b") + graze)
+    b = load_system(f, planet="b")
+    assert list(b.names) == ["b"]
+    assert not [w for w in recwarn if issubclass(w.category, GrazingTransitWarning)]
+    with pytest.warns(GrazingTransitWarning, match="for g"):
+        load_system(f, planet="g")
+    # an error in a planet that is not chosen is still an error
+    with pytest.raises(InputError):
+        f.write_text(STAR + planet_block(name="b") + planet_block(name="x", extra="albedo = 2"))
+        load_system(f, planet="b")
+
+
+def test_semi_major_axis_inconsistent_with_period_warns():
+    from snrkit.errors import SnrkitWarning
+    # Kepler's third law for 0.33 M_sun and 6 d gives 0.0447 au; 0.5 au is a slip
+    with pytest.warns(SnrkitWarning, match="Kepler"):
+        s = read_system_text(STAR + planet_block("semi_major_axis = 0.5"))
+    assert s.kepler_mismatch[0]

@@ -36,7 +36,8 @@ SPECIES = tuple(species_molar_masses())
 
 def _check_species(name, field):
     if name not in SPECIES:
-        close = difflib.get_close_matches(name, SPECIES, n=1)
+        same = [sp for sp in SPECIES if sp.lower() == name.lower()]  # "h2o" -> "H2O"
+        close = same or difflib.get_close_matches(name, SPECIES, n=1)
         hint = f"did you mean {close[0]!r}?" if close else ""
         raise InputError(field, name, "one of " + ", ".join(SPECIES), detail=hint)
 
@@ -51,8 +52,9 @@ def normalise_mixing_ratios(mixing_ratios, fill_gas=None, field="mixing_ratios")
         broadcast over a leading planet axis.
     fill_gas : str, optional
         Species that takes the remainder ``1 - sum(x)``.  Without it the
-        ratios must sum to one within 1e-3 (rounded file values) and are
-        renormalised to sum exactly to one.
+        ratios must sum to between 1 - 1e-3 and 1 + :data:`SUM_TOLERANCE`
+        (rounded file values) and are renormalised to sum exactly to one.
+        A sum above 1 + :data:`SUM_TOLERANCE` is always an error.
     field : str
         Name used in error messages.
 

@@ -118,6 +118,12 @@ def _check_keys(table, allowed, where):
                                   "keys " + ", ".join(allowed), detail=hint)
 
 
+def _check_scalar(value, field):
+    """A system file describes one star and one planet per entry: no arrays."""
+    if isinstance(value, (list, dict)):
+        raise InputError(field, value, "one value: a number or a '<number> <unit>' text")
+
+
 def _star_from_table(tbl, source):
     if not isinstance(tbl, dict):
         raise InputError("star", tbl, "a [star] table")
@@ -133,6 +139,10 @@ def _star_from_table(tbl, source):
             if not isinstance(value, dict):
                 raise InputError("star.magnitudes", value, "a table such as { J = 9.1, Ks = 8.7 }")
             _check_keys(value, {b: None for b in BANDS}, "star.magnitudes")
+            for band, mag in value.items():
+                _check_scalar(mag, f"star.magnitudes.{band}")
+        else:
+            _check_scalar(value, f"star.{key}")
         kwargs[arg] = value
     return Star(**kwargs)
 
@@ -164,10 +174,17 @@ def read_system_text(text, source="<text>"):
     -------
     System
     """
+    return _system_from_doc(_parse(text, source), source)
+
+
+def _parse(text, source):
     try:
-        doc = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(source, "TOML", "a valid TOML file", detail=str(exc)) from None
+
+
+def _system_from_doc(doc, source):
     _check_keys(doc, TOP_KEYS, "file")
     if "star" not in doc:
         raise InputError("star", None, "a [star] table", detail=f"missing in {source}")
@@ -189,6 +206,9 @@ def read_system_text(text, source="<text>"):
         if name in names:
             raise InputError(f"planet[{i}].name", name, "a name not used by another planet")
         names.append(name)
+        for key, value in tbl.items():
+            if PLANET_KEYS[key][0] is not None:
+                _check_scalar(value, f"planet.{key} ({name})")
         for req in ("radius", "period"):
             if req not in tbl:
                 raise InputError(f"planet.{req} ({name})", None,
@@ -217,7 +237,7 @@ def read_system_text(text, source="<text>"):
     return System(star, planet, mean_molecular_weight=np.array(mus),
                   atmosphere_temperature=np.array(temps),
                   atmosphere_temperature_factor=np.array(factors),
-                  atmospheres=atms, observations=obs)
+                  atmospheres=atms, observations=obs, warn_kepler=True)
 
 
 def _stack_planets(singles):
@@ -260,8 +280,16 @@ def load_system(path, planet=None):
         raise InputError("SYSTEM", str(path), "an existing system file") from None
     except IsADirectoryError:
         raise InputError("SYSTEM", str(path), "a file, not a folder") from None
-    system = read_system_text(text, source=str(path))
-    if planet is not None:
-        with warnings.catch_warnings():
-            system = system.select(planet)
-    return system
+    except UnicodeDecodeError as exc:
+        raise InputError("SYSTEM", str(path), "a UTF-8 text file (TOML)",
+                         detail=f"byte {exc.start} cannot be decoded") from None
+    if planet is None:
+        return read_system_text(text, source=str(path))
+    # Validate the whole file quietly (errors anywhere in it are errors), then
+    # build only the chosen planet, so that warnings are about it alone.
+    doc = _parse(text, str(path))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        _system_from_doc(doc, str(path)).select(planet)
+    doc["planet"] = [p for p in doc["planet"] if p.get("name") == planet]
+    return _system_from_doc(doc, str(path))
