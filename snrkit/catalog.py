@@ -125,6 +125,9 @@ Estimates (flag columns, one per row, in :data:`FLAG_COLUMNS`)
   for a circular orbit and a solar-metallicity default).
 * ``equilibrium_temperature_estimated``: Teq from the star.
 * ``grazing``: 1 - Rp/Rs < b < 1 + Rp/Rs (usable, but T23 = 0).
+* ``kepler_mismatch``: a given semi-major axis differs from Kepler's third
+  law for the given period and masses by more than
+  :data:`snrkit.system.KEPLER_TOLERANCE` (the given value is used).
 """
 
 import difflib
@@ -222,7 +225,7 @@ STATUS_CODES = {
 FLAG_COLUMNS = ("mass_estimated", "period_estimated", "semi_major_axis_estimated",
                 "star_mass_from_log_gravity", "impact_parameter_from_inclination",
                 "impact_parameter_assumed", "eccentricity_assumed",
-                "equilibrium_temperature_estimated", "grazing")
+                "equilibrium_temperature_estimated", "grazing", "kepler_mismatch")
 
 #: file extension -> astropy reader format; ``format=`` also accepts the keys
 #: ``"csv"``, ``"ecsv"``, ``"votable"``.
@@ -724,6 +727,10 @@ def catalogue_from_table(table, mapping=None, *, source="<table>"):
                 st.reason[i] = str(exc)
         good = np.flatnonzero(st.code == "ok")
         system = _build_system(good, inputs, strict=True)
+    # a given semi-major axis that disagrees with Kepler's third law (flag only)
+    flags["kepler_mismatch"] = np.zeros(n, dtype=bool)
+    if system is not None and good.size:
+        flags["kepler_mismatch"][good] = system.kepler_mismatch
 
     # --- output tables
     out = table.copy(copy_data=True)

@@ -38,6 +38,12 @@ def equilibrium_temperature(teff_K, rs_m, a_m, albedo=0.0, redistribution=0.25):
         *Exoplanet Atmospheres*, eq. 3.9; Kempton et al. 2018 use f = 1/4,
         A = 0 for the TSM).
 
+    Notes
+    -----
+    For an eccentric orbit this uses the semi-major axis (the usual
+    convention), whereas :func:`insolation` is the orbit average, larger by
+    1 / sqrt(1 - e^2).
+
     Returns
     -------
     numpy.ndarray

@@ -491,3 +491,17 @@ def test_row_order_does_not_change_any_planet(demo_table, rnd):
     np.testing.assert_array_equal(b.status, a.status[perm])
     np.testing.assert_allclose(np.asarray(b.derived()["tsm"]), np.asarray(a.derived()["tsm"])[perm],
                                rtol=1e-12, equal_nan=True)
+
+
+def test_kepler_mismatch_is_flagged_per_row():
+    # A given semi-major axis 3x Kepler's value for its period is flagged, not rejected
+    # (Kepler's third law with astropy constants; 10% tolerance: common practice, no source).
+    from astropy.table import Table
+    from snrkit.catalog import catalogue_from_table
+    t = Table({"planet_name": ["a", "b"], "planet_radius_earth": [2.0, 2.0],
+               "period_days": [10.0, 10.0], "semi_major_axis_au": [np.nan, 0.25],
+               "impact_parameter": [0.1, 0.1], "star_teff_K": [4500.0, 4500.0],
+               "star_radius_sun": [0.7, 0.7], "star_mass_sun": [0.7, 0.7]})
+    cat = catalogue_from_table(t)
+    assert list(cat.status) == ["ok", "ok"]
+    assert list(np.asarray(cat.table["kepler_mismatch"])) == [False, True]
