@@ -181,6 +181,22 @@ def test_kopparapu_solar_habitable_zone():
     assert np.isfinite(met.habitable_zone_fluxes(2600.0)["early_mars"])
 
 
+def test_kopparapu_limits_for_an_m_dwarf():
+    # The authors' online habitable-zone calculator for Kopparapu et al. 2014 (Virtual
+    # Planetary Laboratory, Univ. of Washington) gives, for Teff = 3700 K and
+    # L = 0.04 L_sun: recent Venus 0.163 au, runaway greenhouse 0.207 au, maximum
+    # greenhouse 0.398 au, early Mars 0.419 au, and for the Sun 0.750 / 0.950 / 1.676 au
+    # (values as quoted to three decimals in a public test suite of that calculator).
+    # d = sqrt(L / S_eff) exercises every polynomial coefficient away from 5780 K.
+    for teff, lum, ref in ((3700.0, 0.04, (0.163, 0.207, 0.398, 0.419)),
+                           (5780.0, 1.0, (0.750, 0.950, 1.676, None))):
+        lim = met.habitable_zone_fluxes(teff)
+        got = [np.sqrt(lum / lim[k]) for k in met.HZ_LIMITS]
+        for g, r in zip(got, ref):
+            if r is not None:
+                assert g == pytest.approx(r, abs=1.5e-3)
+
+
 def test_habitable_zone_positions_for_the_earth_and_neighbours():
     # With the Kopparapu et al. 2014 limits (Table 1) the Earth (S = 1) and Mars
     # (S = 0.43, at 1.52 au inside the 1.67 au maximum-greenhouse limit) lie in
