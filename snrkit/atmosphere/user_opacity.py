@@ -81,6 +81,7 @@ import numpy as np
 import astropy.units as u
 
 from ..errors import InputError, UnitMismatchError, UnknownKeyError
+from .user_spectrum import _format_for  # same file-type rules as user spectra
 
 __all__ = ["MIN_POINTS", "OUTSIDE_POLICIES", "read_cross_sections", "sorted_k_distribution",
            "UserOpacitySource"]
@@ -106,22 +107,6 @@ _PER_MOLECULE = re.compile(r"\s*(/\s*molec(ule)?s?|molec(ule)?s?\s*(\^|\*\*)?\s*
 # --------------------------------------------------------------------------
 # reading
 # --------------------------------------------------------------------------
-
-def _format_for(path, fmt):
-    if fmt is not None:
-        allowed = ("csv", "ecsv", "fits", "text")
-        if fmt not in allowed:
-            raise InputError("format", fmt, ", ".join(allowed))
-        return fmt
-    name = path.name.lower()
-    if name.endswith(".csv"):
-        return "csv"
-    if name.endswith(".ecsv"):
-        return "ecsv"
-    if name.endswith((".fits", ".fit", ".fits.gz", ".fts")):
-        return "fits"
-    return "text"
-
 
 def _read_text(path, field):
     """Plain text: returns (names, units, 2-D float array, first data line numbers)."""
