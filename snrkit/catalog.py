@@ -103,7 +103,8 @@ value outside its field's range (negative or zero sizes, Teff outside
 those :class:`~snrkit.system.Star` and :class:`~snrkit.system.Planet`
 enforce), ``missing_mass`` (no mass and a radius at or above
 :data:`snrkit.metrics.MASS_RADIUS_MAX_EARTH_RADII`, beyond the mass-radius
-relation), ``inside_star`` (a <= R_star + R_planet) and ``no_transit``
+relation), ``inside_star`` (a or the periastron distance a(1 - e) <= R_star +
+R_planet; a planet radius >= the star's is ``bad_value``) and ``no_transit``
 (b >= 1 + Rp/Rs).  Usable rows have status ``ok``.  Two paths loop over rows,
 and only where needed: a text column that is not all numbers is read entry by
 entry, and if :class:`~snrkit.system.System` ever rejected the screened rows
@@ -676,6 +677,10 @@ def catalogue_from_table(table, mapping=None, *, source="<table>"):
         a_est = np.isnan(a_given) & ~np.isnan(per_given)
         period = np.where(per_est, geo.period_from_semi_major_axis(a_given, ms + mp), per_given)
         a = np.where(a_est, geo.semi_major_axis_from_period(per_given, ms + mp), a_given)
+        st.mark(rp >= rs, "bad_value",
+                lambda m: np.char.add(np.char.add(np.char.add(
+                    "planet radius ", _fmt(rp[m] / R_EARTH)), " earthRad is not smaller than the star's "),
+                    np.char.add(_fmt(rs[m] / R_EARTH), " earthRad")))
         st.mark(a <= rs + rp, "inside_star",
                 lambda m: np.char.add(np.char.add(np.char.add(
                     "semi-major axis ", _fmt(a[m] / AU)), " au is inside the star (R_star + R_planet = "),
@@ -685,6 +690,13 @@ def catalogue_from_table(table, mapping=None, *, source="<table>"):
         ecc = np.where(ecc_assumed, 0.0, ecc_raw)
         omega = np.radians(np.where(np.isnan(get("planet.periastron_argument")), 90.0,
                                     get("planet.periastron_argument")))
+        with np.errstate(invalid="ignore"):
+            periastron = a * (1 - ecc)
+        st.mark(periastron <= rs + rp, "inside_star",
+                lambda m: np.char.add(np.char.add(np.char.add(
+                    "periastron distance a(1 - e) = ", _fmt(periastron[m] / AU)),
+                    " au is inside the star (R_star + R_planet = "),
+                    np.char.add(_fmt((rs[m] + rp[m]) / AU), " au)")))
         b_given = get("planet.impact_parameter")
         inc = np.radians(get("planet.inclination"))
         b_from_inc = np.isnan(b_given) & ~np.isnan(inc)

@@ -505,3 +505,19 @@ def test_kepler_mismatch_is_flagged_per_row():
     cat = catalogue_from_table(t)
     assert list(cat.status) == ["ok", "ok"]
     assert list(np.asarray(cat.table["kepler_mismatch"])) == [False, True]
+
+
+def test_geometry_the_system_model_rejects_is_screened_per_row():
+    # Rows that snrkit.system.System would refuse (periastron inside the star; a planet
+    # larger than its star) get a status here, without the slow one-by-one path.
+    from astropy.table import Table
+    from snrkit.catalog import catalogue_from_table
+    t = Table({"planet_name": ["ok", "ecc", "big"], "planet_radius_earth": [2.0, 2.0, 2.0],
+               "planet_mass_earth": [5.0, 5.0, 5.0], "period_days": [10.0, 1.0, 10.0],
+               "eccentricity": [0.0, 0.9, 0.0], "impact_parameter": [0.1, 0.1, 0.1],
+               "star_teff_K": [4500.0, 4500.0, 4500.0], "star_radius_sun": [0.7, 0.7, 0.01],
+               "star_mass_sun": [0.7, 0.7, 0.7]})
+    cat = catalogue_from_table(t)
+    assert list(cat.status) == ["ok", "inside_star", "bad_value"]
+    assert "periastron" in cat.reason[1] and "not smaller" in cat.reason[2]
+    assert cat.system is not None and len(cat.system) == 1
