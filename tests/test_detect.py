@@ -21,14 +21,16 @@ def test_wilks_one_dof_is_sqrt_delta_chi2():
     np.testing.assert_allclose(dt.significance_from_delta_chi2(q, 1), np.sqrt(q), rtol=1e-12)
 
 
-def test_flat_line_p_values_against_scipy_chi2():
-    # The significance of a chi^2 with nu dof is the two-sided Gaussian equivalent of
-    # scipy.stats.chi2.sf (the same p-value).
+def test_goodness_of_fit_p_values_against_scipy_chi2():
+    # A goodness-of-fit chi^2 with nu dof: Z is the one-sided Gaussian equivalent of
+    # the p-value scipy.stats.chi2.sf (p >= 1/2 is Z = 0, never a fraction of a sigma).
     for nu in (2, 10, 39, 150):
         x = np.array([0.5 * nu, nu, 2 * nu, 4 * nu + 30])
         p = stats.chi2.sf(x, nu)
         z = dt.significance_from_delta_chi2(x, nu)
-        np.testing.assert_allclose(2 * stats.norm.sf(z), p, rtol=1e-8)
+        np.testing.assert_allclose(np.where(p < 0.5, stats.norm.sf(z), 0.5), np.minimum(p, 0.5),
+                                   rtol=1e-8)
+        assert np.all(z[p >= 0.5] == 0.0)
 
 
 def test_far_tail_is_continuous():
@@ -48,20 +50,34 @@ def test_critical_value_round_trip():
 
 
 def test_detection_probability_against_scipy_ncx2():
-    # scipy.stats.ncx2: P(chi'^2(nu, lambda) > crit)
-    for nu, lam in ((1, 30.0), (12, 80.0), (39, 150.0)):
-        crit = stats.chi2.isf(2 * stats.norm.sf(3.0), nu)
+    # Goodness of fit: scipy.stats.ncx2, P(chi'^2(nu, lambda) > crit), crit at the
+    # one-sided tail Phi(-Z).
+    for nu, lam in ((12, 80.0), (39, 150.0)):
+        crit = stats.chi2.isf(stats.norm.sf(3.0), nu)
         assert dt.detection_probability(lam, 3.0, nu) == pytest.approx(stats.ncx2.sf(crit, nu, lam))
-    # 1 dof closed form: Phi(sqrt(l) - Z) + Phi(-sqrt(l) - Z)
-    lam = 20.0
-    ref = stats.norm.cdf(np.sqrt(lam) - 4.0) + stats.norm.cdf(-np.sqrt(lam) - 4.0)
-    assert dt.detection_probability(lam, 4.0, 1) == pytest.approx(ref, rel=1e-9)
+    # One-sided q0 (Cowan et al. 2011, Eur. Phys. J. C 71, 1554, Sec. 3.5): the fitted
+    # amplitude is Gaussian, P = Phi(sqrt(l) - Z).  The two-sided noncentral chi^2 with
+    # 1 dof adds the wrong-sign tail Phi(-sqrt(l) - Z): check the relation with scipy.
+    for lam, z in ((20.0, 4.0), (30.0, 3.0), (1.0, 2.0)):
+        one = dt.detection_probability(lam, z, 1)
+        two = stats.ncx2.sf(z ** 2, 1, lam)
+        assert one == pytest.approx(two - stats.norm.cdf(-np.sqrt(lam) - z), rel=1e-9)
+        assert one == pytest.approx(stats.norm.cdf(np.sqrt(lam) - z), rel=1e-12)
 
 
 def test_noncentrality_for_probability_inverts():
+    # chndtrinc (goodness of fit) and the closed form (1 dof) invert the probabilities;
+    # the goodness-of-fit value against scipy.stats.ncx2 by root finding.
+    from scipy.optimize import brentq
     for p in (0.1, 0.5, 0.9):
-        lam = dt.noncentrality_for_probability(p, 5.0, 7)
-        assert dt.detection_probability(lam, 5.0, 7) == pytest.approx(p, abs=1e-8)
+        for nu in (1, 7):
+            lam = dt.noncentrality_for_probability(p, 5.0, nu)
+            assert dt.detection_probability(lam, 5.0, nu) == pytest.approx(p, abs=1e-8)
+        crit = stats.chi2.isf(stats.norm.sf(5.0), 7)
+        ref = brentq(lambda x: stats.ncx2.sf(crit, 7, x) - p, 1e-6, 1e4, xtol=1e-12)
+        assert float(dt.noncentrality_for_probability(p, 5.0, 7)) == pytest.approx(ref, rel=1e-7)
+    # 1 dof at P = 1/2 is exactly Z^2: the median of q0 is the Asimov value.
+    assert float(dt.noncentrality_for_probability(0.5, 5.0, 1)) == pytest.approx(25.0, rel=1e-12)
 
 
 def test_profiled_offset_matches_mean_subtraction():
@@ -156,7 +172,8 @@ def test_monte_carlo_flat_line_rejection_matches_ncx2():
 
 def test_monte_carlo_template_amplitude_matches_one_dof():
     # Molecule-style test: amplitude of the residual template plus an offset fitted;
-    # q = (mu_hat / sigma_mu)^2 follows ncx2(1, lambda) (Cowan et al. 2011, Sec. 3.3).
+    # q0 = (mu_hat / sigma_mu)^2 for mu_hat > 0, else 0 (Cowan et al. 2011, Sec. 3.5):
+    # P(q0 > Z^2) = Phi(sqrt(lambda) - Z).
     rng = np.random.default_rng(7)
     r = feature(30.0)
     sig = 20.0
@@ -165,8 +182,8 @@ def test_monte_carlo_template_amplitude_matches_one_dof():
     data = r + rng.normal(0.0, sig, size=(20000, r.size))
     coef, *_ = np.linalg.lstsq(x, data.T, rcond=None)
     cov = np.linalg.inv(x.T @ x) * sig ** 2
-    q = coef[1] ** 2 / cov[1, 1]
-    frac = np.mean(q > 9.0)
+    q0 = np.where(coef[1] > 0, coef[1] ** 2 / cov[1, 1], 0.0)   # one-sided q0
+    frac = np.mean(q0 > 9.0)
     pred = dt.detection_probability(lam, 3.0, 1)
     assert frac == pytest.approx(pred, abs=4 * np.sqrt(pred * (1 - pred) / 20000) + 1e-3)
 
@@ -256,7 +273,7 @@ def test_transits_for_probability_against_monte_carlo():
         data = r + rng.normal(0.0, sig, size=(20000, r.size))
         coef, *_ = np.linalg.lstsq(x, data.T, rcond=None)
         var = np.linalg.inv(x.T @ x)[1, 1] * sig ** 2
-        return np.mean(coef[1] ** 2 / var > 9.0)
+        return np.mean((coef[1] > 0) & (coef[1] ** 2 / var > 9.0))
     tol = 3 * np.sqrt(0.09 / 20000)
     assert fraction(n90) >= 0.9 - tol
     assert fraction(n90 - 1) < 0.9 + tol

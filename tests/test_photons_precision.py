@@ -251,14 +251,19 @@ def test_floor_averages_down_or_not():
     fixed = quiet(**kw, floor_averages_down=False)["noise_ppm"].values
     down = quiet(**kw, floor_averages_down=True)["noise_ppm"].values
     one = quiet(**{**kw, "n_transits": 1})
-    white = np.sqrt(one["noise_ppm_per_transit"].values ** 2 - 30.0**2)
+    # the floor is per resolution element; a native bin spans s_total / floor(s_total)
+    # elements, just over one, so its floor is 30 / sqrt(k)
+    k = one["resolution_elements"].values
+    assert np.all((k >= 1.0) & (k < 1.01))
+    f = 30.0 / np.sqrt(k)
+    white = np.sqrt(one["noise_ppm_per_transit"].values ** 2 - f**2)
     assert np.isfinite(white).all() and (white > 1.0).all()
-    np.testing.assert_allclose(fixed, np.sqrt(white**2 / 1e4 + 30.0**2))
-    np.testing.assert_allclose(down, np.sqrt(white**2 / 1e4 + 0.3**2))
-    assert (one["noise_budget_ppm"].sel(term="floor").values == 30.0).all()
+    np.testing.assert_allclose(fixed, np.sqrt(white**2 / 1e4 + f**2))
+    np.testing.assert_allclose(down, np.sqrt(white**2 / 1e4 + f**2 / 1e4))
+    np.testing.assert_allclose(one["noise_budget_ppm"].sel(term="floor").values[0], f)
 
 
-def test_rebinning_white_terms_add_and_floor_stays_per_bin():
+def test_rebinning_white_terms_add_and_floor_averages_over_elements():
     mode = make_mode(detector__background_electrons_per_s=5.0, detector__read_noise_electrons=8.0,
                      readout__groups_per_integration=3, detector__full_well_electrons=1e9)
     kw = dict(mode=mode, magnitude=13.0, teff=5000.0, transit_duration=2.0, floor_ppm=10.0)
@@ -270,7 +275,10 @@ def test_rebinning_white_terms_add_and_floor_stays_per_bin():
     # photon term: N adds, so sigma^-2 adds
     assert b_pair[0] == pytest.approx(1 / np.sqrt(1 / b_nat[0, 0] ** 2 + 1 / b_nat[0, 1] ** 2),
                                       rel=1e-3)
-    assert b_pair[4] == 10.0                               # floor not averaged across bins
+    # the floor is white between resolution elements: two elements bin like white noise
+    # (convention of snrkit.photons.precision: common practice, no source)
+    assert b_pair[4] == pytest.approx(1 / np.sqrt(1 / b_nat[4, 0] ** 2 + 1 / b_nat[4, 1] ** 2),
+                                      rel=1e-9)
     assert pair["photon_rate"].values[0, 0] == pytest.approx(nat["photon_rate"].values[0, :2].sum())
     # resolving power R: every bin has centre / width = R, electrons conserved
     r30 = quiet(**kw, resolution=30.0)
@@ -283,8 +291,10 @@ def test_rebinning_white_terms_add_and_floor_stays_per_bin():
     assert r30["photon_rate"].values.sum() == pytest.approx(
         (nat["photon_rate"].values[0] * frac).sum(), rel=1e-9)
     # white noise of k similar bins falls ~ 1/sqrt(k): ~ 100/30 native bins per R = 30 bin
-    s_nat = np.median(np.sqrt(nat["noise_ppm_per_transit"].values ** 2 - 100.0))
-    s_30 = np.median(np.sqrt(r30["noise_ppm_per_transit"].values ** 2 - 100.0))
+    f_nat = nat["noise_budget_ppm"].sel(term="floor").values
+    f_30 = r30["noise_budget_ppm"].sel(term="floor").values
+    s_nat = np.median(np.sqrt(nat["noise_ppm_per_transit"].values ** 2 - f_nat ** 2))
+    s_30 = np.median(np.sqrt(r30["noise_ppm_per_transit"].values ** 2 - f_30 ** 2))
     assert s_30 / s_nat == pytest.approx(np.sqrt(30.0 / 100.0), rel=0.1)
 
 
@@ -351,13 +361,20 @@ def test_system_wrapper_uses_t14_t23_and_depth():
     from snrkit.tables import data_path
     system = load_system(data_path("demo", "cedar.toml"))
     d = system.derived()
-    a = quiet_sys(system, "cold6m-xdisp-medres")
+    a = quiet_sys(system, "cold6m-xdisp-medres", in_transit="t14")
     b = quiet_sys(system, "cold6m-xdisp-medres", in_transit="t23")
+    w = quiet_sys(system, "cold6m-xdisp-medres")
     assert list(a["planet"].values) == list(d["name"])
     np.testing.assert_allclose(a["in_transit_time"].values, d["t14"].to_value(u.h))
     np.testing.assert_allclose(b["in_transit_time"].values, d["t23"].to_value(u.h))
+    # default: the full width at half depth of the trapezoid, (T14 + T23) / 2 (Carter,
+    # Yee, Eastman, Gaudi & Winn 2008, ApJ 689, 499: the depth precision of a
+    # trapezoidal transit is that of a box of this width, to first order in the ingress)
+    np.testing.assert_allclose(w["in_transit_time"].values,
+                               0.5 * (d["t14"] + d["t23"]).to_value(u.h))
     np.testing.assert_allclose(a["transit_depth"].values, d["transit_depth"].value)
-    assert (b["noise_ppm_per_transit"].values >= a["noise_ppm_per_transit"].values).all()
+    assert (b["noise_ppm_per_transit"].values >= w["noise_ppm_per_transit"].values).all()
+    assert (w["noise_ppm_per_transit"].values >= a["noise_ppm_per_transit"].values).all()
     with pytest.raises(InputError, match="mode"):
         system_precision(system)
 

@@ -47,12 +47,26 @@ largest ``n`` that stays below the usable well is chosen (up to
 ``max_groups``).  Scan readout trails the star along the detector, so no
 saturation limit applies; its duty cycle is a fixed property of the mode.
 
-Systematics floor: a ppm value per spectral bin per transit, added in
-quadrature.  Over ``N`` transits the white terms fall as ``1/sqrt(N)``; the
-floor either stays fixed or also falls as ``1/sqrt(N)`` (the user chooses).
-When bins are combined, electrons and white variances add (so the white
-terms follow ``sqrt(N_bins)``), while the floor keeps its per-bin value
-(it is not white across wavelength; common practice, no source).
+Systematics floor: defined per resolution element of the mode (the
+mode's ``floor_ppm``, or the ``floor_ppm`` argument) and taken as
+independent between resolution elements, i.e. white in wavelength above
+the element.  Its covariance binned to any bins is then diagonal, with
+variance ``floor^2 / k`` in a bin spanning ``k`` resolution elements
+(:func:`snrkit.photons.binning.resolution_elements`), exactly as white
+noise bins; so re-binning a resolved signal neither creates nor destroys
+significance, in the photon-limited and the floor-limited regime alike
+(convention: common practice, no source).  Bins narrower than one
+resolution element are not independent and are merged (with a note).  Over
+``N`` transits the white terms fall as ``1/sqrt(N)``; the floor either stays
+fixed or also falls as ``1/sqrt(N)`` (the mode or the user chooses).
+
+In-transit time: the depth is measured from the whole transit, weighted by
+its own light-curve depth.  For a trapezoidal transit the depth precision
+is that of a box of the full width at half depth, (T14 + T23) / 2
+(Carter, Yee, Eastman, Gaudi & Winn 2008, ApJ 689, 499, Sec. 2, to first
+order in the ingress time; section from memory): T23 plus the ingress and
+egress weighted by their mean depth, one half.  This is the default
+(``in_transit="weighted"``); ``"t14"`` and ``"t23"`` remain available.
 """
 
 import warnings
@@ -64,10 +78,18 @@ from ..constants import H_PLANCK, C_LIGHT, HOUR
 from ..errors import InputError, SnrkitWarning
 from ..units import to_si, as_float_array, check_range
 from .instruments import load_mode
+from .binning import (native_bin_edges, resolution_bin_edges, rebin_rates, resolution_elements,
+                      merge_narrow_bins)
+from .readout import choose_readout, readout_candidates
 from .sed import planck_spectrum, read_spectrum, StellarSpectrum, band_names
 
 __all__ = [
     "SaturationWarning",
+    "BinningNote",
+    "IN_TRANSIT_CHOICES",
+    "DEFAULT_RESOLUTION",
+    "readout_candidates",
+    "resolution_elements",
     "TERMS",
     "native_bin_edges",
     "resolution_bin_edges",
@@ -83,7 +105,16 @@ __all__ = [
 #: Names of the noise-budget terms, in the order of the ``term`` axis.
 TERMS = ("photon", "background", "dark", "read", "floor")
 
+#: Named choices of the in-transit time (see the module docstring).
+IN_TRANSIT_CHOICES = ("weighted", "t14", "t23")
+
 _SUBSAMPLES = 4  # midpoint sub-samples per bin for the photon integral
+
+#: Default binning of every test (transits, contrast, rank): bins of this
+#: resolving power, merged where the mode resolves less (common practice, no
+#: source: the binning at which low-resolution transmission spectra are
+#: usually shown; features span several such bins).
+DEFAULT_RESOLUTION = 100.0
 
 
 class SaturationWarning(SnrkitWarning):
@@ -92,40 +123,6 @@ class SaturationWarning(SnrkitWarning):
 
 # ----------------------------------------------------------------------------
 # compute layer (numpy, SI)
-
-def native_bin_edges(mode):
-    """Edges [m] of the mode's native bins, one resolution element wide.
-
-    The resolution-element coordinate ``s(lambda) = integral R(lambda) / lambda
-    dlambda`` is cut into ``floor(s_total)`` equal steps spanning the mode's
-    range exactly, so each bin is ``lambda / R(lambda)`` wide to within
-    ``1 / s_total``.
-    """
-    lo, hi = mode.wavelength_min_m, mode.wavelength_max_m
-    fine = np.geomspace(lo, hi, 4096)
-    dens = mode.resolving_power(fine) / fine
-    s = np.concatenate([[0.0], np.cumsum(0.5 * (dens[1:] + dens[:-1]) * np.diff(fine))])
-    n = max(int(np.floor(s[-1])), 1)
-    edges = np.interp(np.linspace(0.0, s[-1], n + 1), s, fine)
-    edges[0], edges[-1] = lo, hi
-    return edges
-
-
-def resolution_bin_edges(low_m, high_m, resolving_power):
-    """Edges [m] of bins with ``lambda_centre / width = resolving_power``.
-
-    Consecutive edges have the ratio ``(2R + 1) / (2R - 1)``; bins start at
-    ``low_m`` and the last whole bin ends at or below ``high_m``.
-    """
-    q = (2.0 * resolving_power + 1.0) / (2.0 * resolving_power - 1.0)
-    n = int(np.floor(np.log(high_m / low_m) / np.log(q) + 1e-9))
-    if n < 1:
-        raise InputError("resolution", resolving_power,
-                         f"a resolving power giving at least one bin in "
-                         f"{low_m*1e6:.4g}-{high_m*1e6:.4g} um (R > "
-                         f"{0.5 * (high_m + low_m) / (high_m - low_m):.3g})")
-    return low_m * q ** np.arange(n + 1)
-
 
 def bin_photon_rates(mode, spectrum, edges_m):
     """Electron rates per native bin for each star.
@@ -170,115 +167,6 @@ def bin_photon_rates(mode, spectrum, edges_m):
     }
 
 
-def _ramp_read_variance(n, sigma_read, frames_per_group=1):
-    """Read-noise variance of one pixel's fitted ramp of ``n`` groups [e-^2].
-
-    Rauscher et al. 2007, PASP 119, 768, eq. 1 (read-noise term).
-    """
-    n = np.asarray(n, dtype=np.float64)
-    return 12.0 * (n - 1.0) * sigma_read**2 / (frames_per_group * n * (n + 1.0))
-
-
-def choose_readout(mode, peak_star, peak_other, groups=None):
-    """Choose groups per integration and derive duty cycle and saturation.
-
-    Parameters
-    ----------
-    mode : Mode
-    peak_star : numpy.ndarray
-        Stellar electrons s-1 in each bin's brightest pixel, (n_star, n_bin).
-    peak_other : numpy.ndarray
-        Background + dark electrons s-1 per pixel, (n_bin,).
-    groups : int or None
-        Fixed groups per integration; ``None`` chooses automatically (the
-        most groups below the usable well, within [min_groups, max_groups]).
-
-    Returns
-    -------
-    dict of numpy.ndarray
-        ``groups`` (n_star,) int; ``t_int`` elapsed time per integration [s];
-        ``t_eff`` light-collecting time per integration [s]; ``duty``;
-        ``read_var`` read variance per pixel per integration [e-^2];
-        ``saturated`` (n_star, n_bin) bool; ``too_bright`` (n_star,) bool
-        (saturates even in the shortest integration); ``limit_dmag``
-        (n_star,) magnitude offset to the brightest usable star (add to the
-        star's magnitude; NaN for scan readout); ``well_fill`` (n_star,)
-        brightest-pixel electrons at the last read over the usable well.
-    """
-    n_star = peak_star.shape[0]
-    if mode.scheme == "scan":
-        n = np.full(n_star, mode.reads_per_exposure, dtype=int)
-        t_int = np.full(n_star, mode.exposure_time_s / mode.scan_duty_cycle)
-        t_eff = np.full(n_star, mode.exposure_time_s)
-        nan = np.full(n_star, np.nan)
-        return {"groups": n, "t_int": t_int, "t_eff": t_eff,
-                "duty": t_eff / t_int,
-                "read_var": _ramp_read_variance(n, mode.read_noise),
-                "saturated": np.zeros(peak_star.shape, dtype=bool),
-                "too_bright": np.zeros(n_star, dtype=bool),
-                "limit_dmag": nan, "well_fill": nan}
-    tg = mode.group_time_s
-    well = mode.usable_well
-    peak = peak_star + peak_other[None, :]
-    peak_max = peak.max(axis=1)
-    with np.errstate(divide="ignore"):
-        n_fit = np.floor(well / (peak_max * tg))
-    if groups is None:
-        n = np.clip(n_fit, mode.min_groups, mode.max_groups).astype(int)
-    else:
-        n = np.full(n_star, int(groups))
-    t_int = n * tg + mode.resets_per_integration * mode.frame_time_s
-    t_eff = (n - 1) * tg
-    saturated = peak * (n * tg)[:, None] > well
-    t_short = mode.min_groups * tg
-    too_bright = peak_max * t_short > well
-    # brightest usable star: the magnitude offset at which the stellar part of every bin's
-    # brightest pixel, scaled by 10^(-0.4 dm), still fits beside background and dark
-    room = well / t_short - peak_other                          # (n_bin,)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        per_bin = np.where(room[None, :] > 0,
-                           2.5 * np.log10(peak_star / room[None, :]), np.inf)
-    limit_dmag = per_bin.max(axis=1)
-    return {"groups": n, "t_int": t_int, "t_eff": t_eff, "duty": t_eff / t_int,
-            "read_var": _ramp_read_variance(n, mode.read_noise, mode.frames_per_group),
-            "saturated": saturated, "too_bright": too_bright,
-            "limit_dmag": limit_dmag, "well_fill": peak_max * n * tg / well}
-
-
-def rebin_rates(edges_native, values, edges_new):
-    """Re-bin additive per-bin quantities onto new edges.
-
-    Each native bin's content is spread uniformly over its width, so a new
-    bin receives the overlapping fraction of every native bin it touches
-    (interpolation of the cumulative sum).  Use for electrons, variances and
-    pixel counts (additive, white); never for ppm values.
-
-    Parameters
-    ----------
-    edges_native : numpy.ndarray
-        (n + 1,) increasing edges.
-    values : numpy.ndarray
-        (..., n) per-bin contents.
-    edges_new : numpy.ndarray
-        (k + 1,) increasing edges inside ``edges_native``.
-
-    Returns
-    -------
-    numpy.ndarray
-        (..., k) contents of the new bins.
-    """
-    v = np.asarray(values, dtype=np.float64)
-    x = np.asarray(edges_native, dtype=np.float64)
-    xn = np.asarray(edges_new, dtype=np.float64)
-    cum = np.concatenate([np.zeros(v.shape[:-1] + (1,)), np.cumsum(v, axis=-1)], axis=-1)
-    # linear interpolation of the cumulative sum at the new edges, with weights shared
-    # by every row (no Python loop over planets); clamped at the ends like numpy.interp
-    idx = np.clip(np.searchsorted(x, xn, side="right") - 1, 0, x.size - 2)
-    frac = np.clip((xn - x[idx]) / (x[idx + 1] - x[idx]), 0.0, 1.0)
-    out = cum[..., idx] + frac * (cum[..., idx + 1] - cum[..., idx])
-    return np.diff(out, axis=-1)
-
-
 def depth_precision(star, sky, dark, read_var_rate, duty, t_in, t_out, depth, floor_ppm):
     """Single-transit depth precision per bin and its budget.
 
@@ -296,7 +184,7 @@ def depth_precision(star, sky, dark, read_var_rate, duty, t_in, t_out, depth, fl
     depth : numpy.ndarray
         Transit depth (fraction) (n_star,).
     floor_ppm : float
-        Systematics floor per bin per transit [ppm].
+        Systematics floor per bin per transit [ppm], scalar or (n_bin,).
 
     Returns
     -------
@@ -317,7 +205,7 @@ def depth_precision(star, sky, dark, read_var_rate, duty, t_in, t_out, depth, fl
         bkg = one_m * np.sqrt(sky * d * (tin * inv_in2 + tout * inv_out2))
         drk = one_m * np.sqrt(dark * d * (tin * inv_in2 + tout * inv_out2))
         rd = one_m * np.sqrt(read_var_rate * (tin * inv_in2 + tout * inv_out2))
-    floor = np.broadcast_to(float(floor_ppm), photon.shape)
+    floor = np.broadcast_to(np.asarray(floor_ppm, dtype=np.float64), photon.shape)
     return np.stack([photon * 1e6, bkg * 1e6, drk * 1e6, rd * 1e6, floor], axis=1)
 
 
@@ -364,7 +252,7 @@ def _output_edges(mode, native, resolution, bin_edges):
     if resolution is not None:
         r = float(check_range(as_float_array(resolution, "resolution"), "resolution",
                               1.0, 1.0e6, low_inclusive=False))
-        return resolution_bin_edges(lo, hi, r)
+        return _merged(mode, resolution_bin_edges(lo, hi, r), f"resolution {r:g}")
     if bin_edges is not None:
         e = np.atleast_1d(to_si(bin_edges, "bin_edges", u.um, 0.0, None, low_inclusive=False))
         if e.ndim != 1 or e.size < 2 or np.any(np.diff(e) <= 0):
@@ -372,15 +260,74 @@ def _output_edges(mode, native, resolution, bin_edges):
         if e[0] < lo * (1 - 1e-9) or e[-1] > hi * (1 + 1e-9):
             raise InputError("bin_edges", f"{e[0]*1e6:.4g}-{e[-1]*1e6:.4g} um",
                              f"edges inside the mode range {lo*1e6:.4g}-{hi*1e6:.4g} um")
-        return np.clip(e, lo, hi)
+        return _merged(mode, np.clip(e, lo, hi), "bin_edges")
     return native
+
+
+def _check_readout(readout, m, n):
+    """None (automatic) or an int array of groups per planet, range-checked."""
+    if isinstance(readout, str) and readout == "auto":
+        fixed = m.groups_per_integration
+        return None if fixed is None else np.full(n, int(fixed))
+    arr = np.atleast_1d(np.asarray(readout, dtype=object))
+    ok = arr.size in (1, n) and all(isinstance(x, (int, np.integer)) and not isinstance(x, bool)
+                                    and m.min_groups <= int(x) <= m.max_groups for x in arr)
+    if not ok:
+        raise InputError("readout", readout, f"\"auto\" or a whole number of groups in "
+                         f"[{m.min_groups}, {m.max_groups}] (one, or one per planet)")
+    return np.broadcast_to(arr.astype(np.int64), (n,)).copy()
+
+
+def _budget(m, rates, native, edges, groups, t_in, t_out, dep, floor_bins):
+    """Noise budget (planet, term, bin), saturation (planet, bin) and readout for ``groups``."""
+    ro = choose_readout(m, rates["peak_star"], rates["peak_other"], groups)
+    read_rate_native = (rates["n_pix"][None, :] * ro["read_var"][:, None]
+                        / ro["t_int"][:, None])
+    if edges is native:
+        star, sky, dark = rates["star"], rates["sky"], rates["dark"]
+        read_rate, sat = read_rate_native, ro["saturated"]
+    else:
+        star = rebin_rates(native, rates["star"], edges)
+        sky = rebin_rates(native, rates["sky"], edges)
+        dark = rebin_rates(native, rates["dark"], edges)
+        read_rate = rebin_rates(native, read_rate_native, edges)
+        sat = rebin_rates(native, ro["saturated"].astype(float), edges) > 0
+    budget = depth_precision(star, sky, dark, read_rate, ro["duty"], t_in, t_out, dep, floor_bins)
+    ro["star"] = star
+    return budget, sat, ro
+
+
+def _readout_options(m, rates, native, edges, t_in, t_out, dep, floor_bins):
+    """White noise, saturation, groups and duty cycle for each readout candidate."""
+    cand = readout_candidates(m, rates["peak_star"], rates["peak_other"])
+    white, sats, duty = [], [], []
+    for groups in cand:
+        budget, sat, ro = _budget(m, rates, native, edges, groups, t_in, t_out, dep, floor_bins)
+        white.append(np.where(sat, np.nan, np.sqrt((budget[:, :4, :] ** 2).sum(axis=1))))
+        sats.append(sat)
+        duty.append(ro["duty"])
+    return {"groups": cand, "white": np.stack(white), "saturated": np.stack(sats),
+            "duty": np.stack(duty)}
+
+
+class BinningNote(SnrkitWarning):
+    """Requested bins were merged to at least one resolution element each."""
+
+
+def _merged(mode, edges, what):
+    out, merged = merge_narrow_bins(mode, edges)
+    if merged:
+        warnings.warn(f"{what}: bins narrower than one resolution element of mode {mode.name} "
+                      f"were merged ({edges.size - 1} requested, {out.size - 1} used)",
+                      BinningNote, stacklevel=4)
+    return out
 
 
 def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
                       in_transit_time=None, baseline=None, baseline_factor=1.0,
                       depth=0.0, n_transits=1, readout="auto", floor_ppm=None,
                       floor_averages_down=None, resolution=None, bin_edges=None,
-                      spectrum=None, planet=None, warn=True):
+                      spectrum=None, planet=None, warn=True, readout_options=False):
     """Per-bin transit-depth precision of one transit (and of ``n_transits``).
 
     All per-planet inputs accept one value or one value per planet; bare
@@ -432,6 +379,12 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         Labels of the planet axis.
     warn : bool
         Issue a :class:`SaturationWarning` for stars too bright for the mode.
+    readout_options : bool
+        Also return, for automatic up-the-ramp readout, the white noise and
+        saturation of each readout candidate
+        (:func:`snrkit.photons.readout.readout_candidates`) on a
+        ``readout_option`` axis, so that the chain can choose the readout
+        that serves its test best.
 
     Returns
     -------
@@ -484,13 +437,7 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
     if not whole:
         raise InputError("n_transits", n_transits, "a whole number >= 1")
     n_tr = int(check_range(float(n_transits), "n_transits", 1, 1.0e6))
-    if readout == "auto":
-        groups = m.groups_per_integration
-    elif isinstance(readout, (int, np.integer)) and not isinstance(readout, bool):
-        groups = int(check_range(float(readout), "readout", m.min_groups, m.max_groups))
-    else:
-        raise InputError("readout", readout, f"\"auto\" or a whole number of groups in "
-                         f"[{m.min_groups}, {m.max_groups}]")
+    groups = _check_readout(readout, m, n)
     floor = m.floor_ppm if floor_ppm is None else float(
         check_range(as_float_array(floor_ppm, "floor_ppm"), "floor_ppm", 0.0, 1.0e6))
     floor_down = m.floor_averages_down if floor_averages_down is None else bool(floor_averages_down)
@@ -507,28 +454,20 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
 
     native = native_bin_edges(m)
     rates = bin_photon_rates(m, spec, native)
-    ro = choose_readout(m, rates["peak_star"], rates["peak_other"], groups)
-    read_rate_native = (rates["n_pix"][None, :] * ro["read_var"][:, None]
-                        / ro["t_int"][:, None])
     edges = _output_edges(m, native, resolution, bin_edges)
-    if edges is native:
-        star, sky, dark = rates["star"], rates["sky"], rates["dark"]
-        read_rate, sat = read_rate_native, ro["saturated"]
-    else:
-        star = rebin_rates(native, rates["star"], edges)
-        sky = rebin_rates(native, rates["sky"], edges)
-        dark = rebin_rates(native, rates["dark"], edges)
-        read_rate = rebin_rates(native, read_rate_native, edges)
-        sat = rebin_rates(native, ro["saturated"].astype(float), edges) > 0
-
-    budget = depth_precision(star, sky, dark, read_rate, ro["duty"], t_in, t_out, dep, floor)
+    # the floor per bin: per resolution element, white between elements
+    floor_bins = floor / np.sqrt(resolution_elements(m, edges))
+    budget, sat, ro = _budget(m, rates, native, edges, groups, t_in, t_out, dep, floor_bins)
     white2 = (budget[:, :4, :] ** 2).sum(axis=1)
     total1 = np.sqrt(white2 + budget[:, 4, :] ** 2)
-    floor_n = floor / np.sqrt(n_tr) if floor_down else floor
+    floor_n = floor_bins / np.sqrt(n_tr) if floor_down else floor_bins
     total_n = np.sqrt(white2 / n_tr + floor_n**2)
     total1 = np.where(sat, np.nan, total1)
     total_n = np.where(sat, np.nan, total_n)
     budget = np.where(sat[:, None, :], np.nan, budget)
+    options = None
+    if readout_options and groups is None and m.scheme != "scan":
+        options = _readout_options(m, rates, native, edges, t_in, t_out, dep, floor_bins)
 
     limit_mag = mag + ro["limit_dmag"]
     if warn:
@@ -542,7 +481,7 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
             "bin_width": ("wavelength", np.diff(edges) * 1e6, um),
             "wavelength_low": ("wavelength", edges[:-1] * 1e6, um),
             "wavelength_high": ("wavelength", edges[1:] * 1e6, um),
-            "photon_rate": (("planet", "wavelength"), star,
+            "photon_rate": (("planet", "wavelength"), ro["star"],
                             {"units": "electrons / s",
                              "long_name": "detected stellar electrons per second per bin "
                                           "out of transit, while collecting light"}),
@@ -577,10 +516,20 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         attrs={"mode": m.name, "mode_description": m.description,
                "readout_scheme": m.scheme, "band": band, "n_transits": n_tr,
                "floor_ppm": floor, "floor_averages_down": int(floor_down),
+               "floor_convention": "floor_ppm per resolution element, independent between "
+                                   "elements: floor_ppm / sqrt(elements per bin)",
                "stellar_spectrum": spec.origin,
                "method": "sigma = (1 - depth) sqrt(V_in/N_in^2 + V_out/N_out^2); up-the-ramp "
                          "read noise after Rauscher et al. 2007, PASP 119, 768"},
     )
+    ds["resolution_elements"] = ("wavelength", resolution_elements(m, edges),
+                                 {"long_name": "resolution elements per bin"})
+    if options is not None:
+        opt = ("readout_option", "planet")
+        ds["option_groups"] = (opt, options["groups"])
+        ds["option_duty_cycle"] = (opt, options["duty"])
+        ds["option_white_noise_ppm"] = (opt + ("wavelength",), options["white"], {"units": "ppm"})
+        ds["option_saturated"] = (opt + ("wavelength",), options["saturated"])
     return ds
 
 
@@ -694,7 +643,8 @@ def _common(values, field, names):
 
 def system_precision(system, mode=None, *, band=None, n_transits=None, in_transit=None,
                      baseline=None, readout=None, floor_ppm=None, floor_averages_down=None,
-                     resolution=None, bin_edges=None, spectrum=None, warn=True):
+                     resolution=None, bin_edges=None, spectrum=None, warn=True,
+                     readout_options=False):
     """Per-bin transit-depth precision for every planet of a :class:`snrkit.System`.
 
     A thin wrapper of :func:`transit_precision`: Teff, the magnitude in
@@ -713,13 +663,15 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
         that the star has.
     n_transits : int, optional
         Default ``observation.transits`` or 1.
-    in_transit : {"t14", "t23"} or Quantity or float, optional
-        Time counted as in transit: T14, T23, or a duration (hours);
-        default ``observation.in_transit`` or ``"t14"``.
+    in_transit : {"weighted", "t14", "t23"} or Quantity or float, optional
+        Time counted as in transit: ``"weighted"`` (T23 plus the ingress and
+        egress weighted by their mean depth, (T14 + T23) / 2; Carter et al.
+        2008, ApJ 689, 499), T14, T23, or a duration (hours); default
+        ``observation.in_transit`` or ``"weighted"``.
     baseline : float, str or Quantity, optional
         A bare number is a multiple of T14; a Quantity or ``"<number> h"``
         string is a duration.  Default ``observation.baseline`` or 1 x T14.
-    readout, floor_ppm, floor_averages_down, resolution, bin_edges, spectrum, warn
+    readout, floor_ppm, floor_averages_down, resolution, bin_edges, spectrum, warn, readout_options
         As in :func:`transit_precision` (``readout`` default
         ``observation.readout_groups`` or the mode's choice).
 
@@ -769,12 +721,14 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
     t_in = []
     base = []
     for i, o in enumerate(obs):
-        choice = in_transit if in_transit is not None else _observation_value(o, "in_transit", "t14")
-        if isinstance(choice, str) and choice.strip().lower() in ("t14", "t23"):
-            val = t14[i] if choice.strip().lower() == "t14" else t23[i]
+        choice = (in_transit if in_transit is not None
+                  else _observation_value(o, "in_transit", "weighted"))
+        key = choice.strip().lower() if isinstance(choice, str) else None
+        if key in IN_TRANSIT_CHOICES:
+            val = {"t14": t14[i], "t23": t23[i], "weighted": 0.5 * (t14[i] + t23[i])}[key]
             if not val > 0:
                 raise InputError(f"in_transit ({names[i]})", choice,
-                                 "'t14' for a grazing transit (T23 = 0)")
+                                 "'t14' or 'weighted' for a grazing transit (T23 = 0)")
             t_in.append(val)
         else:
             t_in.append(float(to_si(choice, f"in_transit ({names[i]})", u.h, 0.0, None,
@@ -793,6 +747,6 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
         baseline=np.array(base) * u.s, depth=np.asarray(d["transit_depth"], dtype=np.float64),
         n_transits=n_transits, readout=readout, floor_ppm=floor_ppm,
         floor_averages_down=floor_averages_down, resolution=resolution, bin_edges=bin_edges,
-        spectrum=spectrum, planet=names, warn=warn)
+        spectrum=spectrum, planet=names, warn=warn, readout_options=readout_options)
     ds["transit_depth"] = ("planet", np.asarray(d["transit_depth"]) * 1e6, {"units": "ppm"})
     return ds
