@@ -53,7 +53,7 @@ def _check_filters(filters):
 
 
 def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
-                   resolution=30.0, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
+                   resolution=None, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
                    progress=None, overhead_hours=None, each_scenario=False):
     """Rank every usable row of a catalogue.
 
@@ -71,9 +71,11 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         Target significance.
     n_max : int
         Largest number of transits considered.
-    resolution : float
-        Resolving power of the ranking bins (default 30: coarse bins keep
-        catalogue runs fast; features span many of the native bins).
+    resolution : float or "native", optional
+        Resolving power of the bins; default
+        :data:`snrkit.photons.precision.DEFAULT_RESOLUTION`, the same as
+        :func:`snrkit.transits.transits_for_system`, so one planet gets the
+        same answer from both.
     sort_by : str
         A key of :data:`SORT_KEYS` or a numeric output column, optionally
         ``KEY:asc`` or ``KEY:desc`` (default direction: fewest hours or
@@ -104,7 +106,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``equilibrium_temperature_K``, ``tsm``, ``esm``, ``habitable_zone``,
         ``quick_feature_ppm``, ``significance_per_transit``,
         ``transits_needed`` (0 when not reachable), ``hours_per_transit``,
-        ``hours_total``, ``limiting_term``; ``meta`` holds the settings and
+        ``hours_total``, ``limiting_term``, ``groups_per_integration``,
+        ``duty_cycle``, ``bins_saturated``; ``meta`` holds the settings and
         the status counts.
     """
     from astropy.table import Table
@@ -142,6 +145,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     n_rows = len(catalogue.table)
     out = {c: np.full(n_rows, np.nan) for c in _FLOAT_COLUMNS}
     out["transits_needed"] = np.zeros(n_rows, dtype=np.int64)
+    out["groups_per_integration"] = np.zeros(n_rows, dtype=np.int64)
+    out["bins_saturated"] = np.zeros(n_rows, dtype=np.int64)
     out["mode"] = np.full(n_rows, "", dtype=object)
     out["scenario"] = np.full(n_rows, "", dtype=object)
     out["limiting_term"] = np.full(n_rows, "", dtype=object)
@@ -205,6 +210,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                     out["significance_per_transit"][gi] = [recs[k]["significance_per_transit_sigma"]
                                                            for k in j]
                     out["quick_feature_ppm"][gi] = quick[idx[j]]
+                    for c in ("groups_per_integration", "duty_cycle", "bins_saturated"):
+                        out[c][gi] = [recs[k][c] for k in j]
                     best_status[idx[j]] = st[j]
                     best_reason[idx[j]] = [recs[k]["reason"] for k in j]
                     best_class[idx[j]] = cls[j]
@@ -244,7 +251,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     counts = {str(s): int(np.sum(status == s)) for s in np.unique(status)}
     t.meta.update({"test": kind if arg is None else f"{kind}:{arg}", "target_sigma": sigma,
                    "modes": list(modes), "scenarios": [s.name for s in scs],
-                   "resolution": float(resolution), "max_transits": int(n_max),
+                   "resolution": _resolution_label(resolution), "max_transits": int(n_max),
+                   "test_statistic": _statistic(kind),
                    "sort_by": sort_by, "status_counts": counts, "rows": int(n_rows),
                    "notes": list(notes)[:50],
                    "note": "planning estimates; official observatory tools govern real proposals"})
@@ -253,16 +261,18 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
 
 _FLOAT_COLUMNS = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
                   "quick_feature_ppm", "significance_per_transit", "hours_per_transit",
-                  "hours_total")
+                  "hours_total", "duty_cycle")
 _OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_temperature_K",
                  "tsm", "esm", "habitable_zone", "quick_feature_ppm", "significance_per_transit",
-                 "transits_needed", "hours_per_transit", "hours_total", "limiting_term")
+                 "transits_needed", "hours_per_transit", "hours_total", "limiting_term",
+                 "groups_per_integration", "duty_cycle", "bins_saturated")
 _OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
 _UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
           "quick_feature_ppm": "", "hours_per_transit": "h", "hours_total": "h"}
 
 
-_STATUS_CLASS = {"ok": 0, "not_reachable": 1, "unbound_atmosphere": 2, "saturated": 3}
+_STATUS_CLASS = {"ok": 0, "not_reachable": 1, "stellar_contamination": 1, "no_signal": 2,
+                 "unbound_atmosphere": 2, "saturated": 3}
 _NUMERIC_SORT = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
                  "quick_feature_ppm", "significance_per_transit", "transits_needed",
                  "hours_per_transit", "hours_total")
@@ -285,6 +295,18 @@ def _sort_key(sort_by):
             raise InputError("sort", sort_by, "KEY, KEY:asc or KEY:desc")
         desc = direction == "desc"
     return col, desc
+
+
+def _resolution_label(resolution):
+    from .photons.precision import DEFAULT_RESOLUTION
+    if resolution is None:
+        return float(DEFAULT_RESOLUTION)
+    return resolution if isinstance(resolution, str) else float(resolution)
+
+
+def _statistic(kind):
+    from .transits import TEST_STATISTICS
+    return TEST_STATISTICS.get(kind, TEST_STATISTICS["nested"])
 
 
 def _name_column(catalogue):

@@ -32,6 +32,7 @@ def run(args):
     for p in res["planets"]:
         print(f"{p['name']} with {res['mode']}: transits to reject the column scenario at "
               f"{res['target_sigma']:g} sigma when the row scenario is true")
+        print(f"  test: {res['test_statistic']}; bins: {p['bins_used']} used ({res['binning']})")
         print("  " + "true \\ rejected".ljust(width) + "".join(n.rjust(width + 2) for n in names))
         for a, row in enumerate(p["transits_needed"]):
             cells = []

@@ -1,6 +1,7 @@
 """``snrkit plan SYSTEM.toml ... --mode M``: the observing programme for a target list."""
 
 from ._common import print_json, print_notes, check_output_path, write_table
+from .transits import resolution_value
 
 __all__ = ["add_parser", "run"]
 
@@ -15,7 +16,8 @@ def add_parser(p):
                    help="atmosphere (default), species:GAS or against:SCENARIO")
     p.add_argument("--sigma", type=float, default=5.0)
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
-    p.add_argument("--resolution", type=float, metavar="R")
+    p.add_argument("--resolution", type=resolution_value, metavar="R",
+                   help="resolving power of the bins, or 'native' (default 100)")
     p.add_argument("--from", dest="start", default="2027-01-01", metavar="DATE",
                    help="first date searched (UTC, default 2027-01-01)")
     p.add_argument("--years", type=float, default=5.0, help="years of calendar searched (default 5)")

@@ -3,6 +3,7 @@
 import sys
 
 from ._common import print_json, print_notes
+from .transits import resolution_value
 
 __all__ = ["add_parser", "run", "ProgressBar"]
 
@@ -18,11 +19,13 @@ def add_parser(p):
                    help="rank each scenario on its own (one row per planet and scenario) "
                         "instead of keeping each planet's best scenario")
     p.add_argument("--test", default="atmosphere",
-                   help="atmosphere (default), species:GAS or against:SCENARIO")
+                   help="atmosphere (default), species:GAS, against:SCENARIO, or goodness-of-fit "
+                        "(a flat line rejected at bins - 1 degrees of freedom)")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
-    p.add_argument("--resolution", type=float, default=30.0, metavar="R",
-                   help="resolving power of the ranking bins (default 30)")
+    p.add_argument("--resolution", type=resolution_value, metavar="R",
+                   help="resolving power of the bins, or 'native' (default 100, as for transits; "
+                        "bins narrower than a resolution element are merged)")
     p.add_argument("--sort", default="hours", metavar="KEY[:asc|:desc]",
                    help="hours (default), transits, tsm, esm, significance, or a numeric column; "
                         "append :asc or :desc to choose the direction")
@@ -110,11 +113,15 @@ def run(args):
                          "significance_per_transit_sigma": float(r["significance_per_transit"]),
                          "transits_needed": int(r["transits_needed"]) or None,
                          "hours_total": float(r["hours_total"]),
-                         "limiting_term": str(r["limiting_term"]) or None})
+                         "limiting_term": str(r["limiting_term"]) or None,
+                         "groups_per_integration": int(r["groups_per_integration"]) or None,
+                         "duty_cycle": float(r["duty_cycle"]),
+                         "bins_saturated": int(r["bins_saturated"])})
         print_json({"rows": rows, "summary": table.meta["status_counts"],
                     "notes": table.meta.get("notes", []),
                     "settings": {k: table.meta[k] for k in ("test", "target_sigma", "modes",
-                                                            "scenarios", "resolution", "sort_by")}})
+                                                            "scenarios", "resolution", "sort_by",
+                                                            "test_statistic")}})
         print_notes(table.meta.get("notes", []))
         return 0
     ranked = table[table["rank"] > 0]
@@ -122,12 +129,17 @@ def run(args):
     if args.top:
         import numpy as np
         ranked = ranked[np.asarray(ranked["rank"]) <= args.top]   # per scenario with --each-scenario
+    print(f"test: {table.meta['test']} at {table.meta['target_sigma']:g} sigma "
+          f"({table.meta['test_statistic']}); bins R = {table.meta['resolution']}; "
+          f"sorted by {table.meta['sort_by']}")
     print(f"{'rank':>4}  {'planet':<16} {'R [Re]':>7} {'Teq [K]':>8} {'TSM':>7} {'quick [ppm]':>11} "
-          f"{'N':>5} {'hours':>8}  mode / scenario")
+          f"{'N':>5} {'hours':>8} {'groups':>6} {'sat':>4}  mode / scenario")
     for r in ranked:
         print(f"{int(r['rank']):>4}  {str(r['name']):<16} {r['radius_earth']:>7.2f} "
               f"{r['equilibrium_temperature_K']:>8.0f} {r['tsm']:>7.1f} {r['quick_feature_ppm']:>11.1f} "
-              f"{int(r['transits_needed']):>5} {r['hours_total']:>8.1f}  {r['mode']} / {r['scenario']}")
+              f"{int(r['transits_needed']):>5} {r['hours_total']:>8.1f} "
+              f"{int(r['groups_per_integration']):>6} {int(r['bins_saturated']):>4}  "
+              f"{r['mode']} / {r['scenario']}")
     counts = ", ".join(f"{k}: {v}" for k, v in sorted(table.meta["status_counts"].items()))
     print(f"{table.meta['rows']} input rows -- {counts}")
     print_notes(table.meta.get("notes", []))

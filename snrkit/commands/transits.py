@@ -2,7 +2,8 @@
 
 from ._common import add_system_args, print_json, print_notes, check_output_path
 
-__all__ = ["add_parser", "run", "add_observation_args", "parse_contamination"]
+__all__ = ["add_parser", "run", "add_observation_args", "parse_contamination", "resolution_value",
+           "format_result", "plural"]
 
 
 def add_observation_args(p):
@@ -12,14 +13,35 @@ def add_observation_args(p):
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
     p.add_argument("--max-transits", type=int, default=500, metavar="N",
                    help="largest number of transits considered (default 500)")
-    p.add_argument("--resolution", type=float, metavar="R",
-                   help="bin the spectrum to this resolving power (default: the mode's bins)")
-    p.add_argument("--floor", type=float, metavar="PPM", help="systematics floor per bin [ppm]")
+    p.add_argument("--resolution", type=resolution_value, metavar="R",
+                   help="bin the spectrum to this resolving power, or 'native' for the mode's own "
+                        "bins (default 100; bins narrower than a resolution element are merged)")
+    p.add_argument("--floor", type=float, metavar="PPM",
+                   help="systematics floor per resolution element [ppm] (default: the mode's); "
+                        "independent between elements, so wider bins average it down")
+    p.add_argument("--readout", type=int, metavar="GROUPS",
+                   help="fixed groups per integration (default: chosen per target for the test, "
+                        "accepting saturated bins where that needs fewer transits)")
     p.add_argument("--floor-averages", choices=("yes", "no"),
                    help="whether the floor averages down over transits (default: the mode's)")
     p.add_argument("--overhead", type=float, metavar="HOURS",
                    help="per-visit overhead in hours (default 1)")
     p.add_argument("--solver", choices=("analytic", "layers"), default="analytic")
+
+
+def resolution_value(text):
+    """A resolving power > 1, or 'native' (the mode's own bins)."""
+    import math
+    from ..errors import InputError
+    if str(text).strip().lower() == "native":
+        return "native"
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputError("--resolution", text, "a resolving power > 1 or 'native'") from None
+    if not math.isfinite(value) or value <= 1:
+        raise InputError("--resolution", text, "a resolving power > 1 or 'native'")
+    return value
 
 
 def parse_contamination(args):
@@ -54,6 +76,9 @@ def add_parser(p):
     test.add_argument("--species", metavar="GAS", help="test: detect one gas of the scenario")
     test.add_argument("--against", metavar="SCENARIO_OR_FILE",
                       help="test: reject another scenario (or a spectrum file, depth in ppm)")
+    test.add_argument("--goodness-of-fit", action="store_true",
+                      help="instead of a nested test: reject a flat line at bins - 1 degrees of "
+                           "freedom (model-agnostic; not a detection of the scenario)")
     p.add_argument("--against-unit", metavar="UNIT",
                    help="wavelength unit of an --against spectrum file that carries none (e.g. um)")
     p.add_argument("--against-kind", default="ppm", metavar="KIND",
@@ -85,14 +110,50 @@ def _fmt_n(n):
     return "not reachable" if n is None else str(n)
 
 
+def plural(n, word):
+    """'1 transit', '3 transits'."""
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
+def _test_lines(p):
+    lo, hi = p["wavelength_range_um"]
+    dof = plural(p["degrees_of_freedom"], "degree") + " of freedom"
+    return [f"  test: {p['test']} ({p['test_statistic']}); null: {p['null_model']}; {dof}",
+            f"  bins: {p['bins_used']} used ({p['binning']}, {lo:.3g}-{hi:.3g} um); readout "
+            f"{p['groups_per_integration']} groups per integration, duty cycle "
+            f"{p['duty_cycle']:.2f}, {plural(p['bins_saturated'], 'saturated bin')} dropped"]
+
+
+def _extra_lines(p):
+    lines = []
+    spread = p.get("transits_needed_spread")
+    if spread:
+        s = {k: ("-" if v is None else f"{v:.0f}") for k, v in spread.items()}
+        lines.append(f"  with mass/radius uncertainty: median {s['median']} (16-84%: {s['p16']}-"
+                     f"{s['p84']}); reachable in {p['fraction_of_draws_reachable']:.0%} of draws")
+    if p.get("refit"):
+        vals = ", ".join(f"{k} = {v:.4g}" for k, v in p["refit"].items() if k != "at_bound")
+        bound = p["refit"].get("at_bound") or []
+        lines.append("  null re-fitted within physical bounds: " + vals
+                     + (f"; at a bound: {', '.join(bound)}" if bound else ""))
+    if p.get("fisher_errors"):
+        errs = ", ".join(f"{k} +/- {v:.3g}" if isinstance(v, float) else f"{k} {v}"
+                         for k, v in p["fisher_errors"].items())
+        lines.append(f"  1-sigma errors at N (uniform priors over physical ranges): {errs}")
+    if p.get("exceeds_atmosphere_test"):
+        lines.append(f"  note: {p['exceeds_atmosphere_test']}")
+    return lines
+
+
 def format_result(res):
     """Plain-text summary of a :func:`snrkit.transits.transits_for_system` result."""
     lines = []
     for p in res["planets"]:
-        lines.append(f"{p['name']}: {p['scenario']} vs {p['alternative']} with {p['mode']}, "
+        lines.append(f"{p['name']}: {p['scenario']} vs {p['null_model']} with {p['mode']}, "
                      f"target {p['target_sigma']:g} sigma")
-        if p["status"] == "saturated":
-            lines.append(f"  cannot observe: {p['reason']}")
+        lines.extend(_test_lines(p))
+        if p["status"] in ("saturated", "no_signal", "unbound_atmosphere"):
+            lines.append(f"  {p['status'].replace('_', ' ')}: {p['reason']}")
             continue
         lines.append(f"  transits needed (expected significance): {_fmt_n(p['transits_needed'])}"
                      + (f"  -> {p['hours_total']:.1f} h of telescope time" if p["hours_total"] else ""))
@@ -101,23 +162,12 @@ def format_result(res):
             lines.append(f"  transits for detection probability {probs}")
         lines.append(f"  per transit: {p['significance_per_transit_sigma']:.2f} sigma; limit as N grows: "
                      f"{p['asymptotic_significance_sigma']:.2f} sigma; limiting term: {p['limiting_term']}")
-        if not p["reachable"] and p["reason"]:
+        if p["reason"]:
             lines.append(f"  {p['reason']}")
         lines.append(f"  visit: T14 {p['t14_hours']:.2f} h + baseline {p['baseline_hours']:.2f} h + "
-                     f"overhead = {p['hours_per_transit']:.2f} h; {p['bins_used']} bins used"
-                     + (f", {p['bins_saturated']} saturated" if p["bins_saturated"] else ""))
-        spread = p.get("transits_needed_spread")
-        if spread:
-            s = {k: ("-" if v is None else f"{v:.0f}") for k, v in spread.items()}
-            lines.append(f"  with mass/radius uncertainty: median {s['median']} (16-84%: {s['p16']}-"
-                         f"{s['p84']}); reachable in {p['fraction_of_draws_reachable']:.0%} of draws")
-        if p.get("refit"):
-            lines.append("  alternative re-fitted: " + ", ".join(f"{k} = {v:.4g}"
-                                                                  for k, v in p["refit"].items()))
-        if p.get("fisher_errors"):
-            errs = ", ".join(f"{k} +/- {('inf' if v is None else f'{v:.3g}')}"
-                             for k, v in p["fisher_errors"].items())
-            lines.append(f"  1-sigma errors at N: {errs}")
+                     f"overhead = {p['hours_per_transit']:.2f} h (noise from "
+                     f"{p['in_transit_hours']:.2f} h in transit, (T14 + T23) / 2)")
+        lines.extend(_extra_lines(p))
     return "\n".join(lines)
 
 
@@ -130,6 +180,7 @@ def run(args):
     fa = None if args.floor_averages is None else args.floor_averages == "yes"
     res = transits_for_system(
         system, args.mode, args.scenario, species=args.species, against=args.against,
+        test="goodness-of-fit" if args.goodness_of_fit else None, readout=args.readout,
         sigma=args.sigma, probabilities=tuple(args.probability or (0.5, 0.9)),
         n_max=args.max_transits, resolution=args.resolution, floor_ppm=args.floor,
         floor_averages_down=fa, overhead_hours=args.overhead,
