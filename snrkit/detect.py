@@ -201,7 +201,8 @@ def _shift(values, templates, mean):
 
 
 def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates=None,
-                      alt_templates=None, template_sigma=None, template_mean=None):
+                      alt_templates=None, template_sigma=None, template_mean=None,
+                      null_scale=None):
     """Delta chi^2 = min chi^2(null) - min chi^2(alternative) on given data.
 
     Both models have a free level; each may have nuisance templates whose
@@ -227,6 +228,13 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
         Nuisance templates of each side.
     template_sigma, template_mean : array_like (k,), optional
         Prior widths (default free) and means (default 0) of the amplitudes.
+    null_scale : (float, float), optional
+        The null's fixed part is multiplied by a free factor b within these
+        bounds (profiled: after the level and templates are profiled,
+        chi^2(b) is a convex parabola, so the bounded minimum is at the
+        clipped unconstrained b).  With a lower bound of 0 the flat line is
+        a member of the null, so the statistic never exceeds that of the
+        atmosphere test on the same data.
 
     Returns
     -------
@@ -238,8 +246,16 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
     w = _weights(sigma, d.shape)
     k = None if null_templates is None else np.shape(null_templates)[-1]
     prior = None if k is None else _prior_precision(template_sigma, k)
-    chi_null, _ = _gls(_shift(d - np.asarray(null, dtype=np.float64), null_templates, template_mean),
-                       w, null_templates, prior)
+    nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
+    if null_scale is None:
+        chi_null, _ = _gls(_shift(d - nul, null_templates, template_mean), w, null_templates, prior)
+    else:
+        base = _shift(d, null_templates, template_mean)
+        cols = nul[..., None] if null_templates is None else np.concatenate(
+            [nul[..., None], np.broadcast_to(null_templates, d.shape + (k,))], axis=-1)
+        _, coef = _gls(base, w, cols, None if prior is None else np.concatenate([[0.0], prior]))
+        b = np.clip(coef[..., 1], null_scale[0], null_scale[1])[..., None]
+        chi_null, _ = _gls(base - b * nul, w, null_templates, prior)
     if shape is not None:
         s = np.broadcast_to(np.asarray(shape, dtype=np.float64), d.shape)[..., None]
         cols = s if alt_templates is None else np.concatenate(
@@ -523,8 +539,8 @@ def _per_dof(dof_arr, fn):
 
 def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
                    null_templates=None, alt_templates=None, template_sigma=None,
-                   template_mean=None, floor=0.0, floor_averages=False, dof=1, sigma=5.0,
-                   probabilities=(0.5, 0.9), n_max=1000, n_curve=None):
+                   template_mean=None, null_scale=None, floor=0.0, floor_averages=False, dof=1,
+                   sigma=5.0, probabilities=(0.5, 0.9), n_max=1000, n_curve=None):
     """Significance against the number of transits, and the transits needed.
 
     All spectra are depths on one wavelength grid, in one unit (ppm or
@@ -546,9 +562,9 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
         reproduces the data exactly.
     templates : array_like (..., n_wl, k), optional
         Same as ``null_templates`` (nuisance templates of the null).
-    null_templates, alt_templates, template_sigma, template_mean :
-        Nuisance templates and their Gaussian priors (see
-        :func:`nested_delta_chi2`).  With a finite prior, lambda(N) is not
+    null_templates, alt_templates, template_sigma, template_mean, null_scale :
+        Nuisance templates and their Gaussian priors, and the bounds of a
+        free factor on the null (see :func:`nested_delta_chi2`).  With a finite prior, lambda(N) is not
         N lambda(1), so it is recomputed per N.
     floor : float or array_like
         Systematics floor per bin (same unit).
@@ -594,7 +610,7 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
     fl = np.broadcast_to(np.asarray(floor, dtype=np.float64), d.shape)
     f2 = fl ** 2
     kw = dict(alt=alt, shape=shape, null_templates=null_templates, alt_templates=alt_templates,
-              template_sigma=template_sigma, template_mean=template_mean)
+              template_sigma=template_sigma, template_mean=template_mean, null_scale=null_scale)
 
     def lam_fn(n):
         n = np.asarray(n, dtype=np.float64)[..., None]
@@ -635,8 +651,9 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
 
     no_signal = ~(lam1 > 0)
     reachable = n_needed > 0
-    limiting = _limiting_terms(d, nul, s2, fl, used, floor_averages, lam1, lam_inf, need_expected,
-                               n_needed, null_templates, template_sigma, template_mean)
+    lam_at_n = lam_fn(np.maximum(n_needed, 1))
+    limiting = _limiting_terms(d, nul, s2, fl, used, lam1, lam_inf, need_expected, n_needed,
+                               lam_at_n, kw)
 
     if n_curve is None:
         n_curve = default_curve_transits(n_max)
@@ -661,17 +678,16 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
     }
 
 
-def _limiting_terms(d, nul, s2, fl, used, floor_averages, lam1, lam_inf, target, n_needed,
-                    null_templates, template_sigma, template_mean):
+def _limiting_terms(d, nul, s2, fl, used, lam1, lam_inf, target, n_needed, lam_at_n, kw):
     """Name what limits each test: white noise, the floor, contamination, N or no signal."""
     reachable = n_needed > 0
     limiting = np.full(lam1.shape, "white noise", dtype="<U24")
     masked = np.zeros(lam1.shape, dtype=bool)
-    if null_templates is not None:
+    if kw.get("null_templates") is not None:
         # "masked" when the fitted signature removes three quarters of the signal
         # (threshold: common practice, no source)
         sig1 = np.sqrt(s2 + fl ** 2)
-        free = nested_delta_chi2(d, nul, sig1)
+        free = nested_delta_chi2(d, nul, sig1, null_scale=kw.get("null_scale"))
         masked = lam1 < 0.25 * free
     floor_limited = lam_inf < target
     limiting = np.where(~reachable & floor_limited, "noise floor", limiting)
@@ -679,12 +695,11 @@ def _limiting_terms(d, nul, s2, fl, used, floor_averages, lam1, lam_inf, target,
     limiting = np.where(~reachable & masked, "stellar contamination", limiting)
     limiting = np.where(~(lam1 > 0) & ~masked, "no signal", limiting)
     if np.any(reachable) and np.any(fl > 0):
-        # which noise term dominates at the N needed (median over used bins)
+        # the floor limits a reachable test when it removes more than half of the
+        # Delta chi^2 that white noise alone would give at the N needed (threshold:
+        # common practice, no source)
         n_at = np.maximum(n_needed, 1)[..., None].astype(np.float64)
-        use = used | ~np.any(used, axis=-1, keepdims=True)
-        with np.errstate(all="ignore"):
-            white = np.nanmedian(np.where(use, np.nan_to_num(s2 / n_at), np.nan), axis=-1)
-            flr = np.nanmedian(np.where(use, fl ** 2 / (n_at if floor_averages else 1.0), np.nan),
-                               axis=-1)
-        limiting = np.where(reachable & (flr > white), "noise floor", limiting)
+        s1 = np.sqrt(s2 / n_at)
+        white_only = nested_delta_chi2(d, nul, np.where(used, s1, np.nan), **kw)
+        limiting = np.where(reachable & (lam_at_n < 0.5 * white_only), "noise floor", limiting)
     return limiting

@@ -9,12 +9,20 @@ nested models on noise-free data with the same bins, noise and nuisances
 test               null (rejected)                alternative (true)
 =================  =============================  ================================
 atmosphere         level                          level + a T(lambda), a >= 0
-species X          level + T without X            level + T
+species X          level + b (T without X)        level + T
+                   (0 <= b <= 2, profiled)
 against B          level + B                      level + T
 goodness of fit    level                          any spectrum (nu = bins - 1 - k)
 =================  =============================  ================================
 
-T is the scenario's spectrum.  Unocculted spots and faculae multiply every
+T is the scenario's spectrum.  In the species test the remaining features
+of the scenario carry a free factor b between 0 and 2 (:data:`SPECIES_SCALE`):
+it stands for the continuum parameters that set their amplitude (temperature,
+mean molecular weight, a cloud deck muting them), so that X is credited only
+with what the rest of the atmosphere cannot mimic.  b = 0 is the flat line,
+so the atmosphere test is never less significant than a species test on the
+same data (range: common practice, no source; ``--refit`` moves the physical
+parameters themselves).  Unocculted spots and faculae multiply every
 depth by epsilon(lambda) (Rackham, Apai & Giampapa 2018, ApJ 853, 122), so
 the data are T epsilon.  When the contamination is *fitted*, each model M
 carries the nuisance a_c M (epsilon - 1) with a Gaussian prior on a_c of
@@ -36,8 +44,10 @@ import numpy as np
 from . import detect as dt
 
 __all__ = ["NestedModels", "build_models", "run_test", "delta_chi2_per_transit", "transits_spread",
-           "GOODNESS_OF_FIT"]
+           "GOODNESS_OF_FIT", "SPECIES_SCALE"]
 
+#: Bounds of the free factor on the remaining features in a species test.
+SPECIES_SCALE = (0.0, 2.0)
 #: Name of the model-agnostic goodness-of-fit test (never the default).
 GOODNESS_OF_FIT = "goodness-of-fit"
 
@@ -59,11 +69,14 @@ class NestedModels:
         Their Gaussian priors.
     goodness_of_fit : bool
         The statistic is the null's chi^2 with nu = bins - 1 - k.
+    null_scale : (float, float) or None
+        Bounds of a free factor on the null's fixed part.
     """
 
     def __init__(self, data, null, *, alt=None, shape=None, null_templates=None,
                  alt_templates=None, template_sigma=None, template_mean=None,
-                 goodness_of_fit=False):
+                 goodness_of_fit=False, null_scale=None):
+        self.null_scale = null_scale
         self.data = np.asarray(data, dtype=np.float64)
         self.null = np.broadcast_to(np.asarray(null, dtype=np.float64), self.data.shape)
         self.alt, self.shape = alt, shape
@@ -86,7 +99,7 @@ class NestedModels:
                           null_templates=zt(self.null_templates),
                           alt_templates=zt(self.alt_templates),
                           template_sigma=self.template_sigma, template_mean=self.template_mean,
-                          goodness_of_fit=self.goodness_of_fit)
+                          goodness_of_fit=self.goodness_of_fit, null_scale=self.null_scale)
 
     def take(self, sel):
         """The models of the elements ``sel`` (a boolean mask over the batch axes)."""
@@ -96,12 +109,12 @@ class NestedModels:
         return NestedModels(self.data[sel], self.null[sel], alt=t(self.alt), shape=t(self.shape),
                           null_templates=t(self.null_templates), alt_templates=t(self.alt_templates),
                           template_sigma=self.template_sigma, template_mean=self.template_mean,
-                          goodness_of_fit=self.goodness_of_fit)
+                          goodness_of_fit=self.goodness_of_fit, null_scale=self.null_scale)
 
     def stack_kwargs(self):
         return dict(alt=self.alt, shape=self.shape, null_templates=self.null_templates,
                     alt_templates=self.alt_templates, template_sigma=self.template_sigma,
-                    template_mean=self.template_mean)
+                    template_mean=self.template_mean, null_scale=self.null_scale)
 
 
 def build_models(kind, truth, null, epsilon=None, fitted=True, goodness_of_fit=False):
@@ -124,8 +137,9 @@ def build_models(kind, truth, null, epsilon=None, fitted=True, goodness_of_fit=F
     t = np.asarray(truth, dtype=np.float64)
     flat = kind == "atmosphere"
     n0 = np.zeros_like(t) if flat else np.asarray(null, dtype=np.float64)
+    scale = SPECIES_SCALE if kind == "species" else None
     if epsilon is None:
-        return NestedModels(t, n0, goodness_of_fit=goodness_of_fit)
+        return NestedModels(t, n0, goodness_of_fit=goodness_of_fit, null_scale=scale)
     eps = np.asarray(epsilon, dtype=np.float64)
     data = t * eps
     shape = t if flat and not goodness_of_fit else None
@@ -133,7 +147,7 @@ def build_models(kind, truth, null, epsilon=None, fitted=True, goodness_of_fit=F
     if not fitted:
         if goodness_of_fit:
             return NestedModels(data, n0, goodness_of_fit=True)
-        return NestedModels(data, n0, alt=alt, shape=shape)
+        return NestedModels(data, n0, alt=alt, shape=shape, null_scale=scale)
     level = np.nanmean(t, axis=-1, keepdims=True)
     null_model = np.broadcast_to(level, t.shape) if flat else n0
     kw = dict(null_templates=(null_model * (eps - 1.0))[..., None],
@@ -142,8 +156,8 @@ def build_models(kind, truth, null, epsilon=None, fitted=True, goodness_of_fit=F
         return NestedModels(data, n0, alt_templates=None, goodness_of_fit=True,
                           **{k: kw[k] for k in ("null_templates", "template_sigma",
                                                 "template_mean")})
-    return NestedModels(data, n0, alt=alt, shape=shape,
-                      alt_templates=(t * (eps - 1.0))[..., None], **kw)
+    return NestedModels(data, n0, alt=alt, shape=shape, null_scale=scale,
+                        alt_templates=(t * (eps - 1.0))[..., None], **kw)
 
 
 def _usable(white, saturated, models):
@@ -281,7 +295,7 @@ def transits_spread(models, used, obs, scale, *, sigma, n_max):
                         shape=None if m.shape is None else np.broadcast_to(m.shape, s.shape[:1] + m.shape.shape),
                         null_templates=sct(m.null_templates), alt_templates=sct(m.alt_templates),
                         template_sigma=m.template_sigma, template_mean=m.template_mean,
-                        goodness_of_fit=m.goodness_of_fit)
+                        goodness_of_fit=m.goodness_of_fit, null_scale=m.null_scale)
     usable = np.broadcast_to(used["usable"], scaled.data.shape)
     res = _stack(scaled, np.broadcast_to(used["white"], scaled.data.shape),
                  np.broadcast_to(obs["floor"], scaled.data.shape), usable, obs["floor_averages"],
