@@ -35,7 +35,7 @@ bias, and its share of Delta chi^2 is reported.
 The readout of a bright star is chosen here for the test: every readout
 candidate of the precision (:func:`snrkit.photons.readout.readout_candidates`)
 is tried and each target keeps the one that needs the fewest transits (ties:
-the larger asymptotic, then per-transit, Delta chi^2), its saturated bins
+the larger per-transit, then asymptotic, Delta chi^2), its saturated bins
 dropped.
 """
 
@@ -211,10 +211,10 @@ def _choose(models, options, floor, floor_averages, sigma, n_max):
             same = ~differs
             n_need[j][same], lam_inf[j][same], lam1[j][same] = (
                 n_need[0][same], lam_inf[0][same], lam1[0][same])
-    # fewest transits, then the larger asymptotic, then per-transit Delta chi^2;
-    # the first (unsaturated) option wins ties
+    # fewest transits, then the larger per-transit, then asymptotic Delta chi^2;
+    # the first (unsaturated) option wins exact ties
     order = np.lexsort((np.broadcast_to(np.arange(n_opt).reshape((n_opt,) + (1,) * len(batch)),
-                                        shape), -lam1, -lam_inf, n_need), axis=0)
+                                        shape), -lam_inf, -lam1, n_need), axis=0)
     return order[0]
 
 

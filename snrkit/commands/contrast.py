@@ -1,7 +1,7 @@
 """``snrkit contrast SYSTEM.toml --mode M --scenarios A,B,C``: transits to tell scenarios apart."""
 
 from ._common import add_system_args, print_json, print_notes
-from .transits import add_observation_args
+from .transits import add_observation_args, resolution_value
 
 __all__ = ["add_parser", "run"]
 
@@ -20,7 +20,7 @@ def run(args):
     system = load_system(args.system, planet=args.planet)
     fa = None if args.floor_averages is None else args.floor_averages == "yes"
     res = contrast_for_system(system, args.mode, args.scenarios, sigma=args.sigma,
-                              n_max=args.max_transits, resolution=args.resolution,
+                              n_max=args.max_transits, resolution=resolution_value(args.resolution),
                               floor_ppm=args.floor, floor_averages_down=fa,
                               overhead_hours=args.overhead, solver=args.solver)
     if args.json:

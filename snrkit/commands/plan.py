@@ -16,7 +16,7 @@ def add_parser(p):
                    help="atmosphere (default), species:GAS or against:SCENARIO")
     p.add_argument("--sigma", type=float, default=5.0)
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
-    p.add_argument("--resolution", type=resolution_value, metavar="R",
+    p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100)")
     p.add_argument("--from", dest="start", default="2027-01-01", metavar="DATE",
                    help="first date searched (UTC, default 2027-01-01)")
@@ -49,7 +49,7 @@ def run(args):
         system = load_system(path, planet=args.planet)
         res = programme_plan(system, args.mode, args.scenario, test=args.test, sigma=args.sigma,
                              start=args.start, years=args.years, observatory=args.observatory,
-                             n_max=args.max_transits, resolution=args.resolution,
+                             n_max=args.max_transits, resolution=resolution_value(args.resolution),
                              overhead_hours=args.overhead)
         results.append(res)
         chosen = set()

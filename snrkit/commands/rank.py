@@ -23,7 +23,7 @@ def add_parser(p):
                         "(a flat line rejected at bins - 1 degrees of freedom)")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
-    p.add_argument("--resolution", type=resolution_value, metavar="R",
+    p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100, as for transits; "
                         "bins narrower than a resolution element are merged)")
     p.add_argument("--sort", default="hours", metavar="KEY[:asc|:desc]",
@@ -89,7 +89,7 @@ def run(args):
         check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     cat = read_catalogue(args.catalogue, mapping=args.mapping)
     table = rank_catalogue(cat, args.mode, args.scenario, test=args.test, sigma=args.sigma,
-                           n_max=args.max_transits, resolution=args.resolution,
+                           n_max=args.max_transits, resolution=resolution_value(args.resolution),
                            sort_by=args.sort, filters=_filters(args),
                            progress=ProgressBar(not args.quiet and not args.json),
                            each_scenario=args.each_scenario)

@@ -13,7 +13,7 @@ def add_observation_args(p):
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
     p.add_argument("--max-transits", type=int, default=500, metavar="N",
                    help="largest number of transits considered (default 500)")
-    p.add_argument("--resolution", type=resolution_value, metavar="R",
+    p.add_argument("--resolution", metavar="R",
                    help="bin the spectrum to this resolving power, or 'native' for the mode's own "
                         "bins (default 100; bins narrower than a resolution element are merged)")
     p.add_argument("--floor", type=float, metavar="PPM",
@@ -30,9 +30,11 @@ def add_observation_args(p):
 
 
 def resolution_value(text):
-    """A resolving power > 1, or 'native' (the mode's own bins)."""
+    """A resolving power > 1, 'native' (the mode's own bins), or None (the default)."""
     import math
     from ..errors import InputError
+    if text is None:
+        return None
     if str(text).strip().lower() == "native":
         return "native"
     try:
@@ -182,7 +184,7 @@ def run(args):
         system, args.mode, args.scenario, species=args.species, against=args.against,
         test="goodness-of-fit" if args.goodness_of_fit else None, readout=args.readout,
         sigma=args.sigma, probabilities=tuple(args.probability or (0.5, 0.9)),
-        n_max=args.max_transits, resolution=args.resolution, floor_ppm=args.floor,
+        n_max=args.max_transits, resolution=resolution_value(args.resolution), floor_ppm=args.floor,
         floor_averages_down=fa, overhead_hours=args.overhead,
         contamination=parse_contamination(args), uncertainty_draws=args.uncertainty_draws,
         seed=args.seed, fisher=args.fisher, solver=args.solver,
