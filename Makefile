@@ -34,6 +34,7 @@ bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_spectrum.py
 	$(VPY) benchmarks/bench_stacker.py
 	$(VPY) benchmarks/bench_rank.py
+	$(VPY) benchmarks/bench_framework.py
 
 clean:
 	rm -rf $(VENV) build dist .pytest_cache snrkit_demo_output

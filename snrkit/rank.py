@@ -54,7 +54,7 @@ def _check_filters(filters):
 
 def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
                    resolution=None, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
-                   progress=None, overhead_hours=None, each_scenario=False):
+                   progress=None, overhead_hours=None, each_scenario=False, readout=None):
     """Rank every usable row of a catalogue.
 
     Parameters
@@ -91,6 +91,9 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``progress(done, total)`` after each chunk (the CLI draws a bar).
     overhead_hours : float, optional
         Per-visit overhead.
+    readout : int or "unsaturated", optional
+        As in :func:`snrkit.transits.transits_for_system` (default: chosen
+        per row for the test).
     each_scenario : bool
         Rank every scenario on its own and stack the tables (one row per
         input row and scenario, ``rank`` within the scenario) instead of
@@ -119,7 +122,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         specs = [scenarios] if isinstance(scenarios, (str, dict)) else list(scenarios)
         parts = [rank_catalogue(catalogue, modes, [sp], test=test, sigma=sigma, n_max=n_max,
                                 resolution=resolution, sort_by=sort_by, filters=filters,
-                                chunk=chunk, progress=progress, overhead_hours=overhead_hours)
+                                chunk=chunk, progress=progress, overhead_hours=overhead_hours,
+                                readout=readout)
                  for sp in specs]
         for part in parts:               # label every row, rejected ones too
             part["scenario"] = [part.meta["scenarios"][0]] * len(part)
@@ -188,7 +192,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                         res = transits_for_system(sub, mode, sc, test=test, sigma=sigma,
                                                   n_max=n_max, resolution=resolution,
                                                   probabilities=(), overhead_hours=overhead_hours,
-                                                  curves=False)
+                                                  curves=False, readout=readout)
                     for w in caught:
                         notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
                     notes.update({n[:300]: None for n in res["notes"][:3]})

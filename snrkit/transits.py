@@ -142,7 +142,8 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
     ``resolution`` None uses :data:`snrkit.photons.precision.DEFAULT_RESOLUTION`
     (unless ``bin_edges`` are given); ``"native"`` the mode's own bins.
     With automatic readout the result carries every readout candidate
-    (``options``), so the test can choose.
+    (``options``), so the test can choose; ``readout="unsaturated"`` keeps
+    only the largest unsaturated number of groups.
 
     Returns
     -------
@@ -159,12 +160,13 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
     d = system.derived_arrays()
     names = [str(x) for x in system.names]
     res_arg = None if bin_edges is not None else _resolution_arg(resolution)
+    unsaturated = isinstance(readout, str) and readout == "unsaturated"
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SnrkitWarning)
         prec = system_precision(system, mode, resolution=res_arg, bin_edges=bin_edges,
                                 floor_ppm=floor_ppm, floor_averages_down=floor_averages_down,
-                                baseline=baseline, readout=readout, warn=True,
-                                readout_options=True)
+                                baseline=baseline, readout="auto" if unsaturated else readout,
+                                warn=True, readout_options=not unsaturated)
     budget = prec["noise_budget_ppm"]
     white_terms = [t for t in budget["term"].values if t != "floor"]
     white = np.sqrt((budget.sel(term=white_terms) ** 2).sum("term", skipna=False))
@@ -234,8 +236,9 @@ def transits_for_system(system, mode, scenario=None, **options):
     floor_ppm, floor_averages_down, baseline :
         Override the mode's floor (ppm per resolution element) and the
         observation's baseline.
-    readout : int, optional
-        Fixed groups per integration; default: chosen for the test.
+    readout : int or "unsaturated", optional
+        Fixed groups per integration, or the most groups that saturate no
+        bin; default: chosen per target for the test (:mod:`snrkit.hypotheses`).
     overhead_hours : float, optional
         Per-visit overhead (default :data:`snrkit.forecast.DEFAULT_OVERHEAD_HOURS`).
     contamination : dict, optional

@@ -2,7 +2,9 @@
 
 For each demo system file: its description, the spectrum of each planet's
 scenario, the transits needed to detect the atmosphere (against a flat line)
-and its main gases (H2O, CO2 where present) with the planet's instrument
+and its main gases (H2O, CO2 where present) -- nested likelihood-ratio tests
+with one degree of freedom on the same bins and noise, so the atmosphere never
+needs more transits than one of its gases -- with the planet's instrument
 mode (``[planet.observation] mode``, or the low-resolution prism preset), and
 a figure.  Everything is written into a results folder with a plain-text
 summary, which is also printed.
@@ -11,6 +13,7 @@ summary, which is also printed.
 from pathlib import Path
 
 from ._common import print_json
+from .transits import plural
 
 __all__ = ["add_parser", "run", "demo_files", "DEFAULT_MODE", "run_demo"]
 
@@ -111,15 +114,19 @@ def _chain(system, stem, out, summary):
             safe = str(name).replace(" ", "_")
             atomic_write_text(out / f"{safe}_{tag}.json", json.dumps(jsonable(rec), indent=2) + "\n")
             plot_transits(res, out / f"{safe}_{tag}.png", seed=1)
-            if rec["status"] == "saturated":
-                lines.append(f"    {tag:<10} cannot be observed: {rec['reason']}")
+            if kind == "atmosphere":
+                lines.append(f"    (each test: {rec['test_statistic']}; {rec['bins_used']} bins, "
+                             f"{rec['binning']}; readout {rec['groups_per_integration']} groups, "
+                             f"{rec['bins_saturated']} saturated bins dropped)")
+            if rec["status"] in ("saturated", "no_signal", "stellar_contamination"):
+                lines.append(f"    {tag:<10} {rec['status'].replace('_', ' ')}: {rec['reason']}")
             elif rec["transits_needed"] is None:
                 lines.append(f"    {tag:<10} not reachable within the transit limit "
                              f"({rec['limiting_term']}; {rec['asymptotic_significance_sigma']:.1f} sigma at most)")
             else:
                 spread = rec.get("transits_needed_spread") or {}
                 s84 = spread.get("p84")
-                lines.append(f"    {tag:<10} {rec['transits_needed']:>4} transits for "
+                lines.append(f"    {tag:<10} {plural(rec['transits_needed'], 'transit'):>12} for "
                              f"{rec['target_sigma']:g} sigma ({rec['hours_total']:.0f} h; 90% probability: "
                              f"{rec['transits_for_probability'].get('0.9') or 'not reachable'}; "
                              f"84th percentile over mass/radius: "
@@ -150,7 +157,7 @@ def _catalogue_and_plan(files, out, summary):
     summary.append(f"demo catalogue ({len(table)} invented rows), atmosphere test, h2-clear-solar, "
                    f"{DEFAULT_MODE}: {table.meta['status_counts']}")
     for r in top[:5]:
-        summary.append(f"  {int(r['rank']):>2}. {r['name']:<14} {int(r['transits_needed'])} transits, "
+        summary.append(f"  {int(r['rank']):>2}. {r['name']:<14} {plural(int(r['transits_needed']), 'transit')}, "
                        f"{float(r['hours_total']):.1f} h (TSM {float(r['tsm']):.1f})")
     summary.append("")
     plans = []
@@ -164,7 +171,7 @@ def _catalogue_and_plan(files, out, summary):
             for p in res["planets"]:
                 plans.append(p)
                 if p["enough_windows"]:
-                    summary.append(f"  plan {p['name']}: {p['transits_needed']} transits from "
+                    summary.append(f"  plan {p['name']}: {plural(p['transits_needed'], 'transit')} from "
                                    f"{p['windows'][0]['start_utc'][:10]} to "
                                    f"{p['windows'][-1]['end_utc'][:10]} ({p['span_years']:.2f} years, "
                                    f"{p['hours_total']:.0f} h; {p['observable_fraction']:.0%} of "
