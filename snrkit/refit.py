@@ -7,10 +7,11 @@ Every continuum parameter that a fit may move has a physical range:
 * ``cloud_top_pressure``: between the model's top pressure
   (:data:`snrkit.atmosphere.spectrum.DEFAULT_TOP_PRESSURE_PA`) and its floor
   (the surface, or the deep boundary of the model);
-* ``reference_radius``: a factor tied to the observed transit radius within
-  its uncertainty, 1 +/- 3 sigma_R/R, with a Gaussian prior of width
-  sigma_R/R in the fit (:data:`DEFAULT_RADIUS_FRACTION` when the planet
-  states no uncertainty; common practice, no source).
+* ``reference_radius``: a factor on the observed transit radius, to which
+  every model is calibrated (its band-averaged depth equals the observed
+  depth), within its uncertainty: 1 +/- 3 sigma_R/R, with a Gaussian prior
+  of width sigma_R/R in the fit (:data:`DEFAULT_RADIUS_FRACTION` when the
+  planet states no uncertainty; common practice, no source).
 
 :func:`refit_null` moves the null (the scenario without a species, or the
 other scenario) to its best fit inside these bounds (scipy.optimize
@@ -68,6 +69,15 @@ def parameter_ranges(sc, radius_fraction):
     }
 
 
+def _one_planet(kw, i):
+    """Slice the per-planet spectrum keywords to planet ``i`` (in place)."""
+    for key in ("planet_mass", "equilibrium_temperature", "semi_major_axis"):
+        kw[key] = np.atleast_1d(kw[key])[i:i + 1]
+    w = kw.get("calibration_weights")
+    if w is not None and np.ndim(w) == 2:
+        kw["calibration_weights"] = np.asarray(w)[i:i + 1]
+
+
 def _bounded_minimum(cost, start, lows, highs):
     from scipy.optimize import minimize
     x0 = np.asarray(start, dtype=np.float64)
@@ -117,8 +127,7 @@ def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fracti
     for i in range(len(rp)):
         kw = dict(spec_kw)
         kw["planet_names"] = [kw["planet_names"][i]]
-        for key in ("planet_mass", "equilibrium_temperature", "semi_major_axis"):
-            kw[key] = np.atleast_1d(kw[key])[i:i + 1]
+        _one_planet(kw, i)
         ok = np.isfinite(sigma[i]) & np.isfinite(data[i])
         ranges = parameter_ranges(alt_sc, radius_fraction[i])
 
@@ -265,8 +274,7 @@ def scenario_fisher(sc, rp, rs, radius_fraction, spec_kw, transmission_spectrum,
     for i in range(len(rp)):
         kw = dict(spec_kw)
         kw["planet_names"] = [kw["planet_names"][i]]
-        for key in ("planet_mass", "equilibrium_temperature", "semi_major_axis"):
-            kw[key] = np.atleast_1d(kw[key])[i:i + 1]
+        _one_planet(kw, i)
         f = float(radius_fraction[i])
         par = dict(params)
         par["radius_factor"] = (1.0, 1e-4, max(1.0 - 3 * f, 0.05), 1.0 + 3 * f)

@@ -191,10 +191,15 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
         "saturated": np.asarray(prec["saturated"].transpose("planet", "wavelength").values, dtype=bool),
         "edges_um": edges_um, "wl": np.sqrt(edges_um[1:] * edges_um[:-1]), "binning": binning,
         "rp": d["radius_m"] / R_EARTH, "rs": system.star.radius_m / R_SUN,
+        # the model is calibrated to the observed depth as this mode measures it in white
+        # light: the band average weighted by the detected photons per bin
         "spec_kw": dict(planet_mass=d["mass_kg"] / M_EARTH,
                         equilibrium_temperature=d["equilibrium_temperature_K"],
                         semi_major_axis=d["semi_major_axis_m"] / AU, wavelength_edges=edges_um,
-                        planet_names=names, solver=solver),
+                        planet_names=names, solver=solver,
+                        calibration_weights=np.asarray(
+                            prec["photon_rate"].transpose("planet", "wavelength").values,
+                            dtype=np.float64)),
     }
 
 

@@ -312,11 +312,9 @@ def test_dataset_layout():
 
 
 @pytest.mark.parametrize("name", mode_names())
-def test_every_preset_runs_fast(name):
-    import time
-    t = time.perf_counter()
+def test_every_preset_runs(name):
+    # (speed is a benchmark figure, not a unit-test assertion)
     ds = quiet(mode=name, magnitude=[6.0, 10.0, 14.0], teff=5800.0, transit_duration=3.0)
-    assert time.perf_counter() - t < 1.0
     ok = ~ds["saturated"].values
     assert (ds["noise_ppm_per_transit"].values[ok] > 0).all()
 

@@ -337,6 +337,7 @@ def test_source_delegates_everything_else():
 @pytest.mark.parametrize("solver", ["analytic", "layers"])
 @pytest.mark.parametrize("alpha", [-4.0, 2.0])
 def test_power_law_table_gives_slope_alpha_scale_heights(solver, alpha):
+    # (radius at the reference pressure, so that the lift by ten times the opacity shows)
     # Lecavelier des Etangs et al. 2008 (A&A 481, L83): for sigma ~ lambda^alpha
     # the effective radius changes by dR/d ln(lambda) = alpha H, H the local
     # scale height (g ~ 1/r^2 here: H(r) = H0 (r/R0)^2; the chord-length factor
@@ -350,7 +351,8 @@ def test_power_law_table_gives_slope_alpha_scale_heights(solver, alpha):
                                   "reference_pressure": 1.0},
                                  R_JUP * u.m, R_SUN * u.m, gravity=25.0,
                                  equilibrium_temperature=1000.0, wavelength_edges=edges * 1e6,
-                                 solver=solver, n_g=4, opacity_source=src)
+                                 solver=solver, n_g=4, opacity_source=src,
+                                 radius_calibration="reference-pressure")
     r_eff = np.sqrt(ds.transit_depth_ppm.values[0] * 1e-6) * R_SUN
     slope = np.polyfit(np.log(ds.wavelength.values), r_eff, 1)[0]
     h = ds.scale_height_km.values[0] * 1e3
@@ -366,7 +368,8 @@ def test_power_law_table_gives_slope_alpha_scale_heights(solver, alpha):
                                    R_JUP * u.m, R_SUN * u.m, gravity=25.0,
                                    equilibrium_temperature=1000.0, wavelength_edges=edges * 1e6,
                                    solver=solver, n_g=4,
-                                   opacity_source=UserOpacitySource({"PH3": t10}))
+                                   opacity_source=UserOpacitySource({"PH3": t10}),
+                                   radius_calibration="reference-pressure")
     r10 = np.sqrt(ds10.transit_depth_ppm.values[0] * 1e-6) * R_SUN
     assert np.mean(r10 - r_eff) == pytest.approx(math.log(10) * h_loc, rel=0.05)
 

@@ -74,6 +74,7 @@ __all__ = [
     "FEATURE_RESOLUTION",
     "band_amplitude_scale_heights",
     "feature_scale_heights",
+    "RADIUS_CALIBRATIONS",
 ]
 
 #: Euler-Mascheroni constant.
@@ -643,7 +644,7 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
 _CHUNK_ELEMENTS = 4_000_000
 
 
-def _solve_depth(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top,
+def _solve_depth(sc, *, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top,
                  refraction, exclude=None, pressure_broadening=True):
     """Bin-average depth (n_planet, n_wave) and extras, solving planet chunks in turn."""
     npl = rp.shape[0]
@@ -662,12 +663,94 @@ def _solve_depth(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g,
     return np.concatenate(depths, axis=0), ex
 
 
+#: Ways of placing the model against the observed radius (see transmission_spectrum).
+RADIUS_CALIBRATIONS = ("observed-depth", "reference-pressure")
+
+
+def _calibration_weights(weights, edges, npl, band=None):
+    """Per-planet bin weights of the band average (default: width in ln wavelength)."""
+    nw = edges.size - 1
+    if band is not None:
+        try:
+            lo, hi = (float(b) * 1e-6 for b in band)
+        except (TypeError, ValueError):
+            raise InputError("calibration_band", band, "two wavelengths MIN MAX in um") from None
+        if not (np.isfinite(lo) and np.isfinite(hi) and 0 < lo < hi) or hi <= edges[0] \
+                or lo >= edges[-1]:
+            raise InputError("calibration_band", band, f"MIN < MAX [um] overlapping the bins "
+                             f"{edges[0] * 1e6:.4g}-{edges[-1] * 1e6:.4g} um")
+        a, b = np.maximum(edges[:-1], lo), np.minimum(edges[1:], hi)
+        inside = np.where(b > a, np.log(np.maximum(b, a) / a) / np.log(edges[1:] / edges[:-1]), 0.0)
+    else:
+        inside = np.ones(nw)
+    if weights is None:
+        w = np.log(edges[1:] / edges[:-1]) * inside
+    else:
+        w = np.asarray(weights, dtype=np.float64)
+        if w.shape not in ((nw,), (npl, nw)) or np.any(~np.isfinite(w)) or np.any(w < 0) \
+                or np.any(np.sum(np.broadcast_to(w, (npl, nw)), axis=-1) <= 0):
+            raise InputError("calibration_weights", f"shape {w.shape}",
+                             f"finite weights >= 0, shape ({nw},) or ({npl}, {nw}), not all zero")
+        w = w * inside
+    return np.broadcast_to(w, (npl, nw))
+
+
+def _band_radius(depth, rs, weights):
+    """Radius whose area is the weighted band average of the depth (NaN bins ignored)."""
+    ok = np.isfinite(depth)
+    w = np.where(ok, weights, 0.0)
+    mean = np.sum(np.where(ok, depth, 0.0) * w, axis=-1) / np.maximum(np.sum(w, axis=-1), 1e-300)
+    return rs * np.sqrt(mean)
+
+
+def _exact_shift(depth, rs, rp, weights):
+    """delta with sum w (R_i + delta)^2 / sum w = Rp^2, R_i = Rs sqrt(depth_i)."""
+    ok = np.isfinite(depth)
+    w = np.where(ok, weights, 0.0)
+    w = w / np.maximum(np.sum(w, axis=-1, keepdims=True), 1e-300)
+    r = rs[:, None] * np.sqrt(np.where(ok, depth, 0.0))
+    m1, m2 = np.sum(w * r, axis=-1), np.sum(w * r * r, axis=-1)
+    return -m1 + np.sqrt(np.maximum(m1 * m1 - m2 + rp * rp, 0.0))
+
+
+def _calibrated(sc, rp, g0, weights, exclude, kw):
+    """Reference radius R0 that makes the band-averaged depth equal (Rp/Rs)^2.
+
+    Two solves: the first at R0 = Rp gives the offset of the band-averaged
+    effective radius; shifting R0 by it moves every radius by the same
+    amount to first order in H/R, so the second solve is within
+    O(offset H/R) of the target; that remainder is removed exactly by a
+    uniform shift of the effective radii (itself second order, well below
+    1e-3 H).  Gravity
+    follows R0 as g0 (Rp/R0)^2.  With ``exclude`` the calibration is that of
+    the full model and the species is removed afterwards.
+    """
+    rs = kw["rs"]
+    d1, _ = _solve_depth(sc, rp=rp, g0=g0, **kw)
+    r0 = rp - (_band_radius(d1, rs, weights) - rp)
+    r0 = np.where(np.isfinite(r0) & (r0 > 0.5 * rp), r0, rp)
+    g0c = g0 * (rp / r0) ** 2
+    d2, ex = _solve_depth(sc, rp=r0, g0=g0c, **kw)
+    delta = _exact_shift(d2, rs, rp, weights)
+    if exclude is not None:
+        d2, ex = _solve_depth(sc, rp=r0, g0=g0c, exclude=exclude, **kw)
+    return r0, g0c, _shift_radius(d2, rs, delta), ex, delta
+
+
+def _shift_radius(depth, rs, delta):
+    """Depths whose effective radii are moved by ``delta`` [m] (per planet)."""
+    r_eff = rs[:, None] * np.sqrt(depth)
+    return ((r_eff + np.asarray(delta)[:, None]) / rs[:, None]) ** 2
+
+
 def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mass=None,
                           gravity=None, equilibrium_temperature=None, semi_major_axis=None,
                           wavelength_edges=None, resolution=100, solver="analytic",
                           n_layers=None, n_g=8, top_pressure=None, refraction=False,
                           pressure_broadening=True, contributions=False, planet_names=None,
-                          opacity_source=None, exclude_species=None):
+                          opacity_source=None, exclude_species=None,
+                          radius_calibration="observed-depth", calibration_weights=None,
+                          calibration_band=None):
     """Transmission spectrum of one or more atmosphere scenarios.
 
     Parameters
@@ -677,7 +760,8 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         :mod:`snrkit.atmosphere.scenarios`), or a list (adds a ``scenario``
         dimension).
     planet_radius : Quantity or float, shape (n_planet,)
-        Radius at the scenario's reference pressure (bare numbers: Earth radii).
+        The planet's observed (white-light) transit radius (bare numbers:
+        Earth radii); see ``radius_calibration``.
     stellar_radius : Quantity or float
         Bare numbers: solar radii.
     planet_mass : Quantity or float, optional
@@ -717,7 +801,21 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         in the ``depth_without_species_ppm`` contributions.
     contributions : bool
         Also compute the spectrum with each absorbing species removed
-        (``depth_without_species_ppm``).
+        (``depth_without_species_ppm``), on the same reference radius.
+    radius_calibration : {"observed-depth", "reference-pressure"}
+        ``"observed-depth"`` (default): the radius at the scenario's
+        reference pressure is solved so that the model's band-averaged depth
+        over the bins equals the observed depth (planet_radius /
+        stellar_radius)^2 -- the measured radius is a white-light quantity,
+        not the radius of a deep pressure level.  ``"reference-pressure"``:
+        the planet radius is placed at the reference pressure (the older
+        convention; features then sit many scale heights above the observed
+        depth).  Removing a species keeps the calibrated radius of the full
+        model (the same planet without that opacity).
+    calibration_weights : array_like, shape (n_wave,) or (n_planet, n_wave), optional
+        Weights of the bins in the band average (for example the detected
+        photons per bin, so that the average is the instrument's white-light
+        depth).  Default: each bin's width in ln(wavelength).
     planet_names : list of str, optional
         Labels of the planet axis.
     opacity_source : object, optional
@@ -729,10 +827,12 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
     -------
     xarray.Dataset
         Dims ``(planet, wavelength)`` (and ``scenario`` for a list):
-        ``transit_depth_ppm``, ``effective_height_km`` (above the planet
+        ``transit_depth_ppm``, ``effective_height_km`` (above the observed
         radius), per planet ``scale_height_km``,
         ``annulus_ppm_per_scale_height`` (``2 H R_p / R_s**2``),
-        ``reference_depth_ppm``, ``temperature_K``,
+        ``observed_depth_ppm`` ((R_p/R_s)^2, the line the spectrum is
+        calibrated to), ``reference_radius_km`` (radius at the reference
+        pressure) and ``reference_depth_ppm``, ``temperature_K``,
         ``mean_molecular_weight``, ``floor_pressure_bar``; coordinates
         ``wavelength`` (bin centres, um), ``wavelength_lower`` and
         ``wavelength_upper`` (um).  Units are in each variable's attrs.
@@ -808,24 +908,32 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
     source = opacity_source if opacity_source is not None else (
         _default_opacity_source() if needs_opacity else None)
 
+    if radius_calibration not in RADIUS_CALIBRATIONS:
+        raise InputError("radius_calibration", radius_calibration, " or ".join(RADIUS_CALIBRATIONS))
+    weights = _calibration_weights(calibration_weights, edges, npl, calibration_band)
+    solve_kw = dict(source=source, edges=edges, rs=rs, teq=teq, a_m=a_m, solver=solver,
+                    n_layers=n_layers, n_g=n_g, p_top=p_top, refraction=refraction,
+                    pressure_broadening=pressure_broadening)
+
     datasets, contrib = [], []
     for sc in scenarios:
-        depth, ex = _solve_depth(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers,
-                                 n_g, p_top, refraction, exclude=exclude_species,
-                                 pressure_broadening=pressure_broadening)
+        if radius_calibration == "observed-depth" and not sc.featureless:
+            r0, g0c, depth, ex, delta = _calibrated(sc, rp, g0, weights, exclude_species,
+                                                    solve_kw)
+        else:
+            r0, g0c, delta = rp, g0, np.zeros(npl)
+            depth, ex = _solve_depth(sc, rp=rp, g0=g0, exclude=exclude_species, **solve_kw)
         _warn_top(sc, ex, p_top)
         h = scale_height(ex["temperature"], ex["mu"], g0)
-        ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names)
+        ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0 + delta)
         if contributions:
             import xarray as xr
             absorbers = ([] if sc.featureless else
                          [k for k in sc.mixing_ratios if _absorbs(source, k)])
             rows = []
             for sp in absorbers:
-                d_x, _ = _solve_depth(sc, source, edges, rp, rs, g0, teq, a_m, solver,
-                                      n_layers, n_g, p_top, refraction, exclude=sp,
-                                      pressure_broadening=pressure_broadening)
-                rows.append(d_x * 1e6)
+                d_x, _ = _solve_depth(sc, rp=r0, g0=g0c, exclude=sp, **solve_kw)
+                rows.append(_shift_radius(d_x, rs, delta) * 1e6)
             data = (np.stack(rows, axis=1) if rows else np.zeros((npl, 0, edges.size - 1)))
             contrib.append(xr.DataArray(
                 data, dims=("planet", "species", "wavelength"),
@@ -834,7 +942,9 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
                        "removed (mean molecular weight unchanged)"}))
         datasets.append(ds)
     attrs = {"solver": solver, "n_g": int(n_g), "top_pressure_Pa": p_top,
-             "refraction_limit": int(bool(refraction)),
+             "refraction_limit": int(bool(refraction)), "radius_calibration": radius_calibration,
+             "calibration_band_um": ("bins" if calibration_band is None else
+                                     f"{float(calibration_band[0]):g}-{float(calibration_band[1]):g}"),
              "method": ("analytic: Heng & Kitzmann 2017 (MNRAS 470, 2972) at its own reference "
                         "level; layers: chord integration through spherical shells, "
                         "A = pi r_floor^2 + 2 pi int (1 - exp(-tau)) b db; depths averaged "
@@ -881,7 +991,7 @@ def _warn_top(sc, ex, p_top):
                       SnrkitWarning, stacklevel=3)
 
 
-def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names):
+def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0):
     import xarray as xr
     centres = np.sqrt(edges[1:] * edges[:-1]) * 1e6
     r_eff = rs[:, None] * np.sqrt(depth)
@@ -891,15 +1001,20 @@ def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names):
                                   {"units": "ppm", "long_name": "transit depth (Rp,eff/Rs)^2, "
                                    "bin average over the k-distribution"}),
             "effective_height_km": (("planet", "wavelength"), (r_eff - rp[:, None]) / 1e3,
-                                    {"units": "km", "long_name": "effective radius minus planet "
-                                     "radius at the reference pressure"}),
+                                    {"units": "km", "long_name": "effective radius minus the "
+                                     "observed (white-light) planet radius"}),
             "scale_height_km": ("planet", h / 1e3, {"units": "km", "long_name":
                                 "pressure scale height k T / (mu m_u g) at the reference radius"}),
             "annulus_ppm_per_scale_height": ("planet", 2.0 * h * rp / rs**2 * 1e6,
                                              {"units": "ppm", "long_name": "2 H Rp / Rs^2"}),
-            "reference_depth_ppm": ("planet", (rp / rs) ** 2 * 1e6,
-                                    {"units": "ppm", "long_name": "(Rp/Rs)^2 at the reference "
-                                     "pressure"}),
+            "observed_depth_ppm": ("planet", (rp / rs) ** 2 * 1e6,
+                                   {"units": "ppm", "long_name": "observed transit depth "
+                                    "(Rp/Rs)^2"}),
+            "reference_radius_km": ("planet", r0 / 1e3, {"units": "km", "long_name":
+                                    "radius at the scenario's reference pressure"}),
+            "reference_depth_ppm": ("planet", (r0 / rs) ** 2 * 1e6,
+                                    {"units": "ppm", "long_name": "(R0/Rs)^2 with R0 the radius "
+                                     "at the reference pressure"}),
             "temperature_K": ("planet", ex["temperature"], {"units": "K"}),
             "mean_molecular_weight": ("planet", ex["mu"], {"units": "g/mol"}),
             "floor_pressure_bar": ("planet", ex["floor"] / 1e5, {

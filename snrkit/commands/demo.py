@@ -93,8 +93,8 @@ def _chain(system, stem, out, summary):
     from ..plots import plot_transits
     from ..io.atomic import atomic_write_text
     from ._common import jsonable
-    from .spectrum import spectra_for_system, write_spectrum
-    ds = spectra_for_system(system, resolution=100)
+    from .spectrum import spectra_for_system, write_spectrum, WHITE_LIGHT_UM
+    ds = spectra_for_system(system, resolution=100, calibration_band=WHITE_LIGHT_UM)
     write_spectrum(ds, out / f"{stem}_spectra.ecsv")
     results = []
     for i, name in enumerate(system.names):

@@ -37,9 +37,21 @@ def add_parser(p):
                    dest="cross_sections",
                    help="your own cross-section table for a species (repeat for several; "
                         "layout: snrkit.atmosphere.user_opacity); it must cover --range")
+    p.add_argument("--white-light", nargs=2, type=float, default=WHITE_LIGHT_UM,
+                   metavar=("MIN", "MAX"),
+                   help="band [um] whose average model depth is set equal to the observed transit "
+                        f"depth (default {WHITE_LIGHT_UM[0]:g} {WHITE_LIGHT_UM[1]:g})")
+    p.add_argument("--radius-at-reference-pressure", action="store_true",
+                   help="place the planet radius at the scenario's reference pressure instead "
+                        "(the model then misses the observed depth)")
     p.add_argument("--out", metavar="FILE.ecsv|FILE.nc", help="write the spectra to a file")
     p.add_argument("--plot", metavar="FILE.png", help="plot the spectra")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+#: Default white-light band [um] to which spectra are calibrated (a broad
+#: near-infrared band; common practice, no source).
+WHITE_LIGHT_UM = (0.6, 5.0)
 
 
 def spectra_for_system(system, scenarios=None, **kwargs):
@@ -110,6 +122,7 @@ def _summary_rows(ds):
             "temperature_K": float(one["temperature_K"]),
             "mean_molecular_weight": float(one["mean_molecular_weight"]),
             "min_depth_ppm": float(depth.min()), "max_depth_ppm": float(depth.max()),
+            "observed_depth_ppm": float(one["observed_depth_ppm"]),
         })
     return rows
 
@@ -184,8 +197,10 @@ def plot_spectrum(ds, path, scenario_species=None):
     fig, ax = plt.subplots(figsize=(9, 4.8))
     lam = ds["wavelength"].values
     for planet, scen, one in _flat_spectra(ds):
-        ax.step(lam, one["transit_depth_ppm"].values, where="mid", lw=1.0,
-                label=f"{planet} - {scen}")
+        line, = ax.step(lam, one["transit_depth_ppm"].values, where="mid", lw=1.0,
+                        label=f"{planet} - {scen}")
+        ax.axhline(float(one["observed_depth_ppm"]), color=line.get_color(), ls=":", lw=0.8,
+                   label=f"{planet}: observed depth")
     ax.set_xscale("log")
     ax.set_xlabel("wavelength [um]")
     ax.set_ylabel("transit depth [ppm]")
@@ -234,10 +249,18 @@ def run(args):
                 raise InputError("--cross-sections", item, "each species at most once")
             tables[species] = path
         source = UserOpacitySource(tables)
+    calib = "reference-pressure" if args.radius_at_reference_pressure else "observed-depth"
+    band = tuple(args.white_light)
+    if calib == "observed-depth":
+        wl_lo, wl_hi = band
+        if not (0 < wl_lo < wl_hi) or wl_hi <= lo or wl_lo >= hi:
+            raise InputError("--white-light", f"{wl_lo:g} {wl_hi:g}",
+                             f"MIN < MAX [um] overlapping --range {lo:g}-{hi:g}")
     ds = spectra_for_system(system, scenarios or None, wavelength_edges=edges * 1e6,
                             solver=args.solver, n_layers=args.layers,
                             refraction=args.refraction, contributions=args.contributions,
-                            opacity_source=source)
+                            opacity_source=source, radius_calibration=calib,
+                            calibration_band=band if calib == "observed-depth" else None)
     if args.out:
         write_spectrum(ds, args.out)
     if args.plot:
@@ -286,15 +309,17 @@ def run(args):
         print_json(out)
         return 0
     print(f"solver {args.solver}, R = {args.resolution:g}, {lo:g}-{hi:g} um, "
-          f"{ds.sizes['wavelength']} bins")
+          f"{ds.sizes['wavelength']} bins; "
+          + (f"model depth averaged over {band[0]:g}-{band[1]:g} um equals the observed depth"
+             if calib == "observed-depth" else "planet radius at the reference pressure"))
     head = (f"{'planet':<14} {'scenario':<22} {'T [K]':>7} {'mu':>6} {'H [km]':>8} "
-            f"{'2HRp/Rs^2':>10} {'min [ppm]':>10} {'max [ppm]':>10}")
+            f"{'2HRp/Rs^2':>10} {'observed':>10} {'min [ppm]':>10} {'max [ppm]':>10}")
     print(head)
     for r in rows:
         print(f"{r['planet']:<14} {r['scenario']:<22} {r['temperature_K']:7.0f} "
               f"{r['mean_molecular_weight']:6.2f} {r['scale_height_km']:8.1f} "
-              f"{r['annulus_ppm_per_scale_height']:10.1f} {r['min_depth_ppm']:10.1f} "
-              f"{r['max_depth_ppm']:10.1f}")
+              f"{r['annulus_ppm_per_scale_height']:10.1f} {r['observed_depth_ppm']:10.1f} "
+              f"{r['min_depth_ppm']:10.1f} {r['max_depth_ppm']:10.1f}")
     print()
     labels = [f"{r['planet']}|{r['scenario']}" for r in rows]
     print("wavelength_um  " + "  ".join(f"{lab:>24}" for lab in labels) + "   (transit depth, ppm)")
