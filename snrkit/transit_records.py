@@ -187,8 +187,8 @@ def result_dataset(ctx, planets):
             "white_noise_ppm_per_transit": (("planet", "wavelength"), np.where(usable, white, np.nan),
                                             {"units": "ppm"}),
             "floor_ppm": (("planet", "wavelength"), np.array(floor),
-                          {"units": "ppm", "long_name": "floor per bin (per resolution element "
-                           "/ sqrt(elements per bin))"}),
+                          {"units": "ppm", "long_name": "floor per bin (quoted at the mode's "
+                           "reference resolving power, white in wavelength)"}),
             "significance": (("planet", "transits"), res["curve_significance"], {"units": "sigma"}),
             "probability": (("planet", "transits"), res["curve_probability"]),
             "transits_needed": ("planet", np.array([p["transits_needed"] or 0 for p in planets])),

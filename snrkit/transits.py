@@ -171,8 +171,8 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
     white_terms = [t for t in budget["term"].values if t != "floor"]
     white = np.sqrt((budget.sel(term=white_terms) ** 2).sum("term", skipna=False))
     white = np.asarray(white.transpose("planet", "wavelength").values, dtype=np.float64)
-    n_el = np.asarray(prec["resolution_elements"].values, dtype=np.float64)
-    floor = np.broadcast_to(float(prec.attrs["floor_ppm"]) / np.sqrt(n_el), white.shape)
+    floor = np.broadcast_to(np.asarray(prec["floor_per_bin_ppm"].values, dtype=np.float64),
+                            white.shape)
     edges_um = _edges_from_precision(prec)
     options = None
     if "option_groups" in prec:
@@ -239,7 +239,8 @@ def transits_for_system(system, mode, scenario=None, **options):
         ``resolution="native"``: the mode's bins).  Bins narrower than a
         resolution element are merged, with a note.
     floor_ppm, floor_averages_down, baseline :
-        Override the mode's floor (ppm per resolution element) and the
+        Override the mode's floor (ppm per transit in a bin of the mode's
+        reference resolving power, R = 100 for the presets) and the
         observation's baseline.
     readout : int or "unsaturated", optional
         Fixed groups per integration, or the most groups that saturate no

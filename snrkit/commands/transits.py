@@ -17,8 +17,9 @@ def add_observation_args(p):
                    help="bin the spectrum to this resolving power, or 'native' for the mode's own "
                         "bins (default 100; bins narrower than a resolution element are merged)")
     p.add_argument("--floor", type=float, metavar="PPM",
-                   help="systematics floor per resolution element [ppm] (default: the mode's); "
-                        "independent between elements, so wider bins average it down")
+                   help="systematics floor per transit [ppm] in a bin of the mode's reference "
+                        "resolving power (R = 100 for the presets; default: the mode's floor); "
+                        "white in wavelength, so wider bins average it down")
     p.add_argument("--readout", type=int, metavar="GROUPS",
                    help="fixed groups per integration (default: chosen per target for the test, "
                         "accepting saturated bins where that needs fewer transits)")
@@ -168,7 +169,7 @@ def format_result(res):
             lines.append(f"  {p['reason']}")
         lines.append(f"  visit: T14 {p['t14_hours']:.2f} h + baseline {p['baseline_hours']:.2f} h + "
                      f"overhead = {p['hours_per_transit']:.2f} h (noise from "
-                     f"{p['in_transit_hours']:.2f} h in transit, (T14 + T23) / 2)")
+                     f"{p['in_transit_hours']:.2f} h in transit, (T14 + 2 T23) / 3)")
         lines.extend(_extra_lines(p))
     return "\n".join(lines)
 

@@ -100,7 +100,7 @@ def _atmosphere_keys():
 OBSERVATION_KEYS = {
     "mode": "instrument mode preset or file",
     "transits": "number of transits",
-    "in_transit": "'weighted' (default, (T14 + T23) / 2), 't14', 't23' or a duration in h",
+    "in_transit": "'weighted' (default, (T14 + 2 T23) / 3), 't14', 't23' or a duration in h",
     "baseline": "out-of-transit time: multiple of T14, or a duration in h",
     "readout_groups": "groups per integration, or 'auto'",
     "noise_floor": "ppm",

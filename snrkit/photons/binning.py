@@ -12,7 +12,7 @@ import numpy as np
 from ..errors import InputError
 
 __all__ = ["native_bin_edges", "resolution_bin_edges", "rebin_rates", "resolution_elements",
-           "merge_narrow_bins"]
+           "merge_narrow_bins", "floor_per_bin"]
 
 
 def _element_coordinate(mode, points=4096):
@@ -28,6 +28,20 @@ def resolution_elements(mode, edges_m):
     """Width of each bin in resolution elements, s(b) - s(a) (same grid as the native bins)."""
     fine, s = _element_coordinate(mode)
     return np.diff(np.interp(np.asarray(edges_m, dtype=np.float64), fine, s))
+
+
+def floor_per_bin(floor_ppm, edges_m, reference_resolution):
+    """Systematics floor of each bin [ppm] for a floor quoted at a reference bin width.
+
+    The floor is white in wavelength: ``floor_ppm`` in a bin of resolving
+    power ``reference_resolution`` becomes ``floor_ppm sqrt(R_bin / R_ref)``
+    in a bin of resolving power ``R_bin = centre / width``, so that its
+    covariance binned to any bins is diagonal with the same information per
+    unit wavelength (convention: common practice, no source).
+    """
+    e = np.asarray(edges_m, dtype=np.float64)
+    r_bin = 0.5 * (e[1:] + e[:-1]) / np.diff(e)
+    return float(floor_ppm) * np.sqrt(r_bin / float(reference_resolution))
 
 
 def merge_narrow_bins(mode, edges_m, tolerance=1e-6):

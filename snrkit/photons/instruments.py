@@ -37,7 +37,9 @@ wavelength; a table must cover the mode's wavelength range.
     ``reads_per_exposure``, ``duty_cycle`` (fraction of the elapsed time
     spent collecting light, including any scheduling gaps).
 ``[systematics]``
-    ``floor_ppm`` (per spectral bin, per transit), optional
+    ``floor_ppm`` (per transit, in a bin of resolving power
+    ``floor_reference_resolution``), optional ``floor_reference_resolution``
+    (default :data:`DEFAULT_FLOOR_REFERENCE_RESOLUTION`), optional
     ``floor_averages_down`` (false).
 ``[sources]``
     Free text, one entry per numeric key above (``"detector.read_noise_electrons" =
@@ -57,7 +59,12 @@ import astropy.units as u
 from ..errors import InputError, UnknownKeyError
 from ..units import to_si, check_range
 
-__all__ = ["Mode", "Curve", "load_mode", "mode_names", "list_modes", "parse_mode"]
+__all__ = ["DEFAULT_FLOOR_REFERENCE_RESOLUTION", "Mode", "Curve", "load_mode", "mode_names", "list_modes", "parse_mode"]
+
+#: Resolving power of the bin in which a mode's floor applies when its file
+#: does not say (floors are usually quoted for spectral channels of R ~ 100;
+#: common practice, no source).
+DEFAULT_FLOOR_REFERENCE_RESOLUTION = 100.0
 
 _SCHEMES = ("up-the-ramp", "scan")
 
@@ -100,6 +107,7 @@ _SCHEMA = {
     },
     "systematics": {
         "floor_ppm": ("num", None, 0.0, 1.0e6, True),
+        "floor_reference_resolution": ("num", None, 1.0, 1.0e6, False),
         "floor_averages_down": ("bool", None, None, None, False),
     },
 }
@@ -168,7 +176,12 @@ class Mode:
     exposure_time_s, reads_per_exposure, scan_duty_cycle
         Scan readout parameters.
     floor_ppm : float
-        Systematics floor per bin per transit [ppm].
+        Systematics floor per transit [ppm] in a bin of resolving power
+        ``floor_reference_resolution``.
+    floor_reference_resolution : float
+        Resolving power lambda / delta-lambda of the bin in which
+        ``floor_ppm`` applies (the floor is white in wavelength: see
+        :mod:`snrkit.photons.precision`).
     floor_averages_down : bool
         Whether the floor averages down as 1/sqrt(N_transits).
     sources : dict
@@ -204,6 +217,7 @@ class Mode:
     scan_duty_cycle: float
     floor_ppm: float
     floor_averages_down: bool
+    floor_reference_resolution: float = 100.0
     sources: dict = field(default_factory=dict)
     path: str = ""
 
@@ -476,6 +490,8 @@ def parse_mode(data, path="<mapping>"):
         scan_duty_cycle=vals.get("readout.duty_cycle", nan),
         floor_ppm=vals["systematics.floor_ppm"],
         floor_averages_down=vals.get("systematics.floor_averages_down", False),
+        floor_reference_resolution=vals.get("systematics.floor_reference_resolution",
+                                            DEFAULT_FLOOR_REFERENCE_RESOLUTION),
         sources={str(k): str(v) for k, v in sources.items()},
         path=path,
     )

@@ -47,26 +47,31 @@ largest ``n`` that stays below the usable well is chosen (up to
 ``max_groups``).  Scan readout trails the star along the detector, so no
 saturation limit applies; its duty cycle is a fixed property of the mode.
 
-Systematics floor: defined per resolution element of the mode (the
-mode's ``floor_ppm``, or the ``floor_ppm`` argument) and taken as
-independent between resolution elements, i.e. white in wavelength above
-the element.  Its covariance binned to any bins is then diagonal, with
-variance ``floor^2 / k`` in a bin spanning ``k`` resolution elements
-(:func:`snrkit.photons.binning.resolution_elements`), exactly as white
-noise bins; so re-binning a resolved signal neither creates nor destroys
-significance, in the photon-limited and the floor-limited regime alike
-(convention: common practice, no source).  Bins narrower than one
-resolution element are not independent and are merged (with a note).  Over
-``N`` transits the white terms fall as ``1/sqrt(N)``; the floor either stays
-fixed or also falls as ``1/sqrt(N)`` (the mode or the user chooses).
+Systematics floor: the mode's ``floor_ppm`` (or the ``floor_ppm``
+argument) is the floor per transit in a bin of the stated reference
+resolving power ``floor_reference_resolution`` (R = 100 unless the mode
+says otherwise; floors are usually quoted for such channels).  It is taken
+as white in wavelength, so a bin of resolving power R carries
+``floor_ppm sqrt(R / R_ref)`` (:func:`snrkit.photons.binning.floor_per_bin`):
+its covariance binned to any bins stays diagonal, and re-binning a resolved
+signal neither creates nor destroys significance, in the photon-limited and
+the floor-limited regime alike (convention: common practice, no source; a
+floor correlated across wavelength would be partly absorbed by the free
+level and is not modelled).  Bins narrower than one resolution element are
+not independent and are merged (with a note).  Over ``N`` transits the white
+terms fall as ``1/sqrt(N)``; the floor either stays fixed or also falls as
+``1/sqrt(N)`` (the mode or the user chooses).
 
-In-transit time: the depth is measured from the whole transit, weighted by
-its own light-curve depth.  For a trapezoidal transit the depth precision
-is that of a box of the full width at half depth, (T14 + T23) / 2
-(Carter, Yee, Eastman, Gaudi & Winn 2008, ApJ 689, 499, Sec. 2, to first
-order in the ingress time; section from memory): T23 plus the ingress and
-egress weighted by their mean depth, one half.  This is the default
-(``in_transit="weighted"``); ``"t14"`` and ``"t23"`` remain available.
+In-transit time: the depth of a spectral channel is measured from the whole
+transit with its shape known from the white-light light curve, each moment
+weighted by the square of the light curve's relative depth g(t) (the Fisher
+information on a depth that scales a known profile, derived here; cf. the
+Fisher analysis of trapezoidal transits by Carter, Yee, Eastman, Gaudi &
+Winn 2008, ApJ 689, 499).  For a trapezoid, g rises linearly through the
+ingress and falls through the egress, so the equivalent box lasts
+``int g^2 dt = T23 + (T14 - T23) / 3 = (T14 + 2 T23) / 3``.  This is the
+default (``in_transit="weighted"``); ``"t14"`` and ``"t23"`` remain
+available.
 """
 
 import warnings
@@ -79,7 +84,7 @@ from ..errors import InputError, SnrkitWarning
 from ..units import to_si, as_float_array, check_range
 from .instruments import load_mode
 from .binning import (native_bin_edges, resolution_bin_edges, rebin_rates, resolution_elements,
-                      merge_narrow_bins)
+                      merge_narrow_bins, floor_per_bin)
 from .readout import choose_readout, readout_candidates
 from .sed import planck_spectrum, read_spectrum, StellarSpectrum, band_names
 
@@ -364,7 +369,8 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         choice (itself ``"auto"`` unless fixed there): the most groups below
         the usable full well.  Ignored for scan readout.
     floor_ppm : float, optional
-        Systematics floor per bin per transit [ppm]; default the mode's.
+        Systematics floor per transit [ppm] in a bin of the mode's reference
+        resolving power (``floor_reference_resolution``); default the mode's.
     floor_averages_down : bool, optional
         Whether the floor falls as 1/sqrt(N_transits); default the mode's.
     resolution : float, optional
@@ -455,8 +461,8 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
     native = native_bin_edges(m)
     rates = bin_photon_rates(m, spec, native)
     edges = _output_edges(m, native, resolution, bin_edges)
-    # the floor per bin: per resolution element, white between elements
-    floor_bins = floor / np.sqrt(resolution_elements(m, edges))
+    # the floor per bin: quoted at the reference resolving power, white in wavelength
+    floor_bins = floor_per_bin(floor, edges, m.floor_reference_resolution)
     budget, sat, ro = _budget(m, rates, native, edges, groups, t_in, t_out, dep, floor_bins)
     white2 = (budget[:, :4, :] ** 2).sum(axis=1)
     total1 = np.sqrt(white2 + budget[:, 4, :] ** 2)
@@ -516,14 +522,19 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         attrs={"mode": m.name, "mode_description": m.description,
                "readout_scheme": m.scheme, "band": band, "n_transits": n_tr,
                "floor_ppm": floor, "floor_averages_down": int(floor_down),
-               "floor_convention": "floor_ppm per resolution element, independent between "
-                                   "elements: floor_ppm / sqrt(elements per bin)",
+               "floor_reference_resolution": float(m.floor_reference_resolution),
+               "floor_convention": "floor_ppm in a bin of resolving power "
+                                   "floor_reference_resolution, white in wavelength: "
+                                   "floor_ppm sqrt(R_bin / R_ref)",
                "stellar_spectrum": spec.origin,
                "method": "sigma = (1 - depth) sqrt(V_in/N_in^2 + V_out/N_out^2); up-the-ramp "
                          "read noise after Rauscher et al. 2007, PASP 119, 768"},
     )
     ds["resolution_elements"] = ("wavelength", resolution_elements(m, edges),
                                  {"long_name": "resolution elements per bin"})
+    ds["floor_per_bin_ppm"] = ("wavelength", floor_bins,
+                               {"units": "ppm", "long_name": "systematics floor of one transit "
+                                "in each bin"})
     if options is not None:
         opt = ("readout_option", "planet")
         ds["option_groups"] = (opt, options["groups"])
@@ -664,9 +675,9 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
     n_transits : int, optional
         Default ``observation.transits`` or 1.
     in_transit : {"weighted", "t14", "t23"} or Quantity or float, optional
-        Time counted as in transit: ``"weighted"`` (T23 plus the ingress and
-        egress weighted by their mean depth, (T14 + T23) / 2; Carter et al.
-        2008, ApJ 689, 499), T14, T23, or a duration (hours); default
+        Time counted as in transit: ``"weighted"`` (the light curve weighted
+        by the square of its relative depth, (T14 + 2 T23) / 3; see the module
+        docstring), T14, T23, or a duration (hours); default
         ``observation.in_transit`` or ``"weighted"``.
     baseline : float, str or Quantity, optional
         A bare number is a multiple of T14; a Quantity or ``"<number> h"``
@@ -725,7 +736,7 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
                   else _observation_value(o, "in_transit", "weighted"))
         key = choice.strip().lower() if isinstance(choice, str) else None
         if key in IN_TRANSIT_CHOICES:
-            val = {"t14": t14[i], "t23": t23[i], "weighted": 0.5 * (t14[i] + t23[i])}[key]
+            val = {"t14": t14[i], "t23": t23[i], "weighted": (t14[i] + 2.0 * t23[i]) / 3.0}[key]
             if not val > 0:
                 raise InputError(f"in_transit ({names[i]})", choice,
                                  "'t14' or 'weighted' for a grazing transit (T23 = 0)")
