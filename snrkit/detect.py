@@ -56,12 +56,14 @@ __all__ = [
     "detection_probability", "noncentrality_for_probability", "expected_statistic",
     "transits_needed", "asymptotic_delta_chi2", "contamination_factor", "check_sigma",
     "check_probability", "stack_transits", "LIMITING_TERMS", "default_curve_transits",
-    "NO_SIGNAL_RTOL",
+    "NO_SIGNAL_DEPTH_RTOL",
 ]
 
-#: A statistic below this fraction of the data's own chi^2 about zero is
-#: "no signal": the two models are identical within rounding.
-NO_SIGNAL_RTOL = 1e-10
+#: Two models whose depths differ by less than this fraction of the depths are
+#: "no signal": identical within the spectrum solvers' numerical precision
+#: (their root solves converge to ~1e-10 in radius).  A statistic below
+#: NO_SIGNAL_DEPTH_RTOL^2 sum(w d^2) is set to exactly 0.
+NO_SIGNAL_DEPTH_RTOL = 1e-7
 
 
 def check_sigma(sigma, field="sigma"):
@@ -113,7 +115,8 @@ def _weights(sigma, shape):
     if np.any(sig <= 0):
         raise InputError("sigma", float(np.nanmin(sig)), "per-bin noise > 0 (NaN or inf: bin not used)")
     fin = np.isfinite(sig)
-    w = np.where(fin, 1.0 / np.where(fin, sig, 1.0) ** 2, 0.0)
+    # noise below 1e-150 (in any depth unit) is treated as 1e-150: its weight stays finite
+    w = np.where(fin, 1.0 / np.maximum(np.where(fin, sig, 1.0), 1e-150) ** 2, 0.0)
     return np.broadcast_to(w, shape)
 
 
@@ -135,6 +138,11 @@ def _gls(resid, w, columns=None, prior=None):
     adds no freedom instead of failing.
     """
     r = np.where(w > 0, resid, 0.0)
+    # centre on the weighted mean first (the level is profiled anyway): rounding is then
+    # relative to the residual's own structure, not to an absolute depth of 1e4 ppm
+    sw0 = np.sum(w, axis=-1, keepdims=True)
+    r = np.where(w > 0, r - np.sum(w * r, axis=-1, keepdims=True) / np.where(sw0 > 0, sw0, 1.0),
+                 0.0)
     wr = w * r
     chi2 = np.sum(wr * r, axis=-1)
     if columns is None:
@@ -240,7 +248,7 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
     -------
     numpy.ndarray (...)
         Delta chi^2 >= 0; exactly 0 when the two models are identical
-        within rounding (:data:`NO_SIGNAL_RTOL`).
+        within numerical precision (:data:`NO_SIGNAL_DEPTH_RTOL`).
     """
     d = np.asarray(data, dtype=np.float64)
     w = _weights(sigma, d.shape)
@@ -263,16 +271,17 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
         p_alt = None if prior is None else np.concatenate([[0.0], prior])
         chi_alt, coef = _gls(_shift(d, alt_templates, template_mean), w, cols, p_alt)
         chi_alt = np.where(coef[..., 1] < 0, chi_null, chi_alt)
-    elif alt is not None or alt_templates is not None:
-        base = d if alt is None else d - np.asarray(alt, dtype=np.float64)
-        if alt is None:
-            base = np.zeros_like(d)
-        chi_alt, _ = _gls(_shift(base, alt_templates, template_mean), w, alt_templates, prior)
+    elif alt is not None:
+        chi_alt, _ = _gls(_shift(d - np.asarray(alt, dtype=np.float64), alt_templates,
+                                 template_mean), w, alt_templates, prior)
     else:
+        # the alternative reproduces the data (with any templates at their prior means)
         chi_alt = 0.0
     delta = chi_null - chi_alt
+    # identical within the models' numerical precision: depth differences below
+    # NO_SIGNAL_DEPTH_RTOL of the depths themselves
     scale = np.sum(w * np.where(w > 0, d, 0.0) ** 2, axis=-1)
-    return np.where(delta <= NO_SIGNAL_RTOL * scale, 0.0, delta)
+    return np.where(delta <= NO_SIGNAL_DEPTH_RTOL ** 2 * scale, 0.0, delta)
 
 
 def _z_from_logp(logp):

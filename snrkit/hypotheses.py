@@ -24,9 +24,10 @@ so the atmosphere test is never less significant than a species test on the
 same data (range: common practice, no source; ``--refit`` moves the physical
 parameters themselves).  Unocculted spots and faculae multiply every
 depth by epsilon(lambda) (Rackham, Apai & Giampapa 2018, ApJ 853, 122), so
-the data are T epsilon.  When the contamination is *fitted*, each model M
-carries the nuisance a_c M (epsilon - 1) with a Gaussian prior on a_c of
-mean 1 and width 1 (the stated active regions, uncertain by their own size);
+the data are T epsilon.  When the contamination is *fitted*, both models
+carry the nuisance a_c T (epsilon - 1) (the signature on the observed
+spectrum) with a Gaussian prior on a_c of mean 1 and width 1 (the stated
+active regions, uncertain by their own size);
 the Asimov data then sit on the alternative at the prior mean, so a fitted
 nuisance can only lower Delta chi^2.  When it is *not fitted*, the data
 still hold T epsilon but neither model knows it: the contamination is a
@@ -148,16 +149,16 @@ def build_models(kind, truth, null, epsilon=None, fitted=True, goodness_of_fit=F
         if goodness_of_fit:
             return NestedModels(data, n0, goodness_of_fit=True)
         return NestedModels(data, n0, alt=alt, shape=shape, null_scale=scale)
-    level = np.nanmean(t, axis=-1, keepdims=True)
-    null_model = np.broadcast_to(level, t.shape) if flat else n0
-    kw = dict(null_templates=(null_model * (eps - 1.0))[..., None],
-              template_sigma=np.array([1.0]), template_mean=np.array([1.0]))
+    # the signature of the active regions on the observed spectrum, shared by both
+    # models so that they stay nested (on the null's own spectrum it would differ by
+    # (T - null)(epsilon - 1), second order in both small quantities)
+    signature = (t * (eps - 1.0))[..., None]
+    kw = dict(null_templates=signature, template_sigma=np.array([1.0]),
+              template_mean=np.array([1.0]))
     if goodness_of_fit:
-        return NestedModels(data, n0, alt_templates=None, goodness_of_fit=True,
-                          **{k: kw[k] for k in ("null_templates", "template_sigma",
-                                                "template_mean")})
+        return NestedModels(data, n0, goodness_of_fit=True, **kw)
     return NestedModels(data, n0, alt=alt, shape=shape, null_scale=scale,
-                        alt_templates=(t * (eps - 1.0))[..., None], **kw)
+                        alt_templates=signature, **kw)
 
 
 def _usable(white, saturated, models):
@@ -211,10 +212,14 @@ def _choose(models, options, floor, floor_averages, sigma, n_max):
             same = ~differs
             n_need[j][same], lam_inf[j][same], lam1[j][same] = (
                 n_need[0][same], lam_inf[0][same], lam1[0][same])
-    # fewest transits, then the larger per-transit, then asymptotic Delta chi^2;
+    # fewest transits, then the larger per-transit, then asymptotic Delta chi^2; where no
+    # option reaches the target, the larger asymptote first (the best the test can do);
     # the first (unsaturated) option wins exact ties
+    never = np.isinf(n_need)
+    first = np.where(never, -lam_inf, -lam1)
+    second = np.where(never, -lam1, -lam_inf)
     order = np.lexsort((np.broadcast_to(np.arange(n_opt).reshape((n_opt,) + (1,) * len(batch)),
-                                        shape), -lam_inf, -lam1, n_need), axis=0)
+                                        shape), second, first, n_need), axis=0)
     return order[0]
 
 

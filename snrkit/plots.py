@@ -68,7 +68,7 @@ def plot_transits(result, path, seed=0):
         ax1.set_xscale("log")
         ax1.set_xlabel("number of transits")
         ax1.set_ylabel("significance [sigma]")
-        ax1.set_title(f"{rec['name']}: {rec['scenario']} vs {rec['alternative']}", fontsize=9)
+        ax1.set_title(f"{rec['name']}: {rec['scenario']} vs {rec['null_model']}", fontsize=9)
         ax1.legend(fontsize=7, loc="upper left")
         ax2 = fig.add_subplot(n, 2, 2 * i + 2)
         n_show = rec["transits_needed"] or int(ds["transits"].values[-1])
@@ -78,8 +78,8 @@ def plot_transits(result, path, seed=0):
         ok = np.isfinite(white)
         wl = ds["wavelength"].values
         ax2.plot(wl, np.where(ok, model, np.nan), color="C0", lw=0.8, label="model")
-        ax2.plot(wl, np.where(ok, ds["alternative_ppm"].values[i], np.nan), color="C1", lw=0.8,
-                 label=rec["alternative"])
+        ax2.plot(wl, np.where(ok, ds["null_ppm"].values[i], np.nan), color="C1", lw=0.8,
+                 label=f"null: {rec['null_model']}")
         # Display bins: white noise combines as 1/sqrt(k) within a group; the
         # floor is taken as fully correlated inside a group (it does not shrink).
         x, y, e = [], [], []

@@ -18,9 +18,11 @@ other scenario) to its best fit inside these bounds (scipy.optimize
 Nelder-Mead with bounds, on the one-transit weights), so a feature is only
 credited when the null cannot mimic it; a parameter that ends on a bound is
 reported as such.  :func:`fisher_errors_with_priors` forecasts 1-sigma errors
-with uniform priors over the same ranges (variance (hi - lo)^2 / 12); an
-error whose data-only value spans more than the whole range is reported as
-"unconstrained".
+with uniform priors over the same ranges (variance (hi - lo)^2 / 12; the
+reference radius keeps its Gaussian prior of width sigma_R/R); an error whose
+data-only value spans more than the whole range is reported as
+"unconstrained".  The re-fit works on the one-transit weights and its prior
+penalty is not added to the test's statistic (both conservative).
 """
 
 import dataclasses
@@ -90,11 +92,22 @@ def _bounded_minimum(cost, start, lows, highs):
         step = 0.1 * span[k]
         x[k] = x[k] + step if x[k] + step <= hi[k] else x[k] - step
         simplex.append(x)
+    opts = {"xatol": 1e-4 * span.max(), "fatol": 1e-4, "maxfev": 200 * x0.size}
     res = minimize(cost, x0, method="Nelder-Mead", bounds=list(zip(lo, hi)),
-                   options={"initial_simplex": np.array(simplex), "xatol": 1e-4 * span.max(),
-                            "fatol": 1e-4, "maxfev": 200 * x0.size})
+                   options={"initial_simplex": np.array(simplex), **opts})
     best = np.clip(res.x, lo, hi)
-    return best if cost(best) <= cost(x0) else x0
+    # one restart from the best point with a fresh simplex: Nelder-Mead can stall on a
+    # collapsed simplex, and a stalled null would overstate the significance
+    simplex = [best]
+    for k in range(best.size):
+        x = best.copy()
+        step = 0.05 * span[k]
+        x[k] = x[k] + step if x[k] + step <= hi[k] else x[k] - step
+        simplex.append(x)
+    res2 = minimize(cost, best, method="Nelder-Mead", bounds=list(zip(lo, hi)),
+                    options={"initial_simplex": np.array(simplex), **opts})
+    cands = [x0, best, np.clip(res2.x, lo, hi)]
+    return min(cands, key=cost)
 
 
 def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fraction, spec_kw,
@@ -188,21 +201,23 @@ def check_refit(refit, kind, arg, sc):
     if refit and kind == "atmosphere":
         raise InputError("refit", ",".join(refit), "the species or against tests (the flat line "
                          "has only its level, which is always fitted)")
-    is_file = kind == "against" and (not isinstance(arg, str) or str(arg).lower().endswith(
-        (".csv", ".ecsv", ".fits", ".fit", ".txt", ".dat")))
+    is_file = kind == "against" and isinstance(arg, str) and arg.lower().endswith(
+        (".csv", ".ecsv", ".fits", ".fit", ".txt", ".dat"))
     if refit and is_file:
         raise InputError("refit", ",".join(refit), "a scenario alternative (a spectrum file has "
                          "no parameters)")
     return refit
 
 
-def fisher_errors_with_priors(fisher_data, lows, highs):
-    """1-sigma errors with uniform priors over [low, high], and which are unconstrained.
+def fisher_errors_with_priors(fisher_data, lows, highs, gaussian_sigma=None):
+    """1-sigma errors with priors over [low, high], and which are unconstrained.
 
-    The prior enters as a Gaussian of the uniform distribution's variance
-    (high - low)^2 / 12 (Fisher information adds).  A parameter whose
-    data-only error exceeds half its range, so that +/- 1 sigma spans more
-    than the whole range, is unconstrained.
+    A uniform prior enters as a Gaussian of the uniform distribution's
+    variance (high - low)^2 / 12; where ``gaussian_sigma`` is finite that
+    Gaussian width is used instead (the reference radius, whose re-fit prior
+    is Gaussian too).  Fisher information adds.  A parameter whose data-only
+    error exceeds half its range, so that +/- 1 sigma spans more than the
+    whole range, is unconstrained.
 
     Returns
     -------
@@ -212,7 +227,11 @@ def fisher_errors_with_priors(fisher_data, lows, highs):
     from .forecast import fisher_errors
     f = np.asarray(fisher_data, dtype=np.float64)
     span = np.asarray(highs, dtype=np.float64) - np.asarray(lows, dtype=np.float64)
-    prior = np.diag(12.0 / span ** 2)
+    var = span ** 2 / 12.0
+    if gaussian_sigma is not None:
+        gs = np.asarray(gaussian_sigma, dtype=np.float64)
+        var = np.where(np.isfinite(gs), gs ** 2, var)
+    prior = np.diag(1.0 / var)
     with_prior = fisher_errors(f + prior)
     data_only = fisher_errors(f)
     return with_prior, ~(data_only <= 0.5 * span)
@@ -286,8 +305,9 @@ def scenario_fisher(sc, rp, rs, radius_fraction, spec_kw, transmission_spectrum,
         res = fc.fisher_forecast(model, {k: v[:2] for k, v in par.items()}, white[i],
                                  int(n_transits[i]), floor=floor[i], floor_averages=floor_averages,
                                  fit_offset=False)
+        gauss = [f if k == "radius_factor" else np.nan for k in names]
         err, free = fisher_errors_with_priors(res["fisher"][0], [par[k][2] for k in names],
-                                              [par[k][3] for k in names])
+                                              [par[k][3] for k in names], gauss)
         for j, k in enumerate(names):
             out[k].append(UNCONSTRAINED if free[j] else float(err[j]))
     return out

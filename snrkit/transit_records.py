@@ -121,7 +121,7 @@ def planet_records(ctx):
         test, statistic = _test_words(ctx, i)
         rec = {
             "name": name, "scenario": sc.name, "test": test, "test_statistic": statistic,
-            "null_model": ctx["label"], "alternative": ctx["label"], "mode": mode_name,
+            "null_model": ctx["label"], "mode": mode_name,
             "target_sigma": ctx["sigma"], "status": status, "reason": reason,
             "transits_needed": n if n > 0 else None, "reachable": bool(n > 0),
             "limiting_term": str(limiting[i]) if status != "no_signal" else "no signal",
@@ -179,7 +179,7 @@ def result_dataset(ctx, planets):
         {
             "model_ppm": (("planet", "wavelength"), models.data,
                           {"units": "ppm", "long_name": "true spectrum (as observed)"}),
-            "alternative_ppm": (("planet", "wavelength"), null,
+            "null_ppm": (("planet", "wavelength"), null,
                                 {"units": "ppm", "long_name": f"null model: {ctx['label']}"}),
             "noise_ppm_per_transit": (("planet", "wavelength"),
                                       np.where(usable, np.sqrt(white ** 2 + floor ** 2), np.nan),
@@ -199,7 +199,7 @@ def result_dataset(ctx, planets):
                 "wavelength_upper": ("wavelength", edges_um[1:], {"units": "um"}),
                 "transits": res["curve_transits"]},
         attrs={"scenario": ctx["sc"].name, "test": planets[0]["test"] if planets else ctx["kind"],
-               "alternative": ctx["label"], "target_sigma": ctx["sigma"],
+               "null_model": ctx["label"], "target_sigma": ctx["sigma"],
                "floor_averages_down": int(obs["floor_averages"]),
                "mode": str(obs["precision"].attrs.get("mode", ctx["mode"]))},
     )

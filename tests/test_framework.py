@@ -57,21 +57,25 @@ def quiet(fn, *a, **kw):
 
 
 def test_atmosphere_at_least_species_over_random_cases():
-    # Over 4 modes x 8 scenarios x 8 random planets x every absorbing gas (> 200 cases)
-    # Z(atmosphere) >= Z(species) at every N of the curve.  Not a theorem for arbitrary
-    # nulls; it holds here because the species null carries the flat line (b = 0).  The
-    # rate of failures is reported and must stay below 5% (issue statement); each
-    # failing output must say so in a sentence.
+    # Over 4 modes x 8 scenarios x 8 random planets x every absorbing gas (> 200 cases):
+    # * on one shared readout, Z(atmosphere) >= Z(species) at every N of the curve.  Not a
+    #   theorem for arbitrary nulls; it holds here because the species null carries the
+    #   flat line (b = 0), so no failure is allowed (the issue asks for under 5%), and any
+    #   output where it failed would have to say so in a sentence;
+    # * with the readout chosen per test, the atmosphere never needs more transits (its
+    #   own best readout is at least as good as the species test's).
     rng = np.random.default_rng(20261202)
     cases = failures = 0
     for k, sc_name in enumerate(SCENARIOS):
         mode = MODES[k % len(MODES)]
         system = random_system(rng, 8, small=sc_name.startswith(("n2", "co2", "steam")))
-        atm = quiet(transits_for_system, system, mode, sc_name, resolution=30, n_max=200)
+        kw = dict(resolution=30, n_max=200)
+        atm = quiet(transits_for_system, system, mode, sc_name, readout="unsaturated", **kw)
+        atm_best = quiet(transits_for_system, system, mode, sc_name, **kw)
         gases = [g for g in load_scenario(sc_name).mixing_ratios if g in OPACITY_SPECIES]
         for gas in gases:
-            sp = quiet(transits_for_system, system, mode, sc_name, species=gas, resolution=30,
-                       n_max=200)
+            sp = quiet(transits_for_system, system, mode, sc_name, species=gas,
+                       readout="unsaturated", **kw)
             ok = np.array([p["status"] not in ("saturated", "unbound_atmosphere")
                            for p in sp["planets"]])
             za = atm["dataset"]["significance"].values[ok]
@@ -81,8 +85,12 @@ def test_atmosphere_at_least_species_over_random_cases():
             failures += int(bad.sum())
             for p, b in zip(np.array(sp["planets"], dtype=object)[ok], bad):
                 assert ("exceeds_atmosphere_test" in p) == bool(b)
+            sp_best = quiet(transits_for_system, system, mode, sc_name, species=gas, **kw)
+            for a, b in zip(atm_best["planets"], sp_best["planets"]):
+                if b["transits_needed"] is not None and a["status"] == "ok":
+                    assert a["transits_needed"] <= b["transits_needed"]
     assert cases >= 200
-    assert failures / cases < 0.05, f"{failures} of {cases} cases"
+    assert failures == 0, f"{failures} of {cases} cases"
 
 
 def test_single_absorber_scenario_gives_nearly_the_same_answer():
@@ -211,6 +219,19 @@ def test_no_floor_one_dof_is_sqrt_n_delta_chi2(truth, white, n):
     lam1 = float(res["delta_chi2_per_transit"])
     assert float(res["curve_significance"][-1]) == pytest.approx(np.sqrt(n * lam1), rel=1e-12,
                                                                  abs=1e-12)
+
+
+def test_tiny_signal_on_a_deep_transit_is_not_called_no_signal():
+    # A real but small signal on realistic absolute depths (15000 ppm, 1000 bins,
+    # 50 ppm per bin): Delta chi^2 per transit 0.005 must survive, and N follows.
+    rng = np.random.default_rng(5)
+    shape = rng.normal(0.0, 1.0, 1000)
+    shape -= shape.mean()
+    amp = np.sqrt(0.005 / np.sum(shape ** 2)) * 50.0
+    data = 15000.0 + amp * shape
+    res = dt.stack_transits(data, np.full(1000, 15000.0), 50.0, sigma=3.0, n_max=5000)
+    assert float(res["delta_chi2_per_transit"]) == pytest.approx(0.005, rel=1e-6)
+    assert int(res["transits_needed"]) == 1800 and not bool(res["no_signal"])
 
 
 def test_identical_models_report_no_signal():

@@ -46,11 +46,14 @@ def test_refit_stays_inside_physical_bounds(cedar_b):
 
 
 def test_parameter_at_a_bound_is_reported(cedar_b):
-    # A scenario with no cloud deck: the best cloud top is the model's floor (no deck), and
-    # the output says the parameter sits on its bound.
-    rec = transits_for_system(cedar_b, PRISM, species="CO2",
+    # The rejected scenario has a deck at 1 mbar (the fit starts inside the range); the
+    # true spectrum is clear down to the surface, so the best deck sinks to the model's
+    # floor (the 10 bar surface) and the output says the parameter sits on its bound.
+    cloudy = {"scenario": "co2-thick", "name": "co2-thick-deck", "cloud_top_pressure": 1e-3}
+    rec = transits_for_system(cedar_b, PRISM, "co2-thick", against=cloudy,
                               refit=("cloud_top_pressure",))["planets"][0]
-    assert any(b.startswith("cloud_top_pressure") for b in rec["refit"]["at_bound"])
+    assert any(b.startswith("cloud_top_pressure (upper)") for b in rec["refit"]["at_bound"])
+    assert rec["refit"]["cloud_top_pressure_bar"] == pytest.approx(10.0, rel=1e-2)
 
 
 def test_fisher_priors_and_unconstrained():

@@ -54,7 +54,7 @@ def test_chain_matches_stacker_on_its_arrays(co2_result):
     rec = co2_result["planets"][0]
     ok = np.isfinite(ds["white_noise_ppm_per_transit"].values[0])
     data = ds["model_ppm"].values[0][ok]
-    null = ds["alternative_ppm"].values[0][ok]
+    null = ds["null_ppm"].values[0][ok]
     sig1 = ds["noise_ppm_per_transit"].values[0][ok]
     lam = species_chi2(data, null, sig1)
     assert rec["delta_chi2_per_transit"] == pytest.approx(lam, rel=1e-9)
@@ -127,7 +127,7 @@ def test_user_spectrum_on_another_grid_is_resampled(cedar, tmp_path):
     assert ds.sizes["wavelength"] == 2000
     res = transits_for_system(cedar.select("Cedar b"), PRISM, against=str(f), resolution=30,
                               against_wavelength_unit="um")
-    assert res["planets"][0]["alternative"].startswith("user spectrum")
+    assert res["planets"][0]["null_model"].startswith("user spectrum")
     # no unit in the file and none given: a clear error, not a guess
     with pytest.raises(InputError, match="unit"):
         transits_for_system(cedar.select("Cedar b"), PRISM, against=str(f), resolution=30)
