@@ -38,7 +38,14 @@ F_lambda * lambda * R), so it stores responses *per photon*:
   energy`` (integrate F_lambda R, no further factor lambda).  Treating them
   instead as per-photon curves (an extra factor lambda) changes a 2900 K
   Planck star's J, H, Ks magnitudes relative to the zero point by 0.008,
-  0.004 and 0.002 mag.
+  0.004 and 0.002 mag.  The isophotal wavelengths of a 9550 K Planck curve
+  (a stand-in for the A0 V reference) do not decide between the two
+  readings: 1.2337, 1.6433, 2.1576 um with energy weighting and 1.2373,
+  1.6470, 2.1612 um with the extra factor lambda, against 1.235 +- 0.006,
+  1.662 +- 0.009 and 2.159 +- 0.011 um in Table 2 (H is pulled redward by
+  the reference star's lines, which a Planck curve lacks).  We follow the
+  curves' own packaging (divided by lambda for a photon-weighted
+  integrator, i.e. lambda already included) and the bandwidth check.
 * For V the file holds Bessell 1990, Table 2 normalised to a peak of 1,
   copied as is.  Bessell's 1990 passbands are energy response functions,
   meant for integral(F_lambda R dlambda); Bessell & Murphy 2012, PASP 124,
