@@ -1,6 +1,6 @@
 """The README's examples run as written (common practice, no source).
 
-The Python block is executed; the TOML block is read as a system file and
+The Python blocks are executed; the TOML block is read as a system file and
 described; every command in the tour is a registered command.
 """
 
@@ -17,9 +17,21 @@ def _blocks(lang):
 
 
 @pytest.mark.filterwarnings("ignore::snrkit.errors.SnrkitWarning")  # spectrum-layer notes
-def test_python_example_runs():
-    (code,) = _blocks("python")
-    exec(compile(code, "README.md", "exec"), {"__name__": "__readme__"})
+def test_python_examples_run(tmp_path, monkeypatch):
+    # The stellar-spectrum example reads "my_star_spectrum.csv": a 2900 K Planck curve in the
+    # README's CSV format stands in for the user's file.
+    import numpy as np
+    from snrkit.photons.sed import planck_flambda
+    lam = np.geomspace(0.3, 15.0, 400)
+    flux = planck_flambda(lam * 1e-6, 2900.0) * 1e-7           # W m-3 -> erg s-1 cm-2 A-1
+    (tmp_path / "my_star_spectrum.csv").write_text(
+        "wavelength [um],flux [erg / (s cm2 Angstrom)]\n"
+        + "\n".join(f"{a:.6g},{b:.6g}" for a, b in zip(lam, flux)))
+    monkeypatch.chdir(tmp_path)
+    blocks = _blocks("python")
+    assert len(blocks) == 2
+    for code in blocks:
+        exec(compile(code, "README.md", "exec"), {"__name__": "__readme__"})
 
 
 def test_toml_example_is_a_valid_system_file(tmp_path, capsys):

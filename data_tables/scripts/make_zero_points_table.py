@@ -9,24 +9,27 @@ Sources
   wavelength of the zero-magnitude A0 V reference spectrum, f_lambda and f_nu for
   zero magnitude.
 
-All numbers below are marked "value from memory": the snrkit authors could
-not read the tables of these papers while writing this script, so they are
-quoted as remembered (the four-figure values are widely reproduced).  They
-should be checked against the papers before being relied on.  The internal
-consistency check F_nu = F_lambda * lambda^2 / c holds to within 2.5 % for
-every band (1.9 % for H, whose values are quoted at different isophotal points) (tests/test_photons_sed.py), which guards against a slipped
-digit but not against a remembered value being wrong in a consistent way.
+The J, H, Ks numbers were checked against the copy of Cohen et al.'s
+table quoted in the metadata of the curve files of the speclite 1.0.0 wheel
+(see make_response_curves.py); they agree digit for digit.  The paper itself
+was not read.  The V numbers are quoted as remembered ("value from memory")
+and should be checked against Bessell et al. 1998 before being relied on.
+The internal consistency check F_nu = F_lambda * lambda^2 / c holds to within
+2.5 % for every band (1.9 % for H, whose values are quoted at different
+isophotal points) (tests/test_photons_sed.py), which guards against a slipped
+digit.
 
 Method
 ------
-snrkit has no passband curves for these bands (none could be sourced), so
-synthetic photometry uses the isophotal approximation: a spectrum's
-magnitude in a band is -2.5 log10(F_lambda(lambda_ref) / F_lambda,0), with
-lambda_ref the isophotal (J, H, Ks) or effective (V) wavelength below.  For a
-smooth spectrum this differs from a passband integral by a colour term of
-order (width/lambda)^2 times the curvature of log F; for stars far from
-the reference colours (very cool or very hot) expect errors of a few
-hundredths of a magnitude (common practice, no source).
+A spectrum's magnitude in a band is -2.5 log10(<F_lambda> / F_lambda,0),
+with <F_lambda> its mean over the band's response curve
+(photometry/response_<band>.ecsv, make_response_curves.py; see
+snrkit/photons/sed.py).  This is the definition behind both sets of zero
+points: Cohen et al. quote F_lambda,0 at the isophotal wavelength, where the
+zero-magnitude spectrum equals its band mean, and Bessell et al. quote the
+band mean of the zero-magnitude spectrum.  The reference wavelengths below
+(isophotal for J, H, Ks; effective for V) are kept for information and for
+quick estimates; snrkit's synthetic photometry does not use them.
 
 Run from the repository root:  python data_tables/scripts/make_zero_points_table.py
 """
@@ -38,7 +41,8 @@ from astropy.table import Table
 
 # band: (reference wavelength [um], bandwidth [um] or nan, F_lambda [W m-2 um-1],
 #        F_nu [Jy], kind of reference wavelength, source)
-_COHEN = "Cohen, Wheaton & Megeath 2003, AJ 126, 1090, Table 2 (value from memory)"
+_COHEN = ("Cohen, Wheaton & Megeath 2003, AJ 126, 1090, Table 2 (read as quoted in the curve "
+          "files' metadata of speclite 1.0.0)")
 _BESSELL = "Bessell, Castelli & Plez 1998, A&A 333, 231, Table A2 (value from memory)"
 BANDS = {
     # Cohen et al. quote F_lambda in W cm-2 um-1: 3.129e-13, 1.133e-13, 4.283e-14
@@ -65,13 +69,15 @@ def main():
     t["zero_point_fnu"].unit = "Jy"
     t["wavelength_kind"] = [BANDS[n][4] for n in names]
     t["source"] = [BANDS[n][5] for n in names]
-    t.meta["source"] = ("J, H, Ks: Cohen, Wheaton & Megeath 2003, AJ 126, 1090, Table 2; "
+    t["response_file"] = [f"response_{n}.ecsv" for n in names]
+    t.meta["source"] = ("J, H, Ks: Cohen, Wheaton & Megeath 2003, AJ 126, 1090, Table 2 (read "
+                        "as quoted in the metadata of the curve files of speclite 1.0.0); "
                         "V: Bessell, Castelli & Plez 1998, A&A 333, 231, Table A2 "
-                        "(all values from memory; see the script)")
-    t.meta["method"] = ("zero-magnitude flux densities at the isophotal (J, H, Ks) or "
-                        "effective (V) wavelength; snrkit's synthetic photometry evaluates "
-                        "the spectrum at that wavelength (isophotal approximation, no "
-                        "passband curves shipped)")
+                        "(value from memory; see the script)")
+    t.meta["method"] = ("zero-magnitude band-mean flux densities: m = -2.5 log10(<F_lambda> / "
+                        "zero_point_flambda), <F_lambda> the spectrum's mean over the curve "
+                        "in response_file; reference_wavelength (isophotal for J, H, Ks, "
+                        "effective for V) is for information only")
     t.meta["units"] = {"reference_wavelength": "um", "bandwidth": "um",
                        "zero_point_flambda": "W m-2 um-1", "zero_point_fnu": "Jy"}
     t.meta["date"] = datetime.date.today().isoformat()

@@ -4,19 +4,30 @@ Compute functions work in SI: wavelengths in m, spectral flux density
 ``F_lambda`` in W m-3 (W m-2 per m of wavelength), temperatures in K.  They
 broadcast a leading planet (star) axis against a trailing wavelength axis.
 
-Band normalisation uses the zero-magnitude flux densities in
-``data_tables/photometry/zero_points.ecsv`` (J, H, Ks: Cohen, Wheaton &
-Megeath 2003, AJ 126, 1090; V: Bessell, Castelli & Plez 1998, A&A 333, 231)
-in the *isophotal approximation*: no passband curves are shipped, so the
-synthetic magnitude of a spectrum in a band is
+Synthetic photometry integrates the spectrum over the band's response curve
+``R`` (``data_tables/photometry/response_<band>.ecsv``: J, H, Ks from Cohen,
+Wheaton & Megeath 2003, AJ 126, 1090; V from Bessell 1990, PASP 102, 1181)
+and compares the mean flux density with the zero-magnitude flux density in
+``data_tables/photometry/zero_points.ecsv`` (J, H, Ks: Cohen et al. 2003;
+V: Bessell, Castelli & Plez 1998, A&A 333, 231):
 
-    m = -2.5 log10( F_lambda(lambda_ref) / F_lambda,0 ),
+    <F_lambda> = integral(F_lambda w dlambda) / integral(w dlambda),
+    m = -2.5 log10(<F_lambda> / F_lambda,0),
 
-with ``lambda_ref`` the band's isophotal (J, H, Ks) or effective (V)
-wavelength and ``F_lambda(lambda_ref)`` interpolated linearly in
-log F - log lambda.  For smooth stellar continua the difference from a
-passband integral is a colour term of a few hundredths of a magnitude
-(common practice, no source).
+with ``w = R`` for curves tabulated as energy responses and ``w = lambda R``
+for curves tabulated per photon (each curve file says which in its
+``weighting`` metadata).  The shipped curves are all energy responses: the
+published J, H, Ks curves of Cohen et al. 2003 already carry the factor
+lambda of their photon-counting detectors (their bandwidths integral(R
+dlambda) reproduce the paper's Table 2 only in that form), and Bessell's
+1990 V passband is an energy response (Bessell & Murphy 2012, PASP 124, 140;
+value from memory), the weighting of the V zero point of Bessell et al.
+1998.  Both zero points are defined this way: Cohen et al. quote
+F_lambda,0 at the isophotal wavelength, where the zero-magnitude spectrum
+equals its band mean; Bessell et al. quote the band mean itself.  The data
+script ``data_tables/scripts/make_response_curves.py`` documents the curves'
+provenance and the size of the alternative conventions (<= 0.02 mag for a
+2900 K star).
 """
 
 from functools import lru_cache
@@ -33,6 +44,9 @@ __all__ = [
     "planck_flambda",
     "zero_points",
     "band_names",
+    "BandResponse",
+    "band_response",
+    "band_mean_flux_si",
     "synthetic_magnitude_si",
     "normalise_to_band_si",
     "StellarSpectrum",
@@ -95,7 +109,7 @@ def zero_points():
 
 
 def band_names():
-    """Names of the bands with a shipped zero point (tuple of str)."""
+    """Names of the bands with a shipped zero point and response curve (tuple of str)."""
     return tuple(zero_points())
 
 
@@ -103,11 +117,156 @@ def _band(band, field="band"):
     zp = zero_points()
     if isinstance(band, str) and band in zp:
         return zp[band]
+    return zp[_band_name(band, field)]
+
+
+def _band_name(band, field="band"):
+    zp = zero_points()
     if isinstance(band, str):
+        if band in zp:
+            return band
         for name in zp:
             if name.lower() == band.strip().lower():
-                return zp[name]
+                return name
     raise UnknownKeyError(field, band, "one of " + ", ".join(zp))
+
+
+#: Uniform points added across each response curve for the quadrature (on top
+#: of the curve's own nodes).
+_N_QUADRATURE = 800
+#: Fraction of a curve's weight that may lie outside a spectrum at each end
+#: (there the spectrum's end value is used).
+_TAIL_WEIGHT = 1e-3
+
+
+class BandResponse:
+    """A band's response curve and the quadrature used to integrate over it.
+
+    Attributes
+    ----------
+    band : str
+        Band name.
+    wavelength_m : numpy.ndarray
+        Tabulated wavelengths [m] (increasing).
+    response : numpy.ndarray
+        Relative response, peak 1 (dimensionless).
+    weighting : str
+        ``"energy"`` (the integrand is ``F_lambda R``) or ``"photon"`` (the
+        integrand is ``F_lambda lambda R``).
+    source : str
+        Publication of the curve.
+    grid_m, weights : numpy.ndarray
+        Quadrature nodes [m] (the curve's nodes plus ``_N_QUADRATURE``
+        uniform points) and weights (trapezoid rule times ``R`` or
+        ``lambda R``, summing to 1): ``<F_lambda> = F(grid_m) @ weights``.
+    support_m : tuple of float
+        The wavelength range [m] outside which the curve carries less than
+        0.1 % of its weight at each end; a spectrum must cover it.
+    """
+
+    def __init__(self, band, wavelength_m, response, weighting, source):
+        if weighting not in ("energy", "photon"):
+            raise ValueError(f"response weighting must be 'energy' or 'photon', not {weighting!r}")
+        self.band = band
+        self.wavelength_m = np.asarray(wavelength_m, dtype=np.float64)
+        self.response = np.asarray(response, dtype=np.float64)
+        self.weighting = weighting
+        self.source = source
+        lo, hi = self.wavelength_m[0], self.wavelength_m[-1]
+        self.grid_m = np.union1d(self.wavelength_m, np.linspace(lo, hi, _N_QUADRATURE))
+        self.weights = self.kernel(self.grid_m) * _trapezoid_weights(self.grid_m)
+        self.weights /= self.weights.sum()
+        cum = np.cumsum(self.weights)
+        i_lo = int(np.searchsorted(cum, _TAIL_WEIGHT))
+        i_hi = int(np.searchsorted(cum, 1.0 - _TAIL_WEIGHT))
+        self.support_m = (float(self.grid_m[i_lo]), float(self.grid_m[min(i_hi + 1,
+                                                                          cum.size - 1)]))
+
+    def kernel(self, wavelength_m):
+        """Integrand weight ``R`` or ``lambda R`` at ``wavelength_m`` (0 outside the curve)."""
+        lam = np.asarray(wavelength_m, dtype=np.float64)
+        r = np.interp(lam, self.wavelength_m, self.response, left=0.0, right=0.0)
+        return r * lam if self.weighting == "photon" else r
+
+
+def _trapezoid_weights(x):
+    """Weights ``t`` with ``sum(t * f) = trapezoid(f, x)``."""
+    dx = np.diff(x)
+    t = np.zeros_like(x)
+    t[:-1] += 0.5 * dx
+    t[1:] += 0.5 * dx
+    return t
+
+
+@lru_cache(maxsize=None)
+def band_response(band):
+    """The response curve of a band.
+
+    Parameters
+    ----------
+    band : str
+        A band name from :func:`band_names` (case-insensitive).
+
+    Returns
+    -------
+    BandResponse
+        Read from the file named in ``zero_points.ecsv`` (column
+        ``response_file``, ``data_tables/photometry/response_<band>.ecsv``; J, H, Ks:
+        Cohen, Wheaton & Megeath 2003, AJ 126, 1090; V: Bessell 1990, PASP
+        102, 1181; provenance in each file's metadata).
+    """
+    name = _band_name(band)
+    from ..tables import read_table
+    zp = read_table("photometry", "zero_points.ecsv")
+    row = list(zp["band"]).index(name)
+    t = read_table("photometry", str(zp["response_file"][row]))
+    lam = t["wavelength"].quantity.to_value(u.m)
+    return BandResponse(name, lam, np.asarray(t["relative_response"], dtype=np.float64),
+                        str(t.meta["weighting"]), str(t.meta["source"]))
+
+
+def band_mean_flux_si(wavelength_m, flambda, band):
+    """Band-averaged flux density of sampled spectra.
+
+    Parameters
+    ----------
+    wavelength_m : numpy.ndarray
+        Increasing wavelengths [m], shape ``(n_wave,)``; must cover the
+        band's :attr:`BandResponse.support_m` (outside the spectrum, within
+        the curve, its end value is used).
+    flambda : numpy.ndarray
+        Flux density [W m-3], shape ``(..., n_wave)``, positive.
+    band : str
+        Band name.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``integral(F w dlambda) / integral(w dlambda)`` [W m-3] with ``w`` the
+        band's :meth:`BandResponse.kernel`, shape ``flambda.shape[:-1]``.  The
+        integral runs over the union of the curve's quadrature nodes and the
+        spectrum's own points inside the curve (the spectrum interpolated
+        linearly in log F - log lambda, the curve linearly), so narrow
+        spectral features are not skipped.
+    """
+    curve = band_response(band)
+    lam = np.asarray(wavelength_m, dtype=np.float64)
+    inside = lam[(lam > curve.wavelength_m[0]) & (lam < curve.wavelength_m[-1])]
+    grid = np.union1d(curve.grid_m, inside)
+    w = curve.kernel(grid) * _trapezoid_weights(grid)
+    w /= w.sum()
+    f = _loglog_interp(np.clip(grid, lam[0], lam[-1]), lam, flambda)
+    return f @ w
+
+
+def _check_covers(lo, hi, band, origin):
+    curve = band_response(band)
+    s_lo, s_hi = curve.support_m
+    if lo > s_lo * (1 + 1e-12) or hi < s_hi * (1 - 1e-12):
+        raise InputError(
+            "spectrum", f"{origin} covering {lo*1e6:.4g}-{hi*1e6:.4g} um",
+            f"a spectrum covering the {curve.band} response curve "
+            f"{s_lo*1e6:.4g}-{s_hi*1e6:.4g} um")
 
 
 def _loglog_interp(x_new, x, y):
@@ -129,12 +288,13 @@ def _loglog_interp(x_new, x, y):
 
 
 def synthetic_magnitude_si(wavelength_m, flambda, band):
-    """Synthetic magnitude of a sampled spectrum (isophotal approximation).
+    """Synthetic magnitude of sampled spectra, integrated over the band's curve.
 
     Parameters
     ----------
     wavelength_m : numpy.ndarray
-        Increasing wavelengths [m], shape ``(n_wave,)``.
+        Increasing wavelengths [m], shape ``(n_wave,)``, covering the band
+        (see :func:`band_mean_flux_si`).
     flambda : numpy.ndarray
         Flux density at the observer [W m-3], shape ``(..., n_wave)``.
     band : str
@@ -143,11 +303,14 @@ def synthetic_magnitude_si(wavelength_m, flambda, band):
     Returns
     -------
     numpy.ndarray
-        ``-2.5 log10(F(lambda_ref) / F_0)``, shape ``flambda.shape[:-1]``.
+        ``-2.5 log10(<F_lambda> / F_0)``, shape ``flambda.shape[:-1]``
+        (zero points: Cohen, Wheaton & Megeath 2003; Bessell, Castelli &
+        Plez 1998).
     """
-    lam_ref, f0, _ = _band(band)
-    f_ref = _loglog_interp(lam_ref, wavelength_m, flambda)
-    return -2.5 * np.log10(f_ref / f0)
+    lam = np.asarray(wavelength_m, dtype=np.float64)
+    _check_covers(lam[0], lam[-1], band, "spectrum")
+    f0 = _band(band)[1]
+    return -2.5 * np.log10(band_mean_flux_si(lam, flambda, band) / f0)
 
 
 def normalise_to_band_si(wavelength_m, flambda_shape, magnitude, band):
@@ -156,7 +319,7 @@ def normalise_to_band_si(wavelength_m, flambda_shape, magnitude, band):
     Parameters
     ----------
     wavelength_m : numpy.ndarray
-        Increasing wavelengths [m], shape ``(n_wave,)``.
+        Increasing wavelengths [m], shape ``(n_wave,)``, covering the band.
     flambda_shape : numpy.ndarray
         Spectrum of any normalisation, shape ``(..., n_wave)``.
     magnitude : numpy.ndarray
@@ -167,11 +330,19 @@ def normalise_to_band_si(wavelength_m, flambda_shape, magnitude, band):
     Returns
     -------
     numpy.ndarray
-        Multiply ``flambda_shape`` by ``scale[..., None]`` to normalise it.
+        Multiply ``flambda_shape`` by ``scale[..., None]`` to normalise it
+        (``F_0 10^(-0.4 m) / <F_lambda>``).
     """
-    lam_ref, f0, _ = _band(band)
-    f_ref = _loglog_interp(lam_ref, wavelength_m, flambda_shape)
-    return f0 * 10.0 ** (-0.4 * np.asarray(magnitude, dtype=np.float64)) / f_ref
+    f0 = _band(band)[1]
+    mean = band_mean_flux_si(wavelength_m, flambda_shape, band)
+    return f0 * 10.0 ** (-0.4 * np.asarray(magnitude, dtype=np.float64)) / mean
+
+
+def _planck_band_mean(teff_k, band):
+    """Band-averaged ``pi B_lambda(T)`` [W m-3], exact up to the quadrature; shape of ``teff_k``."""
+    curve = band_response(band)
+    t = np.asarray(teff_k, dtype=np.float64)
+    return planck_flambda(curve.grid_m, t[..., None]) @ curve.weights
 
 
 class StellarSpectrum:
@@ -228,22 +399,28 @@ class StellarSpectrum:
     def normalised(self, magnitude, band):
         """Return a copy scaled so that its magnitude in ``band`` is ``magnitude``.
 
+        The spectrum's mean flux density over the band's response curve
+        (see the module notes) is set to ``F_0 10^(-0.4 magnitude)``.
+
         Parameters
         ----------
         magnitude : float or array_like
             One magnitude per star (broadcast against the star axis).
         band : str
             Band name (see :func:`band_names`).
+
+        Raises
+        ------
+        InputError
+            A sampled spectrum that does not cover the band's curve
+            (:attr:`BandResponse.support_m`), or a magnitude count that
+            matches neither 1 nor the number of stars.
         """
         mag = np.atleast_1d(as_float_array(magnitude, f"magnitude.{band}"))
         check_range(mag, f"magnitude.{band}", -5.0, 30.0, unit_label="mag")
-        lam_ref = _band(band)[0]
-        lo, hi = self.range_m
-        if not lo <= lam_ref <= hi:
-            raise InputError(
-                "spectrum", f"{self.origin} covering {lo*1e6:.4g}-{hi*1e6:.4g} um",
-                f"a spectrum covering the {band} reference wavelength "
-                f"{lam_ref*1e6:.4g} um")
+        f0 = _band(band)[1]
+        if self._teff is None:
+            _check_covers(*self.range_m, band, self.origin)
         n = self.n_star
         if n != mag.size and 1 not in (n, mag.size):
             raise InputError(f"magnitude.{band}", f"{mag.size} values",
@@ -252,13 +429,37 @@ class StellarSpectrum:
         if self._teff is not None:
             teff = np.broadcast_to(self._teff, (n,))
             old = np.broadcast_to(self._scale, (n,))
-            f_ref = old * planck_flambda(lam_ref, teff)
-            scale = _band(band)[1] * 10.0 ** (-0.4 * mag) / f_ref
+            mean = old * _planck_band_mean(teff, band)
+            scale = f0 * 10.0 ** (-0.4 * mag) / mean
             return StellarSpectrum(self.wavelength_m, None, self.origin,
                                    teff_k=teff, scale=old * scale)
         shape = np.broadcast_to(self.flambda, (n, self.wavelength_m.size))
         scale = normalise_to_band_si(self.wavelength_m, shape, mag, band)
         return StellarSpectrum(self.wavelength_m, shape * scale[:, None], self.origin)
+
+    def magnitude(self, band):
+        """Synthetic magnitude of each star in ``band``.
+
+        Planck stars are integrated exactly (up to the quadrature); sampled
+        spectra as in :func:`synthetic_magnitude_si`.
+
+        Parameters
+        ----------
+        band : str
+            Band name (see :func:`band_names`).
+
+        Returns
+        -------
+        numpy.ndarray
+            Magnitudes, shape ``(n_star,)``.
+        """
+        f0 = _band(band)[1]
+        if self._teff is not None:
+            mean = self._scale * _planck_band_mean(self._teff, band)
+        else:
+            _check_covers(*self.range_m, band, self.origin)
+            mean = band_mean_flux_si(self.wavelength_m, self.flambda, band)
+        return -2.5 * np.log10(mean / f0)
 
     def at(self, wavelength_m):
         """Flux density [W m-3] at ``wavelength_m`` (log-log interpolation).
@@ -424,7 +625,7 @@ def _spectrum(spectrum, teff):
 
 
 def synthetic_magnitude(wavelength, flux, band):
-    """Synthetic magnitude of a spectrum in a band (isophotal approximation).
+    """Synthetic magnitude of a spectrum in a band, integrated over its response curve.
 
     Parameters
     ----------
