@@ -74,8 +74,14 @@ def test_ranking_agrees_with_per_planet_path(cat, ranked):
         assert (one["transits_needed"] or 0) == int(row["transits_needed"])
         if one["hours_total"] is not None:
             assert one["hours_total"] == pytest.approx(float(row["hours_total"]), rel=1e-9)
+        # rel 1e-8 (was 1e-9): the two paths differ only by rounding (sums over
+        # arrays of different shapes), but the significance is built from the
+        # difference of two spectra that both carry the full transit depth, which
+        # amplifies rounding by depth / feature amplitude.  With the SP-3080 /
+        # RADCAL band tables the weakest-feature demo row (2.8 sigma per
+        # transit) differs by 4e-9 while every other row stays below 7e-10.
         assert one["significance_per_transit_sigma"] == pytest.approx(
-            float(row["significance_per_transit"]), rel=1e-9, abs=1e-12)
+            float(row["significance_per_transit"]), rel=1e-8, abs=1e-12)
 
 
 def test_sort_by_tsm_and_filters(cat):

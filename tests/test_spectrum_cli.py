@@ -51,8 +51,14 @@ def test_files_and_table(tmp_path, capsys):
     assert set(t["scenario"]) == {"h2-clear-solar", "flat"}
     assert str(t["wavelength"].unit) == "um"
     assert png.stat().st_size > 1000
-    assert _run([CEDAR, "--resolution", "8", "--solver", "layers", "--layers", "100",
-                 "--out", str(nc)]) == 0
+    # Cedar b's thick CO2 atmosphere stays optically thick at the preset's top
+    # pressure in the CO2 15 um band core with the SP-3080 / RADCAL tables (their
+    # effective 1/d puts ~2x more lines per cm^-1 there than the earlier band
+    # list); the model says so, and the run still succeeds.
+    from snrkit.errors import SnrkitWarning
+    with pytest.warns(SnrkitWarning, match="optically thick near the top pressure"):
+        assert _run([CEDAR, "--resolution", "8", "--solver", "layers", "--layers", "100",
+                     "--out", str(nc)]) == 0
     ds = xr.open_dataset(nc, engine="scipy")
     assert ds.transit_depth_ppm.dims == ("planet", "wavelength")
     assert list(ds.planet.values) == ["Cedar b", "Cedar c"]

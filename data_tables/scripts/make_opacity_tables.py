@@ -14,6 +14,12 @@ Outputs
     Collision-induced absorption of H2-H2, H2-He, N2-N2, O2-O2 and CO2-CO2 as
     Gaussian band components (centre, width, peak binary coefficient at
     296 K, power-law temperature scaling).  Written from ``CIA_BANDS``.
+``opacity/tabulated_bands.ecsv``
+    One row per region of the tabulated narrow-band sources used for H2O,
+    CO2, CO and CH4 (wavenumber and temperature range, band centre, the
+    rule above the highest temperature, band integral at the lowest
+    temperature, source), with the typo replacements, the H2O 1.14 um and
+    CH4 choices and the NIST notice in its metadata.
 ``opacity/malkmus_bands.npz``
     Per native bin and per table temperature: the mean line absorption
     cross-section S (m^2/molecule), the Malkmus effective line density
@@ -47,6 +53,34 @@ sqrt(B_eff S_tot) = sum_b sqrt(B_b S_b) (derived here); the line width is a
 property of the species, so this fixes an effective line density 1/d_eff.
 At load time B = gamma / d (strong-line matching for exponentially
 distributed line strengths, see snrkit/atmosphere/opacity.py).
+
+H2O, CO2, CO and CH4 (tabulated sources).  Native-bin S and 1/d come from
+the narrow-band parameters of NASA SP-3080 (Ludwig, Malkmus, Reardon &
+Thomson 1973) and the band models of NIST RADCAL (Grosshandler 1993, NIST
+TN 1402), copied with their README (units, validity, NIST notice) into
+``opacity/sources/``:
+
+* S/d [cm^-1 atm^-1, per atm cm at 273 K] -> sigma = (S/d) / 2.688256e19 cm^-3;
+  the sources are piecewise linear between their 25 (H2O, CH4) or 5 cm^-1
+  nodes, as RADCAL interpolates them, and each native bin takes the exact
+  mean of that function;
+* temperature: linear between table rows (RADCAL's rule); above the highest
+  row the values are held (RADCAL clamps likewise); below the lowest row
+  (300 K, 290 K for CH4) see ``EDWARDS_SCALING``: the band envelope narrows
+  about its centre as sqrt(T) at constant band intensity (Edwards 1976), and
+  the CO2 hot bands follow RADCAL's own band-strength laws;
+* line density stored = (4/pi) x RADCAL's effective 1/d (README §4.7: the
+  Malkmus B that keeps RADCAL's weak- and strong-line limits is
+  (4/pi) gamma (1/d); snrkit.atmosphere.opacity forms B = gamma x density);
+* four suspected transcription errors (README §9) are replaced by the linear
+  interpolation of their wavenumber neighbours (``TYPOS``); the H2O 1.14 um
+  band, which the 300-600 K table nearly lacks, takes per bin the larger of
+  the table and the band list's row; CH4 uses the measured Brosmer & Tien
+  (1985) tables (``CH4_CHOICE``).
+
+Band-list rows replaced by these sources are kept in ``bands.ecsv`` with
+model "tabulated" (not used); the other rows of these species add their
+envelopes outside the ranges where a source is complete (``COMPLETE_RANGES``).
 
 Run from the repository root: python data_tables/scripts/make_opacity_tables.py
 """
@@ -350,6 +384,25 @@ def band_table():
     t["line_spacing_t_exponent"] = [SPECIES[s][4] for s in t["species"]]
     t["lorentz_hwhm_1bar_296"] = [SPECIES[s][1] for s in t["species"]]
     t["lorentz_t_exponent"] = [SPECIES[s][2] for s in t["species"]]
+    model, note = [], []
+    for sp, band in zip(t["species"], t["band"]):
+        if band in REPLACED_ROWS.get(sp, []):
+            model.append("tabulated")
+            note.append("not used: replaced by the tabulated source of its species "
+                        "(tabulated_bands.ecsv); kept for reference")
+        elif sp == "H2O" and band == H2O_114_ROW:
+            model.append("envelope")
+            note.append("used in 7950-9300 cm-1 where larger than the SP-3080 table "
+                        "(tabulated_bands.ecsv meta h2o_1.14um), and outside 50-9300 cm-1")
+        elif sp in COMPLETE_RANGES:
+            model.append("envelope")
+            note.append("used outside " + ", ".join(f"{a:g}-{b:g}" for a, b in COMPLETE_RANGES[sp])
+                        + " cm-1, where the tabulated source is complete")
+        else:
+            model.append("envelope")
+            note.append("used")
+    t["model"] = model
+    t["use"] = note
     units = {"centre": "cm-1", "intensity_296": "cm/molecule", "gaussian_fwhm": "cm-1",
              "lower_state_energy": "cm-1", "width_296": "cm-1", "line_spacing_296": "cm-1",
              "lorentz_hwhm_1bar_296": "cm-1"}
@@ -362,7 +415,10 @@ def band_table():
                         "(T/296)^intensity_t_exponent exp[-c2 E_low (1/T - 1/296)]; gaussian rows are "
                         "line-free electronic continua; Malkmus line spacing delta(T) = "
                         "line_spacing_296 (296/T)^line_spacing_t_exponent; Lorentz HWHM = "
-                        "lorentz_hwhm_1bar_296 (P/1 bar) (296/T)^lorentz_t_exponent")
+                        "lorentz_hwhm_1bar_296 (P/1 bar) (296/T)^lorentz_t_exponent; rows with "
+                        "model 'tabulated' are not used: H2O, CO2, CO and CH4 bands come from "
+                        "the SP-3080 / RADCAL narrow-band tables in tabulated_bands.ecsv "
+                        "(column use says where each envelope row applies)")
     t.meta["units"] = units
     t.meta["date"] = datetime.date.today().isoformat()
     t.meta["script"] = SCRIPT
@@ -389,8 +445,336 @@ def alkali_table():
     return t
 
 
-def malkmus_arrays(bands):
-    """S, 1/delta and smooth cross-sections per species, temperature, bin (SI)."""
+# --------------------------------------------------------------------------
+# Tabulated narrow-band parameters: NASA SP-3080 as tabulated in NIST RADCAL
+# --------------------------------------------------------------------------
+#
+# Source files (copied unchanged from the shared extraction, with its README,
+# which carries the NIST notice) in data_tables/opacity/sources/.  Section
+# numbers "README §n" refer to that README.
+#
+# Units (README §2): S/d in cm^-1 atm^-1 per atm cm of path reduced to 273 K,
+# so the mean cross-section per molecule is (S/d) / n_ref with
+# n_ref = 101325 Pa / (k_B 273 K) = 2.688256e19 cm^-3.
+# Line spacing (README §4.7): RADCAL's 1/d is the SP-3080 "effective" value of
+# a Goody fit; the Malkmus line parameter that keeps RADCAL's weak- and
+# strong-line limits is B = (4/pi) gamma_L (1/d).  snrkit.atmosphere.opacity
+# forms B = gamma x line_density, so the tables store
+# line_density = (4/pi) (1/d) for these sources.
+
+SOURCES = OUT / "sources"
+N_REF_273_CM3 = 2.688256e19            # README §2 (RADCAL uses 273 K)
+MALKMUS_FROM_RADCAL = 4.0 / np.pi      # README §4.7
+RADCAL = ("NIST RADCAL (Grosshandler 1993, NIST Technical Note 1402), Source/rcal.f90 at "
+          "commit abe2a8f1e84e, extracted as data only (data_tables/opacity/sources/README.md)")
+SP3080 = ("Ludwig, Malkmus, Reardon & Thomson 1973, Handbook of Infrared Radiation from "
+          "Combustion Gases, NASA SP-3080")
+EDWARDS_SCALING = (
+    "below the source's lowest temperature T0: band envelope compressed self-similarly about the "
+    "band centre nu0, S(nu, T) = f(T) (1/s) S(nu0 + (nu - nu0)/s, T0), s = sqrt(T/T0) (band width "
+    "proportional to sqrt(T) at constant band intensity: exponential wide-band model, Edwards 1976, "
+    "Adv. Heat Transfer 12, 115, the same rule the band list uses); f(T) = 1 for bands from the "
+    "ground state (band sum independent of T, Edwards 1976), and the source's own analytic "
+    "band-strength law for the CO2 hot bands (README §4.3); the effective 1/d at the mapped "
+    "wavenumber is held at its T0 value (common practice, no source)")
+
+# Suspected transcription errors in the source (README §9), replaced by the
+# linear interpolation between their wavenumber neighbours at the same
+# temperature -- the interpolation RADCAL itself applies between nodes.
+# (file, wavenumber, temperature): printed value.
+TYPOS = {
+    ("h2o", 7600.0, 300.0): 1.85e-2,     # neighbours 2.75e-4 and 1.01e-4
+    ("h2o", 2175.0, 300.0): 6.2e-3,      # neighbours 8.8e-4 and 4.8e-4
+    ("h2o", 9150.0, 2000.0): 6.71e-3,    # neighbours 7.48e-4 and 5.16e-4
+    ("co2_15", 555.0, 1500.0): 1.2e-2,   # neighbours 0.097 and 0.126
+}
+
+# H2O 1.14 um (README §9): the 300 K and 600 K tables hold only 1-4 % of the
+# band above ~7950 cm^-1.  In 7950-9300 cm^-1 each native bin takes the larger
+# of the table and the band list's 1.14 um row (present value, from memory),
+# at every temperature; the table wins where its hot bands exceed the row.
+H2O_114_RANGE = (7950.0, 9300.0)
+H2O_114_ROW = "nu1+nu2+nu3 1.14 um"
+
+
+def _read_csv(name):
+    import csv
+    with open(SOURCES / name, newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _grid(rows, value_key, where=lambda r: True):
+    """(wavenumbers, temperatures, values[T, nu]) from long-format rows."""
+    rows = [r for r in rows if where(r)]
+    nu = np.array(sorted({float(r["wavenumber_cm-1"]) for r in rows}))
+    temps = np.array(sorted({float(r["temperature_K"]) for r in rows}))
+    val = np.full((temps.size, nu.size), np.nan)
+    ext = {}
+    for r in rows:
+        i = np.searchsorted(temps, float(r["temperature_K"]))
+        j = np.searchsorted(nu, float(r["wavenumber_cm-1"]))
+        v = r[value_key]
+        val[i, j] = float(v) if v not in ("", None) else np.nan
+        ext[(i, j)] = r
+    if np.isnan(val).any() and value_key.startswith("s_over_d"):
+        raise ValueError(f"incomplete grid for {value_key}")
+    return nu, temps, val
+
+
+def _fix_typos(tag, nu, temps, sd, log):
+    for (t, w, temp), printed in TYPOS.items():
+        if t != tag:
+            continue
+        i, j = int(np.flatnonzero(temps == temp)[0]), int(np.flatnonzero(nu == w)[0])
+        if not np.isclose(sd[i, j], printed, rtol=1e-6):
+            raise ValueError(f"{tag} {w} {temp}: expected the printed value {printed}")
+        sd[i, j] = 0.5 * (sd[i, j - 1] + sd[i, j + 1])
+        log.append({"file": tag, "wavenumber_cm-1": w, "temperature_K": temp,
+                    "printed": printed, "used": float(sd[i, j]),
+                    "rule": "linear interpolation between the wavenumber neighbours"})
+
+
+def h2o_inv_d(nu, temperature):
+    """RADCAL/SP-3080 H2O effective 1/d [cm] (README §4.1), T clamped to 300-2499.99 K."""
+    t = np.clip(temperature, 300.0, 2499.99)
+    d = -2.294 + 0.3004e-2 * t - 0.366e-6 * temperature ** 2
+    return np.exp(0.7941 * np.sin(0.0036 * nu - 8.043) + d)
+
+
+def co2_15_inv_d(temperature):
+    """RADCAL CO2 15 um 1/d [cm] (README §4.2): Lagrange quadratic, T clamped to 300-2399.99 K."""
+    t = np.clip(temperature, 300.0, 2399.99)
+    x, y = (300.0, 550.0, 830.0), (1.2, 8.0, 30.0)
+    out = 0.0
+    for i in range(3):
+        term = y[i]
+        for j in range(3):
+            if j != i:
+                term = term * (t - x[j]) / (x[i] - x[j])
+        out = out + term
+    return out
+
+
+def ch4_inv_d(band, temperature):
+    """CH4 1/d [cm] from the Brosmer & Tien (1985) fine-structure parameter a = gamma/d.
+
+    a at an effective pressure of 1 atm (README §4.5) divided by the Lorentz
+    half-width snrkit uses for CH4 at 1 atm and the same temperature, so that
+    snrkit's gamma x 1/d reproduces a at 1 atm.
+    """
+    if band == "7.7um":
+        a = 0.0243 * (temperature / 273.0) ** 0.8
+    else:
+        a = 0.00734 * (273.0 / temperature) ** 0.5 * np.exp(1.02 * (temperature / 273.0 - 1.0))
+    gamma_1bar, n_gam = SPECIES["CH4"][1], SPECIES["CH4"][2]
+    gamma_1atm = gamma_1bar * 1.01325 * (296.0 / temperature) ** n_gam
+    return a / gamma_1atm
+
+
+def co2_10um_factor(temperature):
+    """Band-strength law of RADCAL's CO2 10 um hot bands (README §4.3), A(T)/A(300 K)."""
+    c2, w1, w2, w3 = 1.4388, 1354.91, 673.0, 2396.49
+    wa, wb = w3, 0.5 * (w1 + 2.0 * w2)
+
+    def a(t):
+        return ((300.0 / t) * np.exp(c2 * wb * (1.0 / 300.0 - 1.0 / t))
+                * (1.0 - np.exp(-c2 * (wa - wb) / t))
+                / ((1.0 - np.exp(-c2 * wa / t)) * (1.0 - np.exp(-c2 * wb / t))))
+    return a(temperature) / a(300.0)
+
+
+def co2_20um_factor(temperature):
+    """Harmonic-oscillator law of RADCAL's CO2 2.0 um bands (README §4.3), S(T)/S(300 K).
+
+    Strength-weighted over the three bands (0.272, 1.01, 0.426 cm^-2 atm^-1;
+    upper levels (041), (121), (201), with wk = 1354.91, 673.0, 2396.49 cm^-1).
+    """
+    c2, w = 1.4388, (1354.91, 673.0, 2396.49)
+    bands = ((0.272, 4860.5, (0, 4, 1)), (1.01, 4983.5, (1, 2, 1)), (0.426, 5109.0, (2, 0, 1)))
+
+    def total(t):
+        out = 0.0
+        for a300, nu, n in bands:
+            prod = np.prod([(1.0 - np.exp(-c2 * wk / t)) ** nk for wk, nk in zip(w, n)])
+            out += a300 * (300.0 / t) * (1.0 - np.exp(-c2 * nu / t)) / prod
+        return out
+    return total(temperature) / total(300.0)
+
+
+def _interp_rows(temps, values, temperature):
+    """Linear interpolation in T between table rows (RADCAL's bilinear rule); T >= temps[0]."""
+    t = min(max(float(temperature), temps[0]), temps[-1])
+    j = int(np.clip(np.searchsorted(temps, t) - 1, 0, temps.size - 2))
+    f = (t - temps[j]) / (temps[j + 1] - temps[j])
+    return (1.0 - f) * values[j] + f * values[j + 1]
+
+
+def load_tabulated_sources():
+    """The tabulated regions, each a dict (see TABULATED_REGIONS in the written metadata)."""
+    log = []
+    regions = []
+    # H2O, SP-3080 Table A2-35 as tabulated in RADCAL (README §1, §3, §4.1)
+    nu, temps, sd = _grid(_read_csv("h2o_radcal_sp3080.csv"), "s_over_d_cm-1_atm-1_stp273")
+    _fix_typos("h2o", nu, temps, sd, log)
+    h2o_split = [(50.0, 1000.0, 0.0, "rotation"), (1000.0, 2550.0, 1594.7, "6.3 um"),
+                 (2550.0, 4550.0, 3755.9, "2.7 um"), (4550.0, 6050.0, 5331.3, "1.87 um"),
+                 (6050.0, 7950.0, 7249.8, "1.38 um"), (7950.0, 9300.0, 8807.0, "1.14 um")]
+    for lo, hi, nu0, label in h2o_split:
+        sel = (nu >= lo) & (nu <= hi)
+        regions.append(dict(
+            species="H2O", label=f"H2O {label}", file="h2o_radcal_sp3080.csv", lo=lo, hi=hi,
+            centre=nu0, nu=nu[sel], temps=temps, sd=sd[:, sel],
+            inv_d=lambda n, t: h2o_inv_d(n, t), factor=lambda t: 1.0,
+            source=f"{SP3080}, Table A2-35 (H2O), as tabulated in {RADCAL}",
+            hot_limit="held at 2500 K (RADCAL clamps T to 2499.99 K, README §3)"))
+    # CO2 15 um, SP-3080 Table A2-28 (README §4.2)
+    nu, temps, sd = _grid(_read_csv("co2_radcal_sp3080_15um.csv"), "s_over_d_cm-1_atm-1_stp273")
+    _fix_typos("co2_15", nu, temps, sd, log)
+    regions.append(dict(
+        species="CO2", label="CO2 15 um", file="co2_radcal_sp3080_15um.csv", lo=500.0, hi=880.0,
+        centre=667.4, nu=nu, temps=temps, sd=sd, inv_d=lambda n, t: co2_15_inv_d(t) + 0 * n,
+        factor=lambda t: 1.0, source=f"{SP3080}, Table A2-28 (CO2 15 um), as tabulated in {RADCAL}",
+        hot_limit="held at 2400 K (RADCAL clamps T to 2399.99 K, README §3)"))
+    # RADCAL's computed bands (README §4.3-4.5, §6)
+    comp = _read_csv("radcal_computed_bands_evaluated.csv")
+    computed = [
+        ("CO2", "10um", 1000.0, co2_10um_factor,
+         "Leckner 1971 rigid-rotator envelopes of the 9.4/10.4 um hot bands per TN 1402"),
+        ("CO2", "4.3um", 2349.1, lambda t: 1.0,
+         "Malkmus 1963 anharmonic vibrating rotator, nu3 with hot bands"),
+        ("CO2", "2.7um", 3660.0, lambda t: 1.0, "Malkmus 1963, Fermi dyad"),
+        ("CO2", "2.0um", 4985.0, co2_20um_factor,
+         "Leckner 1971 envelopes, strengths of Penner & Varanasi 1964, JQSRT 4, 799"),
+        ("CO", "4.7um", 2143.3, lambda t: 1.0,
+         "Malkmus & Thomson 1961/62 anharmonic vibrating rotator, fundamental with hot bands"),
+        ("CH4", "2.4um", 4300.0, lambda t: 1.0,
+         "four combination bands, Vincent-Geisse 1955 strengths, Gray & Penner 1965, JQSRT 5, 611"),
+    ]
+    for species, band, nu0, factor, model in computed:
+        def pick(r, species=species, band=band):
+            return r["species"] == species and r["band"] == band
+        nu, temps, sd = _grid(comp, "s_over_d_cm-1_atm-1_stp273", pick)
+        _, _, invd = _grid(comp, "inv_d_cm", pick)
+        regions.append(dict(
+            species=species, label=f"{species} {band.replace('um', ' um')}",
+            file="radcal_computed_bands_evaluated.csv", lo=float(nu[0]), hi=float(nu[-1]),
+            centre=nu0, nu=nu, temps=temps, sd=sd, inv_d_table=np.nan_to_num(invd),
+            factor=factor, source=f"{model}; band model of {RADCAL}, evaluated by its own routines "
+                                  "(README §6)",
+            hot_limit="held at 2500 K (highest evaluated temperature)"))
+    # CH4: Brosmer & Tien (1985) measured tables (README §4.5), see CH4_CHOICE
+    ch4 = _read_csv("ch4_old_brosmer_tien.csv")
+    for band, nu0, lo, hi in (("7.7um", 1310.76, 1125.0, 1500.0), ("3.3um", 3018.9, 2625.0, 3400.0)):
+        nu, temps, sd = _grid(ch4, "s_over_d_cm-1_atm-1_stp273", lambda r, b=band: r["band"] == b)
+        regions.append(dict(
+            species="CH4", label=f"CH4 {band.replace('um', ' um')}",
+            file="ch4_old_brosmer_tien.csv", lo=lo, hi=hi, centre=nu0, nu=nu, temps=temps, sd=sd,
+            inv_d=lambda n, t, b=band: ch4_inv_d(b, t) + 0 * n, factor=lambda t: 1.0,
+            source=("Brosmer & Tien 1985, JQSRT 33, 521 (measured; 290, 600, 850 K), as "
+                    f"tabulated in {RADCAL} (arrays SD7/SD3)"),
+            hot_limit=("held at 850 K: band sum of a fundamental independent of T (Edwards 1976); "
+                       "RADCAL's own linear extrapolation is not used")))
+    return regions, log
+
+
+CH4_CHOICE = (
+    "CH4 uses the Brosmer & Tien (1985) measured tables (290/600/850 K), not RADCAL's current "
+    "300-1400 K tables: the current tables' provenance is undocumented and their band sums fall "
+    "to 0.23x by 1400 K as a line list without hot bands would (README §5, §8, §9), while the "
+    "measured set keeps the band sum roughly constant, as the harmonic-oscillator band-sum rule "
+    "expects (Edwards 1976).  At 290 K its 7.7 and 3.3 um band sums are 1.02 and 0.92 of the "
+    "HITRAN-type values (README §8)")
+
+# Ranges where a tabulated source is the complete absorption of its species
+# (measured spectra or SP-3080 tables), so that the band list's remaining rows
+# are not added there (their envelopes are cut to zero inside).  The CO2, CO and
+# CH4 2.4 um computed bands are band-by-band models: other bands add to them.
+COMPLETE_RANGES = {"H2O": [(50.0, 9300.0)], "CH4": [(1125.0, 1500.0), (2625.0, 3400.0)]}
+
+# Band-list rows whose band is represented by a tabulated source.
+REPLACED_ROWS = {
+    "H2O": ["pure rotation", "nu2 6.3 um", "2nu2 3.2 um", "nu1 2.7 um", "nu3 2.7 um",
+            "nu2+nu3 1.9 um", "nu1+nu3 1.4 um"],
+    "CO2": ["nu2 15 um", "laser band 10.4 um", "laser band 9.4 um", "nu3 4.3 um",
+            "Fermi dyad 2.77 um", "Fermi dyad 2.69 um", "2.0 um triad"],
+    "CO": ["1-0 4.7 um"],
+    "CH4": ["nu4 7.7 um", "nu3 3.3 um", "octad 2.3 um"],
+}
+
+
+def _cumulative(x, y, e):
+    """Integral from x[0] to e of the piecewise-linear function through (x, y), 0 outside."""
+    x, y, e = np.asarray(x, float), np.asarray(y, float), np.asarray(e, float)
+    h = np.diff(x)
+    seg = 0.5 * (y[1:] + y[:-1]) * h
+    cum = np.concatenate([[0.0], np.cumsum(seg)])
+    i = np.clip(np.searchsorted(x, e, side="right") - 1, 0, x.size - 2)
+    t = np.clip(e - x[i], 0.0, h[i])
+    out = cum[i] + y[i] * t + (y[i + 1] - y[i]) * t ** 2 / (2.0 * h[i])
+    return np.where(e <= x[0], 0.0, np.where(e >= x[-1], cum[-1], out))
+
+
+def _bin_average(x, y, nu_lo, nu_hi):
+    return (_cumulative(x, y, nu_hi) - _cumulative(x, y, nu_lo)) / (nu_hi - nu_lo)
+
+
+def region_nodes(region, temperature):
+    """Node wavenumbers [cm^-1], S/d (STP-273 basis) and effective 1/d [cm] at T.
+
+    At or above the source's lowest temperature: RADCAL's linear interpolation
+    between table rows (held at the highest row above it).  Below it: the
+    envelope compression of EDWARDS_SCALING.
+    """
+    temps, nu = region["temps"], region["nu"]
+    t0 = float(temps[0])
+    t_eval = max(float(temperature), t0)
+    sd = _interp_rows(temps, region["sd"], t_eval)
+    if "inv_d_table" in region:
+        invd = _interp_rows(temps, region["inv_d_table"], t_eval)
+    else:
+        invd = np.broadcast_to(region["inv_d"](nu, min(t_eval, float(temps[-1]))), nu.shape)
+    x = nu.astype(float)
+    if temperature < t0:
+        s = np.sqrt(float(temperature) / t0)
+        x = region["centre"] + s * (x - region["centre"])
+        sd = sd * float(region["factor"](float(temperature))) / s
+    return x, np.maximum(sd, 0.0), np.asarray(invd, float)
+
+
+def region_bin_means(region, temperature, nu_lo, nu_hi):
+    """Per native bin: mean cross-section [cm^2] and mean sqrt(S x line_density) [cm^0.5... ]."""
+    x, sd, invd = region_nodes(region, temperature)
+    sigma = sd / N_REF_273_CM3                                     # cm^2 per molecule
+    dens = MALKMUS_FROM_RADCAL * invd                              # cm (snrkit's 1/delta)
+    m = _bin_average(x, sigma, nu_lo, nu_hi)
+    r = _bin_average(x, np.sqrt(sigma * dens), nu_lo, nu_hi)
+    return m, r
+
+
+def _row_window_mean(row, temperature, nu_lo, nu_hi, windows):
+    """Mean of a band row's envelope over each bin, counting only the parts outside windows."""
+    total = bin_mean(row, temperature, nu_lo, nu_hi)
+    for a, b in windows:
+        lo, hi = np.maximum(nu_lo, a), np.minimum(nu_hi, b)
+        ok = hi > lo
+        if np.any(ok):
+            inside = np.zeros_like(total)
+            inside[ok] = bin_mean(row, temperature, lo[ok], hi[ok]) * (hi[ok] - lo[ok]) \
+                / (nu_hi[ok] - nu_lo[ok])
+            total = total - inside
+    return np.maximum(total, 0.0)
+
+
+S_FLOOR_CM2 = 1e-41      # cm^2; see malkmus_arrays
+
+
+def malkmus_arrays(bands, regions=None):
+    """S, 1/delta and smooth cross-sections per species, temperature, bin (SI).
+
+    ``regions`` defaults to :func:`load_tabulated_sources`.
+    """
+    if regions is None:
+        regions = load_tabulated_sources()[0]
     edges = native_edges_m()
     nu_edges = 1e-2 / edges                       # cm^-1, descending
     nu_lo, nu_hi = nu_edges[1:], nu_edges[:-1]
@@ -400,24 +784,104 @@ def malkmus_arrays(bands):
     line_density = np.zeros(shape)
     smooth = np.zeros(shape)
     for i, sp in enumerate(species):
-        rows = bands[bands["species"] == sp]
+        rows = bands[(bands["species"] == sp) & (bands["model"] != "tabulated")]
+        sp_regions = [r for r in regions if r["species"] == sp]
+        windows = COMPLETE_RANGES.get(sp, [])
         for j, temp in enumerate(TEMPERATURES_K):
             sqrt_sum = np.zeros(N_NATIVE)
             total = np.zeros(N_NATIVE)
-            for row in rows:
-                m = bin_mean(row, temp, nu_lo, nu_hi)       # cm^2
-                if row["shape"] == "gaussian":
-                    smooth[i, j] += m
+            m114 = r114 = None
+            for reg in sp_regions:
+                m, r = region_bin_means(reg, temp, nu_lo, nu_hi)
+                if reg["label"] == "H2O 1.14 um":
+                    m114, r114 = m, r
                     continue
+                total += m
+                sqrt_sum += r
+            for row in rows:
                 delta = row["line_spacing_296"] * (296.0 / temp) ** row["line_spacing_t_exponent"]
+                if row["shape"] == "gaussian":
+                    smooth[i, j] += bin_mean(row, temp, nu_lo, nu_hi)
+                    continue
+                m = _row_window_mean(row, temp, nu_lo, nu_hi, windows)     # cm^2
                 total += m
                 sqrt_sum += np.sqrt(m / delta)              # B is prop. to 1/delta
+                if sp == "H2O" and row["band"] == H2O_114_ROW:
+                    lo, hi = H2O_114_RANGE
+                    inside = _row_window_mean(row, temp, nu_lo, nu_hi, [(0.0, lo), (hi, 1e9)])
+                    use_row = inside > m114
+                    m114 = np.where(use_row, inside, m114)
+                    r114 = np.where(use_row, np.sqrt(inside / delta), r114)
+            if m114 is not None:
+                total += m114
+                sqrt_sum += r114
+            # Round-off of bin integrals far out in the wings (and of the compressed
+            # envelopes below 300 K) leaves |S| < 1e-41 cm^2 (1e-45 m^2), whose optical
+            # depth stays below 1e-14 for any column up to 1e31 molecules m^-2: set to 0.
+            negligible = total < S_FLOOR_CM2
+            total = np.where(negligible, 0.0, total)
+            sqrt_sum = np.where(negligible, 0.0, sqrt_sum)
             s_mean[i, j] = total
             with np.errstate(invalid="ignore", divide="ignore"):
                 dens = np.where(total > 0, sqrt_sum ** 2 / np.where(total > 0, total, 1.0), 0.0)
             line_density[i, j] = dens                       # 1/delta_eff [cm]
     # to SI: cm^2 -> m^2; 1/delta [cm] -> [m]
     return species, s_mean * 1e-4, line_density * 1e-2, smooth * 1e-4
+
+
+def tabulated_table(regions, typo_log):
+    """One row per tabulated region: range, temperatures, rules and band integral."""
+    rows = []
+    for reg in regions:
+        x, sd, _ = region_nodes(reg, float(reg["temps"][0]))
+        integral = float(np.trapezoid(sd, x)) / N_REF_273_CM3
+        rows.append((reg["species"], reg["label"], reg["lo"], reg["hi"], reg["centre"],
+                     float(reg["temps"][0]), float(reg["temps"][-1]), integral,
+                     f"sources/{reg['file']}", reg["hot_limit"], reg["source"]))
+    t = Table(rows=rows, names=("species", "region", "wavenumber_min", "wavenumber_max",
+                                "band_centre", "temperature_min", "temperature_max",
+                                "band_integral_tmin", "file", "above_temperature_max", "source"))
+    units = {"wavenumber_min": "cm-1", "wavenumber_max": "cm-1", "band_centre": "cm-1",
+             "temperature_min": "K", "temperature_max": "K", "band_integral_tmin": "cm/molecule"}
+    for k, v in units.items():
+        t[k].unit = v
+    t.meta["source"] = f"{SP3080}; {RADCAL}"
+    t.meta["method"] = _tabulated_method()
+    t.meta["units"] = units
+    t.meta["date"] = datetime.date.today().isoformat()
+    t.meta["script"] = SCRIPT
+    t.meta["typo_replacements"] = typo_log
+    t.meta["ch4_choice"] = CH4_CHOICE
+    t.meta["h2o_1.14um"] = _H2O_114_NOTE
+    t.meta["nist_notice"] = nist_notice()
+    return t
+
+
+_H2O_114_NOTE = (
+    "the 300 K (and 600 K) SP-3080 H2O table holds only ~1 % (1-4 %) of the 1.14 um band above "
+    "~7950 cm^-1 (README §8, §9); in 7950-9300 cm^-1 every native bin takes the larger of the "
+    "table and the band list's 'nu1+nu2+nu3 1.14 um' row (its present intensity 7.0e-21 "
+    "cm/molecule at 296 K, value from memory, exponential envelope), at every temperature")
+
+
+def _tabulated_method():
+    return ("S/d (cm^-1 atm^-1 per atm cm at 273 K) -> mean cross-section (S/d)/2.688256e19 cm^-3 "
+            "(README §2); the source is piecewise linear in wavenumber between its 25 or 5 cm^-1 "
+            "nodes (RADCAL's interpolation) and is averaged exactly over each native bin; "
+            "temperature: linear between table rows (RADCAL's rule), held at the highest row above "
+            "it, and " + EDWARDS_SCALING + "; line density stored = (4/pi) x RADCAL's effective "
+            "1/d, so that snrkit's B = gamma x line_density = (4/pi) gamma (1/d) (README §4.7); "
+            "1/d: H2O SP-3080 fit (README §4.1), CO2 15 um quadratic in T (§4.2), computed "
+            "bands as evaluated (§6), CH4 Brosmer & Tien a = gamma/d at 1 atm over snrkit's CH4 "
+            "Lorentz width at 1 atm (§4.5); overlapping contributions in a bin combine as "
+            "sqrt(B_eff S_tot) = sum sqrt(B_b S_b)")
+
+
+def nist_notice():
+    """The NIST notice of README §10, read from the copied README (must travel with the data)."""
+    text = (SOURCES / "README.md").read_text(encoding="utf-8")
+    start = text.index("## 10. NIST notice")
+    return text[start:].split("\n", 1)[1].strip()
 
 
 def main():
@@ -428,16 +892,30 @@ def main():
     alk.write(OUT / "alkali_lines.ecsv", format="ascii.ecsv", overwrite=True)
     (OUT.parent / "cia").mkdir(exist_ok=True)
     cia_table().write(OUT.parent / "cia" / "cia_bands.ecsv", format="ascii.ecsv", overwrite=True)
-    species, s_mean, dens, smooth = malkmus_arrays(bands)
+    regions, typo_log = load_tabulated_sources()
+    tab = tabulated_table(regions, typo_log)
+    tab.write(OUT / "tabulated_bands.ecsv", format="ascii.ecsv", overwrite=True)
+    species, s_mean, dens, smooth = malkmus_arrays(bands, regions)
     meta = {
-        "source": "data_tables/opacity/bands.ecsv (see its per-row sources)",
-        "method": ("exact bin integrals of exponential wide-band envelopes; Malkmus random-band "
+        "source": ("H2O, CO2, CO, CH4: " + SP3080 + " and the band models tabulated in " + RADCAL
+                   + " (data_tables/opacity/tabulated_bands.ecsv, files in "
+                   "data_tables/opacity/sources/); other species and the bands the tables do not "
+                   "cover: data_tables/opacity/bands.ecsv (see its per-row sources)"),
+        "method": ("tabulated species: " + _tabulated_method() + ". Band-list rows: exact bin "
+                   "integrals of exponential wide-band envelopes. Malkmus random-band "
                    "parameters per native bin: mean line cross-section S and effective line "
                    "density 1/delta with sqrt(B_eff S) = sum_b sqrt(B_b S_b); smooth = line-free "
                    "electronic continua; k-distributions are computed at load time from the "
                    "analytic Malkmus (inverse-Gaussian) distribution"),
+        "tabulated_species": sorted({r["species"] for r in regions}),
+        "typo_replacements": typo_log,
+        "h2o_1.14um": _H2O_114_NOTE,
+        "ch4_choice": CH4_CHOICE,
+        "nist_notice": nist_notice(),
         "units": {"wavelength_edges": "m", "temperature": "K", "mean_cross_section": "m2",
-                  "line_density": "m (1/line spacing in m-1)", "smooth_cross_section": "m2"},
+                  "line_density": ("m (1/line spacing in m-1; for the tabulated species "
+                                   "(4/pi) x the source's effective 1/d, so that B = gamma x "
+                                   "line_density)"), "smooth_cross_section": "m2"},
         "date": datetime.date.today().isoformat(),
         "script": SCRIPT,
         "native_grid": {"lambda_min_m": LAMBDA_MIN_M, "lambda_max_m": LAMBDA_MAX_M,

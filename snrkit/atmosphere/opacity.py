@@ -13,7 +13,13 @@ temperature.  The line parameter follows from matching the strong-line
 limit of Lorentz lines, B = 4 gamma eta / (pi d) with eta = <S^1/2>^2 / <S>
 the line-strength dispersion factor; for exponentially distributed line
 strengths (Goody 1952, Q. J. R. Meteorol. Soc. 78, 165) eta = pi / 4 and
-B = gamma / d.  gamma is the Voigt half-width of the species' lines (Lorentz
+B = gamma / d.  For H2O, CO2, CO and CH4 the tables come from the
+narrow-band parameters of NASA SP-3080 as tabulated in NIST RADCAL
+(``data_tables/opacity/sources/README.md``), whose effective 1/d belongs to
+a Goody fit; the Malkmus B that keeps their weak- and strong-line limits is
+B = (4/pi) gamma (1/d) (that README, section 4.7), so the table stores the
+line density (4/pi)(1/d) for these species and B = gamma x density holds for
+every species.  gamma is the Voigt half-width of the species' lines (Lorentz
 width scaled with pressure and temperature, Doppler width at T, combined with
 the Olivero & Longbothum 1977, JQSRT 17, 233 approximation).  The Malkmus k-distribution
 
