@@ -227,6 +227,9 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     if not 0 <= int(uncertainty_draws) <= MAX_UNCERTAINTY_DRAWS:
         raise InputError("uncertainty_draws", uncertainty_draws,
                          f"an integer in [0, {MAX_UNCERTAINTY_DRAWS}]")
+    if overhead_hours is None:   # the system file's [planet.observation] overhead, if any
+        from .io.systemfile import common_observation
+        overhead_hours = common_observation(system, "overhead", None)
     if overhead_hours is not None and not (np.isfinite(overhead_hours) and 0 <= overhead_hours <= 100):
         raise InputError("overhead", overhead_hours, "hours in [0, 100]")
     names = [str(x) for x in system.names]
@@ -675,6 +678,9 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
     scs = [load_scenario(s) for s in scenarios]
     if len(scs) < 2:
         raise InputError("scenarios", scenarios, "two or more scenarios")
+    if overhead_hours is None:   # the system file's [planet.observation] overhead, if any
+        from .io.systemfile import common_observation
+        overhead_hours = common_observation(system, "overhead", None)
     obs = _observation(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                        baseline, solver)
     ds = transmission_spectrum(scs, obs["rp"], obs["rs"], **obs["spec_kw"])
