@@ -224,6 +224,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     probabilities = tuple(dt.check_probability(p) for p in probabilities)
     if int(n_max) < 1:
         raise InputError("max_transits", n_max, "an integer >= 1")
+    from .units import parse_number
+    seed = parse_number(seed, "seed", 0, 2**63 - 1, integer=True)
     if not 0 <= int(uncertainty_draws) <= MAX_UNCERTAINTY_DRAWS:
         raise InputError("uncertainty_draws", uncertainty_draws,
                          f"an integer in [0, {MAX_UNCERTAINTY_DRAWS}]")
