@@ -487,13 +487,12 @@ def _read_table(path, format):
     if not path.is_file():
         raise InputError("CATALOGUE", str(path), "an existing file")
     try:
-        if fmt == "votable":
-            from astropy.io.votable.exceptions import VOWarning
-            with warnings.catch_warnings():
-                # Non-standard unit strings etc. are reported by us per column instead.
-                warnings.simplefilter("ignore", VOWarning)
-                return Table.read(str(path), format="votable")
-        return Table.read(str(path), format=fmt)
+        from astropy.utils.exceptions import AstropyWarning
+        with warnings.catch_warnings():
+            # Non-standard unit strings, numbers that overflow a float (read as
+            # inf) etc. are reported by the screening, per row and column, instead.
+            warnings.simplefilter("ignore", AstropyWarning)
+            return Table.read(str(path), format=fmt)
     except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
         raise InputError("CATALOGUE", str(path), f"a readable {fmt} table",
                          detail=f"{type(exc).__name__}: {exc}") from None

@@ -49,6 +49,9 @@ REFIT_PARAMETERS = ("temperature", "cloud_top_pressure", "reference_radius")
 TESTS = ("atmosphere", "species", "against")
 #: Largest number of transits considered by default.
 DEFAULT_MAX_TRANSITS = 500
+#: Largest accepted transit limit (far beyond any programme; keeps the
+#: stacker's search bounded; common practice, no source).
+MAX_TRANSITS_LIMIT = 100000
 
 
 def parse_test(test=None, species=None, against=None):
@@ -222,9 +225,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     kind, arg = parse_test(test, species, against)
     sigma = dt.check_sigma(sigma)
     probabilities = tuple(dt.check_probability(p) for p in probabilities)
-    if int(n_max) < 1:
-        raise InputError("max_transits", n_max, "an integer >= 1")
     from .units import parse_number
+    n_max = parse_number(n_max, "max_transits", 1, MAX_TRANSITS_LIMIT, integer=True)
     seed = parse_number(seed, "seed", 0, 2**63 - 1, integer=True)
     if not 0 <= int(uncertainty_draws) <= MAX_UNCERTAINTY_DRAWS:
         raise InputError("uncertainty_draws", uncertainty_draws,
@@ -675,6 +677,8 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
     from .atmosphere.spectrum import transmission_spectrum
     from .atmosphere.scenarios import load_scenario
     sigma = dt.check_sigma(sigma)
+    from .units import parse_number
+    n_max = parse_number(n_max, "max_transits", 1, MAX_TRANSITS_LIMIT, integer=True)
     if isinstance(scenarios, str):
         scenarios = [s for s in scenarios.split(",") if s]
     scs = [load_scenario(s) for s in scenarios]

@@ -46,7 +46,7 @@ from ..units import to_si, parse_number, scalar_si
 from .composition import normalise_mixing_ratios, species_molar_masses
 
 __all__ = ["Scenario", "SCENARIO_KEYS", "TEMPERATURE_PROFILES", "load_scenario",
-           "list_scenarios", "preset_names"]
+           "list_scenarios", "preset_names", "TEMPERATURE_RANGE_K"]
 
 #: key -> what it holds (also the list shown in unknown-key errors)
 SCENARIO_KEYS = {
@@ -197,6 +197,11 @@ def _resolve(spec, field, base_dir=None):
                      detail=f"did you mean {close[0]!r}?" if close else "")
 
 
+#: Accepted atmosphere temperatures [K] (a 5e-324 K atmosphere would have a zero
+#: scale height; common practice, no source).
+TEMPERATURE_RANGE_K = (1.0, 1e5)
+
+
 def _check_keys(table, where):
     for key in table:
         if key not in SCENARIO_KEYS:
@@ -304,8 +309,7 @@ def _validate(t, where, source):
 
     temp = None
     if "temperature" in t:
-        temp = scalar_si(t["temperature"], f"{where}.temperature", u.K, 0.0, None,
-                           low_inclusive=False)
+        temp = scalar_si(t["temperature"], f"{where}.temperature", u.K, *TEMPERATURE_RANGE_K)
         if "temperature_factor" in t:
             raise InputError(f"{where}.temperature_factor", t["temperature_factor"],
                              "either temperature or temperature_factor, not both")
@@ -315,7 +319,8 @@ def _validate(t, where, source):
         close = difflib.get_close_matches(str(prof), TEMPERATURE_PROFILES, n=1, cutoff=0.4)
         raise InputError(f"{where}.temperature_profile", prof, " or ".join(TEMPERATURE_PROFILES),
                          detail=f"did you mean {close[0]!r}?" if close else "")
-    tint = (scalar_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0)
+    tint = (scalar_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0,
+                      TEMPERATURE_RANGE_K[1])
             if "internal_temperature" in t else 0.0)
     kth = (scalar_si(t["thermal_opacity"], f"{where}.thermal_opacity", u.m**2 / u.kg, 0.0,
                        low_inclusive=False) if "thermal_opacity" in t else 1e-3)
