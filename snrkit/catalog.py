@@ -132,7 +132,6 @@ Estimates (flag columns, one per row, in :data:`FLAG_COLUMNS`)
 """
 
 import difflib
-import tomllib
 import warnings
 from collections import namedtuple
 from pathlib import Path
@@ -144,7 +143,7 @@ from . import geometry as geo
 from . import metrics as met
 from .constants import G, R_SUN, M_SUN, R_EARTH, M_EARTH, AU, DAY
 from .errors import InputError, UnitMismatchError, UnknownKeyError, GrazingTransitWarning
-from .system import Star, Planet, System, TEFF_RANGE_K, PLANET_RADIUS_MAX_EARTH, BANDS
+from .system import Star, Planet, System, TEFF_RANGE_K, BANDS, LIMITS
 
 __all__ = ["read_catalogue", "catalogue_from_table", "load_mapping", "Catalogue",
            "FIELDS", "DEFAULT_COLUMNS", "STATUS_CODES", "FLAG_COLUMNS", "FORMATS"]
@@ -163,19 +162,20 @@ FIELDS = {
     "planet.name": _f("text", None, "planet_name", "planet name"),
     "star.name": _f("text", None, "host_name", "host name"),
     "planet.radius": _f("quantity", "earthRad", "planet_radius_earth", "planet radius",
-                        0.0, PLANET_RADIUS_MAX_EARTH, low_inc=False),
+                        *LIMITS["planet.radius"]),
     "planet.radius_uncertainty": _f("quantity", "earthRad", "planet_radius_uncertainty_earth",
-                                    "planet radius uncertainty", 0.0),
-    "planet.mass": _f("quantity", "earthMass", "planet_mass_earth", "planet mass", 0.0,
-                      low_inc=False),
+                                    "planet radius uncertainty", *LIMITS["planet.radius_uncertainty"]),
+    "planet.mass": _f("quantity", "earthMass", "planet_mass_earth", "planet mass",
+                      *LIMITS["planet.mass"]),
     "planet.mass_uncertainty": _f("quantity", "earthMass", "planet_mass_uncertainty_earth",
-                                  "planet mass uncertainty", 0.0),
-    "planet.period": _f("quantity", "d", "period_days", "orbital period", 0.0, low_inc=False),
+                                  "planet mass uncertainty", *LIMITS["planet.mass_uncertainty"]),
+    "planet.period": _f("quantity", "d", "period_days", "orbital period", *LIMITS["planet.period"]),
     "planet.period_uncertainty": _f("quantity", "d", "period_uncertainty_days",
-                                    "period uncertainty", 0.0),
+                                    "period uncertainty", *LIMITS["planet.period_uncertainty"]),
     "planet.semi_major_axis": _f("quantity", "AU", "semi_major_axis_au", "semi-major axis",
-                                 0.0, low_inc=False),
-    "planet.impact_parameter": _f("number", None, "impact_parameter", "impact parameter", 0.0),
+                                 *LIMITS["planet.semi_major_axis"]),
+    "planet.impact_parameter": _f("number", None, "impact_parameter", "impact parameter",
+                                  *LIMITS["planet.impact_parameter"]),
     "planet.inclination": _f("quantity", "deg", "inclination_deg", "inclination", 0.0, 180.0),
     "planet.eccentricity": _f("number", None, "eccentricity", "eccentricity", 0.0, 1.0,
                               high_inc=False),
@@ -184,20 +184,22 @@ FIELDS = {
     "planet.transit_midtime": _f("time", "d", "transit_midtime_bjd_tdb",
                                  "transit mid-time (BJD_TDB)", 2.0e6, 3.0e6),
     "planet.transit_midtime_uncertainty": _f("quantity", "d", "transit_midtime_uncertainty_days",
-                                             "transit mid-time uncertainty", 0.0),
+                                             "transit mid-time uncertainty",
+                                             *LIMITS["planet.transit_midtime_uncertainty"]),
     "planet.equilibrium_temperature": _f("quantity", "K", "planet_teq_K",
-                                         "equilibrium temperature", 0.0, low_inc=False),
+                                         "equilibrium temperature",
+                                         *LIMITS["planet.equilibrium_temperature"]),
     "star.effective_temperature": _f("quantity", "K", "star_teff_K",
                                      "stellar effective temperature", *TEFF_RANGE_K),
-    "star.radius": _f("quantity", "solRad", "star_radius_sun", "stellar radius", 0.0, 100.0,
-                      low_inc=False),
-    "star.mass": _f("quantity", "solMass", "star_mass_sun", "stellar mass", 0.0, low_inc=False),
+    "star.radius": _f("quantity", "solRad", "star_radius_sun", "stellar radius",
+                      *LIMITS["star.radius"]),
+    "star.mass": _f("quantity", "solMass", "star_mass_sun", "stellar mass", *LIMITS["star.mass"]),
     "star.log_gravity": _f("dex", None, "star_logg_cgs", "stellar log g (cgs)", 0.0, 9.0),
     "star.metallicity": _f("dex", None, "star_metallicity_dex", "stellar metallicity [Fe/H]",
                            -5.0, 1.5),
     **{f"star.magnitudes.{b}": _f("mag", None, f"star_mag_{b}", f"{b} magnitude", -2.0, 30.0)
        for b in BANDS},
-    "star.distance": _f("quantity", "pc", "star_distance_pc", "distance", 0.0, low_inc=False),
+    "star.distance": _f("quantity", "pc", "star_distance_pc", "distance", *LIMITS["star.distance"]),
     "star.right_ascension": _f("quantity", "deg", "star_ra_deg", "right ascension", 0.0, 360.0,
                                high_inc=False),
     "star.declination": _f("quantity", "deg", "star_dec_deg", "declination", -90.0, 90.0),
@@ -216,6 +218,7 @@ STATUS_CODES = {
     "missing_star_radius": "no stellar radius",
     "missing_star_mass": "no stellar mass and no log g",
     "missing_orbit": "no period and no semi-major axis",
+    "missing_magnitude": "no stellar magnitude in any band (V, J, H, Ks)",
     "bad_value": "a value that is not a number or is outside its allowed range",
     "missing_mass": "no mass, and the radius is beyond the mass-radius relation",
     "inside_star": "orbit inside the star",
@@ -272,15 +275,9 @@ def load_mapping(mapping=None):
                            for k, c in DEFAULT_COLUMNS.items()},
                 "start_from_default": False, "source": "default layout", "default": True}
     if isinstance(mapping, (str, Path)):
+        from .io.tomlfile import read_toml
         path = Path(mapping)
-        try:
-            doc = tomllib.loads(path.read_text())
-        except FileNotFoundError:
-            raise InputError("mapping", str(path), "an existing mapping TOML file") from None
-        except IsADirectoryError:
-            raise InputError("mapping", str(path), "a file, not a folder") from None
-        except tomllib.TOMLDecodeError as exc:
-            raise InputError("mapping", str(path), "a valid TOML file", detail=str(exc)) from None
+        doc = read_toml(path, "mapping", "an existing mapping TOML file")
         source = str(path)
     elif isinstance(mapping, dict):
         doc, source = mapping, "mapping"
@@ -485,16 +482,17 @@ def _read_table(path, format):
         fmt = _FORMAT_NAMES.get(str(format).lower())
         if fmt is None:
             raise InputError("format", format, "csv, ecsv or votable")
+    from .io.tomlfile import check_input_path
+    check_input_path(path, "CATALOGUE", "a catalogue file")
     if not path.is_file():
         raise InputError("CATALOGUE", str(path), "an existing file")
     try:
-        if fmt == "votable":
-            from astropy.io.votable.exceptions import VOWarning
-            with warnings.catch_warnings():
-                # Non-standard unit strings etc. are reported by us per column instead.
-                warnings.simplefilter("ignore", VOWarning)
-                return Table.read(str(path), format="votable")
-        return Table.read(str(path), format=fmt)
+        from astropy.utils.exceptions import AstropyWarning
+        with warnings.catch_warnings():
+            # Non-standard unit strings, numbers that overflow a float (read as
+            # inf) etc. are reported by the screening, per row and column, instead.
+            warnings.simplefilter("ignore", AstropyWarning)
+            return Table.read(str(path), format=fmt)
     except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
         raise InputError("CATALOGUE", str(path), f"a readable {fmt} table",
                          detail=f"{type(exc).__name__}: {exc}") from None
@@ -853,6 +851,11 @@ class Catalogue:
 
     def __repr__(self):
         return f"<Catalogue {self.source}: {len(self)} rows, {self.good_index.size} usable>"
+
+    @property
+    def names(self):
+        """Planet name of every input row, from the mapped name column (numpy array of str)."""
+        return np.asarray(self.values["planet_name"]).astype(str)
 
     @property
     def status(self):

@@ -36,8 +36,49 @@ COMMANDS = {
 }
 
 
+class _UsageError(Exception):
+    """An argparse usage error, turned into one ``error:`` line."""
+
+
+class _Parser(argparse.ArgumentParser):
+    """ArgumentParser whose usage errors are one line: option, value, what is allowed."""
+
+    def error(self, message):
+        raise _UsageError(_usage_line(message, self))
+
+
+_TYPE_WORDS = {"float": "a number", "int": "a whole number"}
+
+
+def _usage_line(message, parser):
+    """``--opt: got 'x'; allowed: ...`` from an argparse message (one line)."""
+    import re
+    m = re.match(r"argument (\S+?)(?:/\S+)?: invalid (\w+) value: (.*)$", message)
+    if m:
+        opt, kind, got = m.groups()
+        allowed = _TYPE_WORDS.get(kind, kind)
+        if opt == "--sigma":
+            allowed += " > 0"
+        return f"{opt}: got {got}; allowed: {allowed}"
+    m = re.match(r"argument (\S+?)(?:/\S+)?: invalid choice: (\S+) \(choose from (.*)\)$", message)
+    if m:
+        opt, got, choices = m.groups()
+        return f"{opt}: got {got}; allowed: one of {choices}"
+    m = re.match(r"argument (\S+?)(?:/\S+)?: expected (.*)$", message)
+    if m:
+        return f"{m.group(1)}: got no value; allowed: {m.group(2)}"
+    m = re.match(r"the following arguments are required: (.*)$", message)
+    if m:
+        return f"{m.group(1)}: got nothing; allowed: a value (required; see {parser.prog} --help)"
+    m = re.match(r"unrecognized arguments: (.*)$", message)
+    if m:
+        return (f"{m.group(1)}: got an unknown option; allowed: the options listed by "
+                f"{parser.prog} --help")
+    return " ".join(message.split())
+
+
 def _build_parser(selected=None):
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="snrkit",
         description=("Planning estimates for transmission spectroscopy: feature "
                      "depths, photon noise, transits needed, ranking and calendars."),
@@ -89,22 +130,80 @@ def main(argv=None):
     parser = _build_parser(selected if selected is not None else "")
     try:
         args = parser.parse_args(argv)
-    except SystemExit as exc:  # argparse: --help/--version exit 0, usage errors 2
+    except SystemExit as exc:  # argparse: --help/--version exit 0
         return int(exc.code or 0)
+    except _UsageError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
     if getattr(args, "_run", None) is None:
         parser.print_help()
         return 2
     from .errors import SnrkitError, InputError, SnrkitWarning
-    with warnings.catch_warnings():
+    import numpy as np
+    with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise():
         # snrkit's own warnings are messages for the user: always print them
-        # on stderr, whatever filters the host process has set.
+        # on stderr, whatever filters the host process has set.  Floating-point
+        # events and library warnings are not messages for the user: every
+        # output is checked where it is made (NaN and inf become null or a
+        # status), so they are silenced here rather than printed.
+        warnings.simplefilter("ignore")
         warnings.simplefilter("always", SnrkitWarning)
         warnings.showwarning = _show_warning
-        return _run_guarded(args, SnrkitError, InputError)
+        try:
+            return _run_guarded(args, SnrkitError, InputError)
+        except KeyboardInterrupt:
+            # Ctrl-C: temporary files are already removed (atomic_path); stop quietly
+            return 130
+        except _Terminated as exc:
+            return 128 + exc.signum
+
+
+class _Terminated(BaseException):
+    """Raised by the SIGTERM handler so that ``finally`` blocks remove temporary files."""
+
+    def __init__(self, signum):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _signals_raise():
+    """Context manager: SIGTERM (and SIGHUP) raise :class:`_Terminated` while it is active."""
+    import contextlib
+    import signal
+    import threading
+
+    @contextlib.contextmanager
+    def ctx():
+        if threading.current_thread() is not threading.main_thread():
+            yield
+            return
+
+        def handler(signum, frame):
+            raise _Terminated(signum)
+        names = [n for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
+        old = {n: signal.signal(getattr(signal, n), handler) for n in names}
+        try:
+            yield
+        finally:
+            for n, h in old.items():
+                signal.signal(getattr(signal, n), h)
+    return ctx()
+
+
+def _check_outputs(args):
+    """Every output file option (``--out``, ``--plot``) checked before any computation."""
+    from .commands._common import check_writable
+    for opt in ("out", "plot"):
+        if opt == "out" and args.command == "demo":
+            continue                                   # demo --out names a folder
+        value = getattr(args, opt, None)
+        if isinstance(value, str) and value:
+            check_writable(value, f"--{opt}")
 
 
 def _run_guarded(args, SnrkitError, InputError):
     try:
+        _check_outputs(args)
         return int(args._run(args) or 0)
     except BrokenPipeError:
         # the reader went away (e.g. `snrkit ... | head`): stop quietly
@@ -115,8 +214,13 @@ def _run_guarded(args, SnrkitError, InputError):
         print("error: " + " ".join(str(exc).split()), file=sys.stderr)
         return 2
     except (SnrkitError, OSError) as exc:
-        if isinstance(exc, (FileNotFoundError, IsADirectoryError, PermissionError)):
-            print(f"error: {exc}", file=sys.stderr)
+        import errno
+        user_errors = (errno.ENOENT, errno.EISDIR, errno.EACCES, errno.EPERM, errno.ENAMETOOLONG,
+                       errno.EROFS, errno.ENOSPC, errno.ENOTDIR, errno.EEXIST)
+        if isinstance(exc, OSError) and exc.errno in user_errors:
+            name = exc.filename if exc.filename is not None else "file"
+            print("error: " + " ".join(f"{name}: got {exc.strerror or exc}; allowed: a path "
+                                       "that can be used".split())[:400], file=sys.stderr)
             return 2
         if args.debug:
             raise

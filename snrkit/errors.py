@@ -14,6 +14,8 @@ __all__ = [
     "SnrkitWarning",
     "GrazingTransitWarning",
     "EstimatedValueWarning",
+    "ExtremeValueWarning",
+    "MESSAGE_PART_MAX",
 ]
 
 
@@ -42,10 +44,26 @@ class InputError(SnrkitError, ValueError):
         self.value = value
         self.allowed = allowed
         self.detail = detail
-        msg = f"{field}: got {value!r}; allowed: {allowed}"
+        msg = f"{field}: got {_short(value)}; allowed: {_short(allowed, quote=False)}"
         if detail:
-            msg += f" ({detail})"
-        super().__init__(msg)
+            msg += f" ({_short(detail, quote=False)})"
+        super().__init__(" ".join(msg.split()))
+
+
+#: Longest text of a value, allowed range or detail in a message (a longer one
+#: is cut, so that an array or a nested list never floods the terminal).
+MESSAGE_PART_MAX = 200
+
+
+def _short(value, quote=True):
+    """``repr`` (or ``str``) of ``value``, cut to :data:`MESSAGE_PART_MAX` characters."""
+    try:
+        text = repr(value) if quote else str(value)
+    except (RecursionError, ValueError):  # a pathologically nested value
+        text = f"<{type(value).__name__}>"
+    if len(text) > MESSAGE_PART_MAX:
+        text = text[:MESSAGE_PART_MAX - 5] + " ...)"
+    return text
 
 
 class UnitMismatchError(InputError):
@@ -70,3 +88,7 @@ class GrazingTransitWarning(SnrkitWarning):
 
 class EstimatedValueWarning(SnrkitWarning):
     """A missing input was estimated from a published relation."""
+
+
+class ExtremeValueWarning(SnrkitWarning):
+    """A valid but extreme input makes an answer questionable (the answer is given)."""

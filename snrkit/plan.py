@@ -55,6 +55,9 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
     years = float(years)
     if not 0 < years <= 30:
         raise InputError("years", years, "a calendar length in (0, 30] years")
+    if overhead_hours is None:   # the system file's [planet.observation] overhead, if any
+        from .io.systemfile import common_observation
+        overhead_hours = common_observation(system, "overhead", None)
     res = transits_for_system(system, mode, scenario, test=test, sigma=sigma, n_max=n_max,
                               resolution=resolution, probabilities=(),
                               overhead_hours=overhead_hours)

@@ -158,13 +158,12 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     out["mass_estimated"] = np.zeros(n_rows, dtype=bool)
     status = np.array([str(s) for s in catalogue.status], dtype=object)
     reason = np.array([str(r) for r in catalogue.reason], dtype=object)
-    names = np.array([str(x) for x in catalogue.table[_name_column(catalogue)]], dtype=object)
+    names = np.array([str(x) for x in catalogue.names], dtype=object)
 
     import warnings
     from .errors import SnrkitWarning
     notes = {}
-    system = catalogue.system
-    good = catalogue.good_index
+    system, good = _with_magnitudes(catalogue, status, reason)
     if system is not None and len(good):
         d = system.derived_arrays()
         out["radius_earth"][good] = d["radius_m"] / R_EARTH
@@ -189,10 +188,10 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                     sub = system.take(idx)
                     with warnings.catch_warnings(record=True) as caught:
                         warnings.simplefilter("always", SnrkitWarning)
-                        res = transits_for_system(sub, mode, sc, test=test, sigma=sigma,
-                                                  n_max=n_max, resolution=resolution,
-                                                  probabilities=(), overhead_hours=overhead_hours,
-                                                  curves=False, readout=readout)
+                        res = _run_chunk(transits_for_system, sub, dict(
+                            mode=mode, scenario=sc, test=test, sigma=sigma, n_max=n_max,
+                            resolution=resolution, probabilities=(),
+                            overhead_hours=overhead_hours, curves=False, readout=readout))
                     for w in caught:
                         notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
                     notes.update({n[:300]: None for n in res["notes"][:3]})
@@ -276,7 +275,7 @@ _UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_te
 
 
 _STATUS_CLASS = {"ok": 0, "not_reachable": 1, "stellar_contamination": 1, "no_signal": 2,
-                 "unbound_atmosphere": 2, "saturated": 3}
+                 "unbound_atmosphere": 2, "saturated": 3, "bad_value": 4}
 _NUMERIC_SORT = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
                  "quick_feature_ppm", "significance_per_transit", "transits_needed",
                  "hours_per_transit", "hours_total")
@@ -313,11 +312,41 @@ def _statistic(kind):
     return TEST_STATISTICS.get(kind, TEST_STATISTICS["nested"])
 
 
-def _name_column(catalogue):
-    for c in ("planet_name", "name"):
-        if c in catalogue.table.colnames:
-            return c
-    return catalogue.table.colnames[0]
+
+def _with_magnitudes(catalogue, status, reason):
+    """The usable rows that have a stellar magnitude; the others get ``missing_magnitude``."""
+    system, good = catalogue.system, catalogue.good_index
+    if system is None or not len(good):
+        return system, good
+    cols = [f"star_mag_{b}" for b in ("V", "J", "H", "Ks") if f"star_mag_{b}" in catalogue.values.colnames]
+    have = np.zeros(len(good), dtype=bool)
+    for c in cols:
+        have |= np.isfinite(np.asarray(catalogue.values[c], dtype=np.float64)[good])
+    if have.all():
+        return system, good
+    status[good[~have]] = "missing_magnitude"
+    reason[good[~have]] = "no stellar magnitude in V, J, H or Ks; one is needed for the photon counts"
+    return (system.take(np.flatnonzero(have)) if have.any() else None), good[have]
+
+
+def _run_chunk(run, sub, kw):
+    """``run(sub, **kw)``; if the chunk is refused, each planet alone.
+
+    A row that the chain refuses gets status ``bad_value`` with the message as
+    its reason, and never fails its neighbours.
+    """
+    try:
+        return run(sub, **kw)
+    except InputError as exc:
+        if len(sub.names) == 1:
+            return {"notes": [], "planets": [{
+                "status": "bad_value", "reason": str(exc), "hours_total": None, "mode": "",
+                "scenario": "", "limiting_term": "", "transits_needed": None,
+                "hours_per_transit": np.nan, "significance_per_transit_sigma": np.nan,
+                "groups_per_integration": 0, "duty_cycle": np.nan, "bins_saturated": 0}]}
+    parts = [_run_chunk(run, sub.take([i]), kw) for i in range(len(sub.names))]
+    return {"planets": [r for p in parts for r in p["planets"]],
+            "notes": [x for p in parts for x in p["notes"]]}
 
 
 def _quick_feature_ppm(sc, d):

@@ -21,7 +21,7 @@ from .errors import InputError, NoTransitError, GrazingTransitWarning, SnrkitWar
 from .units import to_si, as_float_array, check_range
 
 __all__ = ["Star", "Planet", "System", "TEFF_RANGE_K", "BANDS",
-           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "KEPLER_TOLERANCE",
+           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "LIMITS", "KEPLER_TOLERANCE",
            "derive"]
 
 #: Supported stellar effective temperatures [K] (the Planck/photometry layer
@@ -39,6 +39,26 @@ KEPLER_TOLERANCE = 0.10
 #: Largest accepted planet radius [R_earth] (about 5.4 R_jup; larger values
 #: are almost always a unit mistake).
 PLANET_RADIUS_MAX_EARTH = 60.0
+#: Accepted ranges of the sizes, masses and times of a system, in the default
+#: unit of each field (closed intervals).  They lie far outside every known
+#: transiting system, and they keep every derived quantity finite in float64
+#: (a period of 1e300 d or a radius of 1e-300 R_earth is refused instead of
+#: giving NaN or infinite outputs); common practice, no source.
+LIMITS = {
+    "planet.radius": (0.1, PLANET_RADIUS_MAX_EARTH),           # R_earth
+    "planet.mass": (1e-4, 1e5),                                 # M_earth
+    "planet.period": (0.01, 1e5),                               # d
+    "planet.semi_major_axis": (1e-4, 1e4),                      # au
+    "planet.radius_uncertainty": (0.0, PLANET_RADIUS_MAX_EARTH),  # R_earth
+    "planet.mass_uncertainty": (0.0, 1e5),                      # M_earth
+    "planet.period_uncertainty": (0.0, 1e5),                    # d
+    "planet.transit_midtime_uncertainty": (0.0, 1e5),           # d
+    "planet.impact_parameter": (0.0, 1e4),                      # stellar radii
+    "planet.equilibrium_temperature": (1.0, 1e5),               # K
+    "star.radius": (0.005, 100.0),                              # R_sun
+    "star.mass": (0.005, 300.0),                                # M_sun
+    "star.distance": (1e-3, 1e6),                               # pc
+}
 
 
 def _readonly(a):
@@ -115,13 +135,13 @@ class Star(_Frozen):
     def __init__(self, teff, radius, mass=None, logg=None, metallicity=0.0,
                  magnitudes=None, distance=None, ra=None, dec=None, name=None):
         teff_a = to_si(teff, "star.effective_temperature", u.K, *TEFF_RANGE_K)
-        rad = to_si(radius, "star.radius", u.R_sun, 0.0, 100.0, low_inclusive=False)
+        rad = to_si(radius, "star.radius", u.R_sun, *LIMITS["star.radius"])
         if mass is None and logg is None:
             raise InputError("star.mass", None, "a mass (solar masses) or a log_gravity (cgs dex)")
         if mass is not None and logg is not None:
             raise InputError("star.log_gravity", logg, "only one of mass and log_gravity")
         if mass is not None:
-            m = to_si(mass, "star.mass", u.M_sun, 0.0, None, low_inclusive=False)
+            m = to_si(mass, "star.mass", u.M_sun, *LIMITS["star.mass"])
             from_logg = False
             # the same log g range as a given log_gravity (catches unit slips)
             _size(rad, m)  # a clear error for arrays of different lengths
@@ -151,7 +171,7 @@ class Star(_Frozen):
             arr = as_float_array(val, f"star.magnitudes.{band}")
             check_range(arr, f"star.magnitudes.{band}", -2.0, 30.0, unit_label="mag", allow_nan=True)
             mags[band] = arr
-        dist = _opt(distance, "star.distance", u.pc, 0.0, None, low_inclusive=False)
+        dist = _opt(distance, "star.distance", u.pc, *LIMITS["star.distance"])
         ra_a = _opt(ra, "star.right_ascension", u.deg, 0.0, 360.0, high_inclusive=False)
         dec_a = _opt(dec, "star.declination", u.deg, -90.0, 90.0)
         names = None if name is None else np.asarray(name, dtype=str)
@@ -262,17 +282,21 @@ class Planet(_Frozen):
                  periastron_argument=90.0, transit_midtime=None,
                  transit_midtime_uncertainty=None, period_uncertainty=None,
                  albedo=0.0, redistribution=0.25, name=None):
-        rad = to_si(radius, "planet.radius", u.R_earth, 0.0, PLANET_RADIUS_MAX_EARTH, low_inclusive=False)
-        per = to_si(period, "planet.period", u.day, 0.0, None, low_inclusive=False)
-        rsig = _opt(radius_uncertainty, "planet.radius_uncertainty", u.R_earth, 0.0)
-        mass_a = _opt(mass, "planet.mass", u.M_earth, 0.0, None, low_inclusive=False)
-        msig = _opt(mass_uncertainty, "planet.mass_uncertainty", u.M_earth, 0.0, None)
-        a_a = _opt(semi_major_axis, "planet.semi_major_axis", u.au, 0.0, None, low_inclusive=False)
+        rad = to_si(radius, "planet.radius", u.R_earth, *LIMITS["planet.radius"])
+        per = to_si(period, "planet.period", u.day, *LIMITS["planet.period"])
+        rsig = _opt(radius_uncertainty, "planet.radius_uncertainty", u.R_earth,
+                    *LIMITS["planet.radius_uncertainty"])
+        mass_a = _opt(mass, "planet.mass", u.M_earth, *LIMITS["planet.mass"])
+        msig = _opt(mass_uncertainty, "planet.mass_uncertainty", u.M_earth,
+                    *LIMITS["planet.mass_uncertainty"])
+        a_a = _opt(semi_major_axis, "planet.semi_major_axis", u.au,
+                   *LIMITS["planet.semi_major_axis"])
         b_a = np.asarray(np.nan)
         inc_a = np.asarray(np.nan)
         if impact_parameter is not None:
             b_a = as_float_array(impact_parameter, "planet.impact_parameter")
-            check_range(b_a, "planet.impact_parameter", 0.0, None, allow_nan=True)
+            check_range(b_a, "planet.impact_parameter", *LIMITS["planet.impact_parameter"],
+                        allow_nan=True)
         if inclination is not None:
             inc_a = to_si(inclination, "planet.inclination", u.deg, 0.0, 180.0, allow_nan=True)
         both = ~np.isnan(b_a) & ~np.isnan(inc_a)
@@ -287,8 +311,10 @@ class Planet(_Frozen):
         if transit_midtime is not None:
             check_range(t0, "planet.transit_midtime", 2.0e6, 3.0e6, unit_label="BJD_TDB",
                         allow_nan=True)
-        t0s = _opt(transit_midtime_uncertainty, "planet.transit_midtime_uncertainty", u.day, 0.0)
-        ps = _opt(period_uncertainty, "planet.period_uncertainty", u.day, 0.0)
+        t0s = _opt(transit_midtime_uncertainty, "planet.transit_midtime_uncertainty", u.day,
+                   *LIMITS["planet.transit_midtime_uncertainty"])
+        ps = _opt(period_uncertainty, "planet.period_uncertainty", u.day,
+                  *LIMITS["planet.period_uncertainty"])
         alb = as_float_array(albedo, "planet.albedo")
         check_range(alb, "planet.albedo", 0.0, 1.0, high_inclusive=False)
         red = as_float_array(redistribution, "planet.redistribution")

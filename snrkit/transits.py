@@ -65,6 +65,9 @@ STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere
             "stellar_contamination")
 #: Largest number of transits considered by default.
 DEFAULT_MAX_TRANSITS = 500
+#: Largest accepted transit limit (far beyond any programme; keeps the
+#: stacker's search bounded; common practice, no source).
+MAX_TRANSITS_LIMIT = 100000
 
 
 def parse_test(test=None, species=None, against=None):
@@ -305,17 +308,22 @@ def transits_for_system(system, mode, scenario=None, **options):
     return {"planets": planets, "dataset": ds, "test": parts[0][1]["test"], "notes": notes}
 
 
-def _check_options(sigma, probabilities, n_max, uncertainty_draws, overhead_hours):
+def _check_options(system, sigma, probabilities, n_max, uncertainty_draws, overhead_hours, seed):
+    """Validated (sigma, probabilities, n_max, overhead_hours, seed)."""
     sigma = dt.check_sigma(sigma)
     probabilities = tuple(dt.check_probability(p) for p in probabilities)
-    if int(n_max) < 1:
-        raise InputError("max_transits", n_max, "an integer >= 1")
+    from .units import parse_number
+    n_max = parse_number(n_max, "max_transits", 1, MAX_TRANSITS_LIMIT, integer=True)
+    seed = parse_number(seed, "seed", 0, 2**63 - 1, integer=True)
     if not 0 <= int(uncertainty_draws) <= MAX_UNCERTAINTY_DRAWS:
         raise InputError("uncertainty_draws", uncertainty_draws,
                          f"an integer in [0, {MAX_UNCERTAINTY_DRAWS}]")
+    if overhead_hours is None:   # the system file's [planet.observation] overhead, if any
+        from .io.systemfile import common_observation
+        overhead_hours = common_observation(system, "overhead", None)
     if overhead_hours is not None and not (np.isfinite(overhead_hours) and 0 <= overhead_hours <= 100):
         raise InputError("overhead", overhead_hours, "hours in [0, 100]")
-    return sigma, probabilities
+    return sigma, probabilities, n_max, overhead_hours, seed
 
 
 def _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
@@ -384,8 +392,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     from .transit_records import planet_records, result_dataset
 
     kind, arg = parse_test(test, species, against)
-    sigma, probabilities = _check_options(sigma, probabilities, n_max, uncertainty_draws,
-                                          overhead_hours)
+    sigma, probabilities, n_max, overhead_hours, seed = _check_options(
+        system, sigma, probabilities, n_max, uncertainty_draws, overhead_hours, seed)
     sc = load_scenario(scenario)
     refit = check_refit(refit, kind, arg, sc)
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
@@ -512,13 +520,16 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
     from .atmosphere.spectrum import transmission_spectrum
     from .atmosphere.scenarios import load_scenario
     sigma = dt.check_sigma(sigma)
+    from .units import parse_number
+    n_max = parse_number(n_max, "max_transits", 1, MAX_TRANSITS_LIMIT, integer=True)
     if isinstance(scenarios, str):
         scenarios = [s for s in scenarios.split(",") if s]
     scs = [load_scenario(s) for s in scenarios]
     if len(scs) < 2:
         raise InputError("scenarios", scenarios, "two or more scenarios")
-    if int(n_max) < 1:
-        raise InputError("max_transits", n_max, "an integer >= 1")
+    if overhead_hours is None:   # the system file's [planet.observation] overhead, if any
+        from .io.systemfile import common_observation
+        overhead_hours = common_observation(system, "overhead", None)
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
     ds = transmission_spectrum(scs, obs["rp"], obs["rs"], **obs["spec_kw"])

@@ -5,6 +5,12 @@ plain number (read in the documented default unit of the field), an array
 of either, or a string such as ``"1.2 earthRad"``.  :func:`to_si` converts any
 of these to a float64 numpy array in SI and checks its range, raising
 :class:`~snrkit.errors.InputError` subclasses that name the field.
+
+:func:`parse_number` is the one parser of a single plain number (a value from
+a TOML file or an option): it refuses text, booleans, lists, non-finite
+values and integers too large for a float (``10**400``) with a range error,
+never an ``OverflowError``.  :func:`parse_quantity` and
+:func:`as_float_array` refuse overflowing integers the same way.
 """
 
 import math
@@ -14,7 +20,8 @@ import astropy.units as u
 
 from .errors import InputError, UnitMismatchError
 
-__all__ = ["parse_quantity", "to_si", "check_range", "as_float_array"]
+__all__ = ["parse_quantity", "to_si", "check_range", "as_float_array", "parse_number",
+           "scalar_si"]
 
 
 def parse_quantity(value, field, default_unit):
@@ -72,6 +79,9 @@ def parse_quantity(value, field, default_unit):
         arr = np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError):
         raise InputError(field, value, f"a number in {unit}") from None
+    except OverflowError:
+        raise InputError(field, value, f"a finite number in {unit}",
+                         detail="too large for a 64-bit float") from None
     return arr * unit
 
 
@@ -88,6 +98,76 @@ def as_float_array(value, field):
         return np.asarray(value, dtype=np.float64)
     except (TypeError, ValueError):
         raise InputError(field, value, "a number") from None
+    except OverflowError:
+        raise InputError(field, value, "a finite number",
+                         detail="too large for a 64-bit float") from None
+
+
+def parse_number(value, field, low=None, high=None, *, low_inclusive=True,
+                 high_inclusive=True, integer=False, unit_label=""):
+    """Read one plain number (no unit) and check that it is finite and in range.
+
+    Parameters
+    ----------
+    value : int or float
+        The value as read (TOML, an option, a mapping).  Text, booleans,
+        lists and tables are refused.
+    field : str
+        Name used in the message.
+    low, high : float, optional
+        Allowed range; ``None`` means unbounded.
+    low_inclusive, high_inclusive : bool
+        Whether the bounds themselves are allowed.
+    integer : bool
+        Require a whole number (returned as ``int``).
+    unit_label : str
+        Unit text for the message.
+
+    Returns
+    -------
+    float or int
+
+    Raises
+    ------
+    InputError
+        Not a number, not finite, too large for a float, out of range, or
+        (with ``integer``) not whole.
+
+    Examples
+    --------
+    >>> parse_number(3, "planet.observation.transits", 1, integer=True)
+    3
+    """
+    kind = "a whole number" if integer else "a number"
+    allowed = kind + _range_words(low, high, low_inclusive, high_inclusive, unit_label)
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, float, np.integer,
+                                                                     np.floating)):
+        raise InputError(field, value, allowed)
+    if integer and not isinstance(value, (int, np.integer)):
+        if not (math.isfinite(value) and float(value).is_integer()):
+            raise InputError(field, value, allowed)
+    try:
+        x = float(value)
+    except OverflowError:
+        raise InputError(field, value, allowed, detail="too large for a 64-bit float") from None
+    if not math.isfinite(x):
+        raise InputError(field, value, allowed)
+    too_low = low is not None and (x < low if low_inclusive else x <= low)
+    too_high = high is not None and (x > high if high_inclusive else x >= high)
+    if too_low or too_high:
+        raise InputError(field, value, allowed)
+    return int(value) if integer else x
+
+
+def _range_words(low, high, low_inclusive, high_inclusive, unit_label):
+    if low is None and high is None:
+        return ""
+    lo = "-inf" if low is None else _fmt(low)
+    hi = "inf" if high is None else _fmt(high)
+    lb = "[" if low_inclusive and low is not None else "("
+    hb = "]" if high_inclusive and high is not None else ")"
+    label = f" {unit_label}" if unit_label else ""
+    return f" in {lb}{lo}, {hi}{hb}{label}"
 
 
 def check_range(arr, field, low=None, high=None, *, low_inclusive=True,
@@ -171,3 +251,23 @@ def to_si(value, field, default_unit, low=None, high=None, *,
                 high_inclusive=high_inclusive, unit_label=str(q.unit),
                 allow_nan=allow_nan)
     return np.asarray(q.si.value, dtype=np.float64)
+
+
+def scalar_si(value, field, default_unit, low=None, high=None, *, low_inclusive=True,
+              high_inclusive=True):
+    """:func:`to_si` for a single value: a list or an array is refused.
+
+    Returns
+    -------
+    float
+        The value in SI units.
+    """
+    if isinstance(value, (list, tuple, dict, np.ndarray)) and np.ndim(value) != 0 \
+            or isinstance(value, dict):
+        raise InputError(field, value, f"one number in {u.Unit(default_unit)} "
+                         "or a '<number> <unit>' text")
+    arr = to_si(value, field, default_unit, low, high, low_inclusive=low_inclusive,
+                high_inclusive=high_inclusive)
+    if arr.ndim != 0:
+        raise InputError(field, value, f"one number in {u.Unit(default_unit)}")
+    return float(arr)

@@ -272,8 +272,8 @@ CASES = [
     (dict(star_radius_sun=None), "missing_star_radius", "star_radius_sun"),
     (dict(star_mass_sun=None), "missing_star_mass", "star_logg_cgs"),
     (dict(period_days=None), "missing_orbit", "semi_major_axis_au"),
-    (dict(planet_radius_earth=-2.0), "bad_value", "= -2 earthRad; allowed (0, 60] earthRad"),
-    (dict(period_days=0.0), "bad_value", "'period_days' (orbital period) = 0 d; allowed (0, inf) d"),
+    (dict(planet_radius_earth=-2.0), "bad_value", "= -2 earthRad; allowed [0.1, 60] earthRad"),
+    (dict(period_days=0.0), "bad_value", "'period_days' (orbital period) = 0 d; allowed [0.01, 100000] d"),
     (dict(planet_mass_earth=np.inf), "bad_value", "planet_mass_earth"),
     (dict(star_teff_K=1999.0), "bad_value", "= 1999 K; allowed [2000, 15000] K"),
     (dict(star_teff_K=15001.0), "bad_value", "star_teff_K"),
@@ -282,6 +282,11 @@ CASES = [
     (dict(star_mag_J=45.0), "bad_value", "star_mag_J"),
     (dict(planet_radius_earth=15.0, planet_mass_earth=None), "missing_mass", "14.26"),
     (dict(semi_major_axis_au=0.001, period_days=None), "inside_star", "inside the star"),
+    # extremes that used to overflow in SI and fail the whole catalogue
+    (dict(star_distance_pc=1e300), "bad_value", "star_distance_pc"),
+    (dict(period_days=1e300), "bad_value", "period_days"),
+    (dict(planet_radius_earth=1e-300), "bad_value", "planet_radius_earth"),
+    (dict(planet_mass_earth=1e-300), "bad_value", "planet_mass_earth"),
     # Rp/Rs = 2 x 6378.1 km / (0.5 x 695700 km) = 0.0366716 (IAU 2015 nominal radii)
     (dict(impact_parameter=1.05), "no_transit", "1 + Rp/Rs = 1.03667"),
     (dict(impact_parameter=None, inclination_deg=80.0), "no_transit", "does not transit"),
@@ -310,7 +315,7 @@ def test_each_bad_row_class_gets_its_status(screened):
     np.testing.assert_array_equal(screened.good_index, good)
     assert len(screened.system) == len(good)
     s = screened.summary()
-    assert s["by_status"]["bad_value"] == 8
+    assert s["by_status"]["bad_value"] == 12
     assert s["by_status"]["no_transit"] == 2
     assert s["ok"] == 6 and s["rows"] == len(CASES)
 
@@ -372,7 +377,7 @@ def test_reason_quotes_the_users_column_and_unit():
     cat = catalogue_from_table(t, {"start_from_default": True,
                                    "planet": {"period": {"column": "P_hr", "unit": "h"}}})
     assert cat.status[1] == "bad_value"
-    assert "column 'P_hr' (orbital period) = -5 h (= -0.208333 d); allowed (0, inf) d" in cat.reason[1]
+    assert "column 'P_hr' (orbital period) = -5 h (= -0.208333 d); allowed [0.01, 100000] d" in cat.reason[1]
 
 
 def test_no_usable_rows_gives_no_system():

@@ -36,13 +36,14 @@ def test_planet_nonpositive_values(field, kw):
 
 
 @pytest.mark.parametrize("kw,field,allowed", [
-    ({"radius": 0.0}, "star.radius", "(0, 100]"),
-    ({"mass": -1.0}, "star.mass", "(0, inf)"),
+    ({"radius": 0.0}, "star.radius", "[0.005, 100]"),
+    ({"mass": -1.0}, "star.mass", "[0.005, 300]"),
+    ({"mass": 1e6}, "star.mass", "[0.005, 300]"),
     ({"teff": 0.0}, "star.effective_temperature", "[2000, 15000]"),
     ({"teff": -100.0}, "star.effective_temperature", "[2000, 15000]"),
     ({"teff": 1500.0}, "star.effective_temperature", "[2000, 15000]"),
     ({"teff": 50000.0}, "star.effective_temperature", "[2000, 15000]"),
-    ({"mass": 1e6}, "star.mass", "log g in [0, 9]"),      # a unit slip, not a star
+    ({"radius": 100.0, "mass": 0.01}, "star.mass", "log g in [0, 9]"),  # a unit slip, not a star
 ])
 def test_star_bad_values(kw, field, allowed):
     with pytest.raises(InputError) as err:

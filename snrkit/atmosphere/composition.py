@@ -12,6 +12,7 @@ import math
 import numpy as np
 
 from ..errors import InputError
+from ..units import as_float_array
 from ..tables import read_table
 
 __all__ = ["species_molar_masses", "SPECIES", "normalise_mixing_ratios",
@@ -74,10 +75,9 @@ def normalise_mixing_ratios(mixing_ratios, fill_gas=None, field="mixing_ratios")
     out = {}
     for name, value in mixing_ratios.items():
         _check_species(str(name), f"{field}.{name}")
-        try:
-            arr = np.asarray(value, dtype=np.float64)
-        except (TypeError, ValueError):
-            raise InputError(f"{field}.{name}", value, "a number in [0, 1]") from None
+        if isinstance(value, (bool, np.bool_)):
+            raise InputError(f"{field}.{name}", value, "a number in [0, 1]")
+        arr = as_float_array(value, f"{field}.{name}")
         if not np.all(np.isfinite(arr)) or np.any(arr < 0) or np.any(arr > 1):
             raise InputError(f"{field}.{name}", value, "a number in [0, 1]")
         out[str(name)] = arr

@@ -35,8 +35,6 @@ astropy unit, e.g. ``"100 Pa"``)::
 
 import dataclasses
 import difflib
-import math
-import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -44,11 +42,11 @@ import astropy.units as u
 
 from ..errors import InputError, UnknownKeyError
 from ..tables import data_path
-from ..units import to_si
+from ..units import to_si, parse_number, scalar_si
 from .composition import normalise_mixing_ratios, species_molar_masses
 
 __all__ = ["Scenario", "SCENARIO_KEYS", "TEMPERATURE_PROFILES", "load_scenario",
-           "list_scenarios", "preset_names"]
+           "list_scenarios", "preset_names", "TEMPERATURE_RANGE_K"]
 
 #: key -> what it holds (also the list shown in unknown-key errors)
 SCENARIO_KEYS = {
@@ -177,17 +175,9 @@ def list_scenarios():
 
 
 def _read_toml(path, field):
-    try:
-        text = Path(path).read_text()
-    except FileNotFoundError:
-        raise InputError(field, str(path), "an existing scenario file or a preset name "
-                         f"({', '.join(preset_names())})") from None
-    except IsADirectoryError:
-        raise InputError(field, str(path), "a file, not a folder") from None
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(field, str(path), "a valid TOML file", detail=str(exc)) from None
+    from ..io.tomlfile import read_toml
+    return read_toml(path, field, "an existing scenario file or a preset name "
+                     f"({', '.join(preset_names())})")
 
 
 def _resolve(spec, field, base_dir=None):
@@ -195,7 +185,8 @@ def _resolve(spec, field, base_dir=None):
     text = str(spec)
     if text in preset_names():
         return _read_toml(data_path("scenarios", f"{text}.toml"), field), f"preset {text}", None
-    path = Path(text).expanduser()
+    from ..io.tomlfile import check_input_path
+    path = check_input_path(text, field, "a preset name or a scenario file").expanduser()
     if not path.is_absolute() and base_dir is not None:
         path = Path(base_dir) / path
     if path.suffix.lower() == ".toml" or path.exists():
@@ -204,6 +195,11 @@ def _resolve(spec, field, base_dir=None):
     raise InputError(field, text, "a preset name (" + ", ".join(preset_names())
                      + ") or the path of a scenario TOML file",
                      detail=f"did you mean {close[0]!r}?" if close else "")
+
+
+#: Accepted atmosphere temperatures [K] (a 5e-324 K atmosphere would have a zero
+#: scale height; common practice, no source).
+TEMPERATURE_RANGE_K = (1.0, 1e5)
 
 
 def _check_keys(table, where):
@@ -215,17 +211,7 @@ def _check_keys(table, where):
 
 
 def _number(table, key, where, low=None, high=None, low_inclusive=True):
-    v = table[key]
-    if isinstance(v, bool) or not isinstance(v, (int, float)):
-        raise InputError(f"{where}.{key}", v, f"a number ({SCENARIO_KEYS[key]})")
-    v = float(v)
-    bad = (not math.isfinite(v) or (low is not None and (v < low if low_inclusive else v <= low))
-           or (high is not None and v > high))
-    if bad:
-        lb = "[" if low_inclusive else "("
-        raise InputError(f"{where}.{key}", v, f"a number in {lb}{low if low is not None else '-inf'}, "
-                         f"{high if high is not None else 'inf'}]")
-    return v
+    return parse_number(table[key], f"{where}.{key}", low, high, low_inclusive=low_inclusive)
 
 
 def _pressure(table, key, where):
@@ -303,9 +289,7 @@ def _validate(t, where, source):
         mr = t["mixing_ratios"]
         if not isinstance(mr, dict):
             raise InputError(f"{where}.mixing_ratios", mr, "a table such as { N2 = 0.78, O2 = 0.21 }")
-        for k, v in mr.items():
-            if isinstance(v, bool) or not isinstance(v, (int, float)):
-                raise InputError(f"{where}.mixing_ratios.{k}", v, "a number in [0, 1]")
+        mr = {k: parse_number(v, f"{where}.mixing_ratios.{k}", 0.0, 1.0) for k, v in mr.items()}
         if fill is not None and not isinstance(fill, str):
             raise InputError(f"{where}.fill_gas", fill, "a species name")
         x = normalise_mixing_ratios(mr, fill_gas=fill, field=f"{where}.mixing_ratios")
@@ -325,8 +309,7 @@ def _validate(t, where, source):
 
     temp = None
     if "temperature" in t:
-        temp = float(to_si(t["temperature"], f"{where}.temperature", u.K, 0.0, None,
-                           low_inclusive=False))
+        temp = scalar_si(t["temperature"], f"{where}.temperature", u.K, *TEMPERATURE_RANGE_K)
         if "temperature_factor" in t:
             raise InputError(f"{where}.temperature_factor", t["temperature_factor"],
                              "either temperature or temperature_factor, not both")
@@ -336,10 +319,11 @@ def _validate(t, where, source):
         close = difflib.get_close_matches(str(prof), TEMPERATURE_PROFILES, n=1, cutoff=0.4)
         raise InputError(f"{where}.temperature_profile", prof, " or ".join(TEMPERATURE_PROFILES),
                          detail=f"did you mean {close[0]!r}?" if close else "")
-    tint = (float(to_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0))
+    tint = (scalar_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0,
+                      TEMPERATURE_RANGE_K[1])
             if "internal_temperature" in t else 0.0)
-    kth = (float(to_si(t["thermal_opacity"], f"{where}.thermal_opacity", u.m**2 / u.kg, 0.0,
-                       low_inclusive=False)) if "thermal_opacity" in t else 1e-3)
+    kth = (scalar_si(t["thermal_opacity"], f"{where}.thermal_opacity", u.m**2 / u.kg, 0.0,
+                       low_inclusive=False) if "thermal_opacity" in t else 1e-3)
     gam = (_number(t, "visible_to_thermal_ratio", where, 0.0, None, False)
            if "visible_to_thermal_ratio" in t else 0.4)
 

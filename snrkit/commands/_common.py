@@ -7,7 +7,7 @@ import sys
 import numpy as np
 
 __all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path",
-           "write_table"]
+           "check_writable", "write_table"]
 
 
 def add_system_args(p):
@@ -64,9 +64,51 @@ def check_output_path(path, suffixes, option):
     p = Path(path)
     if p.suffix.lower() not in suffixes:
         raise InputError(option, str(path), "a file name ending in " + " or ".join(suffixes))
+    return check_writable(p, option)
+
+
+def check_writable(path, option):
+    """Refuse an output path that cannot be written, before any computation.
+
+    Checks the length of the path and of each name in it, that the folder
+    exists and may be written, and that the path is not a folder.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The output file the user named.
+    option : str
+        The option that named it (for the message).
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    InputError
+        One line naming the option, the path and what is allowed.
+    """
+    import os
+    from pathlib import Path
+    from ..errors import InputError
+    from ..io.tomlfile import check_input_path
+    p = check_input_path(path, option, "an output file")
     parent = p.parent if str(p.parent) else Path(".")
     if not parent.is_dir():
         raise InputError(option, str(path), "a file in an existing folder")
+    if p.is_dir():
+        raise InputError(option, str(path), "a file name, not a folder")
+    import tempfile
+    try:                        # the real test: can a file be created there?
+        fd, probe = tempfile.mkstemp(prefix=f".probe.{os.getpid()}.snrkit-partial", dir=str(parent))
+        os.close(fd)
+        os.unlink(probe)
+    except OSError as exc:
+        raise InputError(option, str(path), "a file in a folder you may write to",
+                         detail=exc.strerror or "") from None
+    if p.exists() and not os.access(p, os.W_OK):
+        raise InputError(option, str(path), "a file you may overwrite (it is read-only)")
     return p
 
 

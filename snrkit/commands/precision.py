@@ -157,8 +157,9 @@ def run(args):
     from ..io.systemfile import load_system
     from ..photons.precision import system_precision
     from ..errors import InputError
-    if args.transits is not None and args.transits < 1:
-        raise InputError("--transits", args.transits, "a whole number >= 1")
+    if args.transits is not None:
+        from ..units import parse_number
+        parse_number(args.transits, "--transits", 1, 100000, integer=True)
     if args.plot is not None and not str(args.plot).lower().endswith(".png"):
         raise InputError("--plot", args.plot, "a file name ending in .png")
     system = load_system(args.system, planet=args.planet)

@@ -35,17 +35,19 @@ closest valid key.
 """
 
 import difflib
-import tomllib
+import os
 import warnings
 from pathlib import Path
 
 import numpy as np
 
 from ..errors import InputError, UnknownKeyError
+from ..units import parse_number, scalar_si
+from .tomlfile import read_toml, loads_toml
 from ..system import Star, Planet, System, BANDS
 
-__all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS",
-           "OBSERVATION_KEYS", "TOP_KEYS"]
+__all__ = ["load_system", "read_system_text", "common_observation", "STAR_KEYS", "PLANET_KEYS",
+           "OBSERVATION_KEYS", "TOP_KEYS", "OVERHEAD_MAX_HOURS"]
 
 TOP_KEYS = {"star": "table", "planet": "array of tables", "title": "text", "notes": "text"}
 
@@ -104,9 +106,81 @@ OBSERVATION_KEYS = {
     "baseline": "out-of-transit time: multiple of T14, or a duration in h",
     "readout_groups": "groups per integration, or 'auto'",
     "noise_floor": "ppm",
-    "floor_averages_down": "true/false",
-    "overhead": "h per transit",
+    "floor_averages_down": "true/false (a TOML boolean)",
+    "overhead": "h per visit, in [0, 100]",
 }
+
+
+#: Largest overhead per visit [h] (the limit the transit commands apply).
+OVERHEAD_MAX_HOURS = 100.0
+
+
+def _observation_table(ob, name):
+    """Each [planet.observation] key read with its own type and range.
+
+    Numbers and durations are returned as floats (hours for durations given
+    as text with a unit, or bare numbers for ``in_transit``); text choices in
+    lower case.  ``floor_averages_down`` must be a TOML boolean: the text
+    "no" is refused rather than read as true.
+    """
+    import astropy.units as u
+    out = {}
+    for key, v in ob.items():
+        field = f"planet.observation.{key} ({name})"
+        if key == "mode":
+            if not isinstance(v, str) or not v.strip():
+                raise InputError(field, v, "an instrument mode preset name or mode file")
+            out[key] = v.strip()
+        elif key == "transits":
+            out[key] = parse_number(v, field, 1, 100000, integer=True)
+        elif key == "in_transit":
+            if isinstance(v, str) and v.strip().lower() in ("t14", "t23"):
+                out[key] = v.strip().lower()
+            else:
+                out[key] = scalar_si(v, field, u.h, 0.0, 1000.0, low_inclusive=False) / 3600.0
+        elif key == "baseline":
+            if isinstance(v, str):
+                out[key] = f"{scalar_si(v, field, u.h, 0.0, 1000.0, low_inclusive=False) / 3600.0!r} h"
+            else:
+                out[key] = parse_number(v, field, 0.0, 1000.0, low_inclusive=False,
+                                        unit_label="x T14")
+        elif key == "readout_groups":
+            out[key] = "auto" if v == "auto" else parse_number(v, field, 1, 100000, integer=True)
+        elif key == "noise_floor":
+            out[key] = parse_number(v, field, 0.0, 1e6, unit_label="ppm")
+        elif key == "floor_averages_down":
+            if not isinstance(v, bool):
+                raise InputError(field, v, "true or false (a TOML boolean, not text)")
+            out[key] = v
+        elif key == "overhead":
+            out[key] = scalar_si(v, field, u.h, 0.0, OVERHEAD_MAX_HOURS) / 3600.0
+    return out
+
+
+def common_observation(system, key, default):
+    """The value of a [planet.observation] key shared by every planet of ``system``.
+
+    Parameters
+    ----------
+    system : snrkit.System
+    key : str
+        A key of :data:`OBSERVATION_KEYS`.
+    default : object
+        Value for planets that do not give the key.
+
+    Raises
+    ------
+    InputError
+        The planets give different values (run them separately).
+    """
+    names = [str(x) for x in system.names]
+    values = [default if not ob or key not in ob else ob[key] for ob in system.observations]
+    for v, name in zip(values[1:], names[1:]):
+        if v != values[0]:
+            raise InputError(f"planet.observation.{key} ({name})", v,
+                             f"the same value as for {names[0]} ({values[0]!r}) in one run; "
+                             "run the planets separately (--planet)")
+    return values[0] if values else default
 
 
 def _check_keys(table, allowed, where):
@@ -178,10 +252,7 @@ def read_system_text(text, source="<text>"):
 
 
 def _parse(text, source):
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(source, "TOML", "a valid TOML file", detail=str(exc)) from None
+    return loads_toml(text, "SYSTEM", source)
 
 
 def _system_from_doc(doc, source):
@@ -223,6 +294,7 @@ def _system_from_doc(doc, source):
             if not isinstance(ob, dict):
                 raise InputError(f"planet.observation ({name})", ob, "a table")
             _check_keys(ob, OBSERVATION_KEYS, f"planet.observation ({name})")
+            ob = _observation_table(ob, name)
         obs.append(ob)
     # Build one Planet per entry (validation names the planet), then stack.
     singles = []
@@ -274,22 +346,36 @@ def load_system(path, planet=None):
     System
     """
     path = Path(path)
-    try:
-        text = path.read_text()
-    except FileNotFoundError:
-        raise InputError("SYSTEM", str(path), "an existing system file") from None
-    except IsADirectoryError:
-        raise InputError("SYSTEM", str(path), "a file, not a folder") from None
-    except UnicodeDecodeError as exc:
-        raise InputError("SYSTEM", str(path), "a UTF-8 text file (TOML)",
-                         detail=f"byte {exc.start} cannot be decoded") from None
+    doc = read_toml(path, "SYSTEM", "an existing system file")
+    _resolve_scenario_paths(doc, path.parent)
     if planet is None:
-        return read_system_text(text, source=str(path))
+        return _system_from_doc(doc, str(path))
     # Validate the whole file quietly (errors anywhere in it are errors), then
     # build only the chosen planet, so that warnings are about it alone.
-    doc = _parse(text, str(path))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         _system_from_doc(doc, str(path)).select(planet)
     doc["planet"] = [p for p in doc["planet"] if p.get("name") == planet]
     return _system_from_doc(doc, str(path))
+
+
+def _resolve_scenario_paths(doc, folder):
+    """Make a relative ``[planet.atmosphere] scenario`` path relative to the file's folder.
+
+    A preset name is left alone; a relative path that names a file next to the
+    system file is replaced by that file's path, so that the system file reads
+    the same from any working folder.
+    """
+    from ..atmosphere.scenarios import preset_names
+    planets = doc.get("planet")
+    if not isinstance(planets, list):
+        return
+    for tbl in planets:
+        atm = tbl.get("atmosphere") if isinstance(tbl, dict) else None
+        spec = atm.get("scenario") if isinstance(atm, dict) else None
+        if not isinstance(spec, str) or spec in preset_names():
+            continue
+        p = Path(spec).expanduser()
+        if p.is_absolute() or len(os.fsencode(spec)) > 4095:
+            continue
+        atm["scenario"] = str(Path(folder) / p)

@@ -48,7 +48,6 @@ wavelength; a table must cover the mode's wavelength range.
     optional in user files.
 """
 
-import tomllib
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
@@ -57,7 +56,7 @@ import numpy as np
 import astropy.units as u
 
 from ..errors import InputError, UnknownKeyError
-from ..units import to_si, check_range
+from ..units import to_si, check_range, as_float_array, parse_number, scalar_si
 
 __all__ = ["DEFAULT_FLOOR_REFERENCE_RESOLUTION", "Mode", "Curve", "load_mode", "mode_names", "list_modes", "parse_mode"]
 
@@ -275,7 +274,8 @@ def load_mode(mode):
     text = str(mode)
     if text in mode_names():
         return _load_path(_presets_dir() / f"{text}.toml")
-    p = Path(text)
+    from ..io.tomlfile import check_input_path
+    p = check_input_path(text, "mode", "a mode file (.toml) or a preset name")
     if p.suffix.lower() == ".toml" or p.is_file():
         if not p.is_file():
             raise InputError("mode", text, "an existing mode file (.toml) or one of "
@@ -294,11 +294,8 @@ def _load_path(path):
 
 @lru_cache(maxsize=64)
 def _load_file(path, mtime_ns=None, size=None):
-    try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError("mode", path, "a valid TOML file", detail=str(exc)) from None
+    from ..io.tomlfile import read_toml
+    data = read_toml(path, "mode", "an existing mode file (.toml)")
     return parse_mode(data, path=path)
 
 
@@ -317,7 +314,7 @@ def _curve(value, field, low, high, lam_range):
                 raise InputError(f"{field}.{k}", value[k], "a list of numbers")
         lam = np.atleast_1d(to_si(value["wavelength_um"], f"{field}.wavelength_um",
                                   u.um, 0.0, None, low_inclusive=False))
-        val = np.atleast_1d(check_range(np.asarray(value["value"], dtype=np.float64),
+        val = np.atleast_1d(check_range(as_float_array(value["value"], f"{field}.value"),
                                         f"{field}.value", low, high))
         if lam.ndim != 1 or lam.shape != val.shape or lam.size < 2:
             raise InputError(field, value, "wavelength_um and value lists of equal "
@@ -333,8 +330,9 @@ def _curve(value, field, low, high, lam_range):
         return Curve(lam, val)
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise InputError(field, value, "a number or {wavelength_um = [...], value = [...]}")
-    check_range(float(value), field, low, high)
-    return Curve(np.zeros(0), np.array([float(value)]))
+    x = parse_number(value, field)
+    check_range(x, field, low, high)
+    return Curve(np.zeros(0), np.array([x]))
 
 
 def _numeric_list(v):
@@ -378,10 +376,10 @@ def parse_mode(data, path="<mapping>"):
                 if k not in spectro:
                     raise InputError(f"spectrograph.{k}", None, "a wavelength in um",
                                      detail=f"required key missing in {path}")
-            lo = float(to_si(spectro["wavelength_min_um"], "spectrograph.wavelength_min_um",
-                             u.um, 0.05, 1000.0))
-            hi = float(to_si(spectro["wavelength_max_um"], "spectrograph.wavelength_max_um",
-                             u.um, 0.05, 1000.0))
+            lo = scalar_si(spectro["wavelength_min_um"], "spectrograph.wavelength_min_um",
+                             u.um, 0.05, 1000.0)
+            hi = scalar_si(spectro["wavelength_max_um"], "spectrograph.wavelength_max_um",
+                             u.um, 0.05, 1000.0)
             if hi <= lo:
                 raise InputError("spectrograph.wavelength_max_um", hi * 1e6,
                                  f"greater than wavelength_min_um = {lo*1e6:.4g} um")
@@ -397,18 +395,18 @@ def parse_mode(data, path="<mapping>"):
             if kind == "num":
                 if isinstance(v, bool) or not isinstance(v, (int, float, str)):
                     raise InputError(fname, v, _describe(kind, unit, low, high))
-                vals[fname] = float(to_si(v, fname, unit or u.dimensionless_unscaled,
-                                          low, high))
+                vals[fname] = scalar_si(v, fname, unit or u.dimensionless_unscaled,
+                                          low, high)
             elif kind == "int":
                 if isinstance(v, bool) or not isinstance(v, int):
                     raise InputError(fname, v, _describe(kind, unit, low, high))
-                check_range(v, fname, low, high)
+                check_range(parse_number(v, fname, integer=True), fname, low, high)
                 vals[fname] = int(v)
             elif kind == "groups":
                 if v == "auto":
                     vals[fname] = None
                 elif isinstance(v, int) and not isinstance(v, bool):
-                    check_range(v, fname, low, high)
+                    check_range(parse_number(v, fname, integer=True), fname, low, high)
                     vals[fname] = int(v)
                 else:
                     raise InputError(fname, v, "\"auto\" or a whole number >= 2")
