@@ -54,7 +54,8 @@ def _check_filters(filters):
 
 def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
                    resolution=None, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
-                   progress=None, overhead_hours=None, each_scenario=False, readout=None):
+                   progress=None, overhead_hours=None, each_scenario=False, readout=None,
+                   min_jeans=None):
     """Rank every usable row of a catalogue.
 
     Parameters
@@ -94,6 +95,11 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     readout : int or "unsaturated", optional
         As in :func:`snrkit.transits.transits_for_system` (default: chosen
         per row for the test).
+    min_jeans : float, optional
+        Leave out hydrogen-rich scenarios on planets whose restricted Jeans
+        parameter is below this (status ``escaping_atmosphere``).  By default
+        every row is ranked and ``escape_warning`` marks those below
+        :data:`snrkit.transits.JEANS_PARAMETER_MIN`.
     each_scenario : bool
         Rank every scenario on its own and stack the tables (one row per
         input row and scenario, ``rank`` within the scenario) instead of
@@ -110,7 +116,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``quick_feature_ppm``, ``significance_per_transit``,
         ``transits_needed`` (0 when not reachable), ``hours_per_transit``,
         ``hours_total``, ``limiting_term``, ``groups_per_integration``,
-        ``duty_cycle``, ``bins_saturated``; ``meta`` holds the settings and
+        ``duty_cycle``, ``bins_saturated``, ``jeans_parameter``,
+        ``escape_warning``; ``meta`` holds the settings and
         the status counts.
     """
     from astropy.table import Table
@@ -123,7 +130,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         parts = [rank_catalogue(catalogue, modes, [sp], test=test, sigma=sigma, n_max=n_max,
                                 resolution=resolution, sort_by=sort_by, filters=filters,
                                 chunk=chunk, progress=progress, overhead_hours=overhead_hours,
-                                readout=readout)
+                                readout=readout, min_jeans=min_jeans)
                  for sp in specs]
         for part in parts:               # label every row, rejected ones too
             part["scenario"] = [part.meta["scenarios"][0]] * len(part)
@@ -150,6 +157,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     out = {c: np.full(n_rows, np.nan) for c in _FLOAT_COLUMNS}
     out["transits_needed"] = np.zeros(n_rows, dtype=np.int64)
     out["groups_per_integration"] = np.zeros(n_rows, dtype=np.int64)
+    out["escape_warning"] = np.zeros(n_rows, dtype=bool)
     out["bins_saturated"] = np.zeros(n_rows, dtype=np.int64)
     out["mode"] = np.full(n_rows, "", dtype=object)
     out["scenario"] = np.full(n_rows, "", dtype=object)
@@ -191,7 +199,8 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                         res = _run_chunk(transits_for_system, sub, dict(
                             mode=mode, scenario=sc, test=test, sigma=sigma, n_max=n_max,
                             resolution=resolution, probabilities=(),
-                            overhead_hours=overhead_hours, curves=False, readout=readout))
+                            overhead_hours=overhead_hours, curves=False, readout=readout,
+                            min_jeans=min_jeans))
                     for w in caught:
                         notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
                     notes.update({n[:300]: None for n in res["notes"][:3]})
@@ -213,8 +222,10 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
                     out["significance_per_transit"][gi] = [recs[k]["significance_per_transit_sigma"]
                                                            for k in j]
                     out["quick_feature_ppm"][gi] = quick[idx[j]]
-                    for c in ("groups_per_integration", "duty_cycle", "bins_saturated"):
-                        out[c][gi] = [recs[k][c] for k in j]
+                    for c in ("groups_per_integration", "duty_cycle", "bins_saturated",
+                              "jeans_parameter"):
+                        out[c][gi] = [recs[k].get(c, np.nan) for k in j]
+                    out["escape_warning"][gi] = [bool(recs[k].get("escape_warning")) for k in j]
                     best_status[idx[j]] = st[j]
                     best_reason[idx[j]] = [recs[k]["reason"] for k in j]
                     best_class[idx[j]] = cls[j]
@@ -264,18 +275,20 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
 
 _FLOAT_COLUMNS = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
                   "quick_feature_ppm", "significance_per_transit", "hours_per_transit",
-                  "hours_total", "duty_cycle")
+                  "hours_total", "duty_cycle", "jeans_parameter")
 _OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_temperature_K",
                  "tsm", "esm", "habitable_zone", "quick_feature_ppm", "significance_per_transit",
                  "transits_needed", "hours_per_transit", "hours_total", "limiting_term",
-                 "groups_per_integration", "duty_cycle", "bins_saturated")
+                 "groups_per_integration", "duty_cycle", "bins_saturated", "jeans_parameter",
+                 "escape_warning")
 _OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
 _UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
           "quick_feature_ppm": "", "hours_per_transit": "h", "hours_total": "h"}
 
 
 _STATUS_CLASS = {"ok": 0, "not_reachable": 1, "stellar_contamination": 1, "no_signal": 2,
-                 "unbound_atmosphere": 2, "saturated": 3, "bad_value": 4}
+                 "unbound_atmosphere": 2, "escaping_atmosphere": 2, "saturated": 3,
+                 "bad_value": 4}
 _NUMERIC_SORT = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
                  "quick_feature_ppm", "significance_per_transit", "transits_needed",
                  "hours_per_transit", "hours_total")

@@ -3,7 +3,8 @@
 Public layer, no science: it reads the arrays the chain computed
 (:func:`snrkit.transits.transits_for_system`) and words them: the status of
 each planet (``ok``, ``not_reachable``, ``no_signal``, ``saturated``,
-``unbound_atmosphere``, ``stellar_contamination``), its reason, the test and
+``unbound_atmosphere``, ``escaping_atmosphere``, ``stellar_contamination``),
+its reason and warnings, the test and
 its degrees of freedom, the readout chosen, and the hours.
 """
 
@@ -15,25 +16,41 @@ from .constants import HOUR, G, K_B, M_U
 __all__ = ["planet_records", "result_dataset", "status_and_reason"]
 
 
+def _jeans_threshold():
+    from .transits import JEANS_PARAMETER_MIN
+    return JEANS_PARAMETER_MIN
+
+
 def _none_if_nan(x):
     return float(x) if np.isfinite(x) else None
 
 
 def _unbound(ctx):
-    """Scale-height ratio, Jeans parameter and the unbound mask per planet."""
+    """Scale-height ratio, Jeans parameter, the unbound mask and the escape flags per planet.
+
+    Unbound (status ``unbound_atmosphere``): H/Rp above
+    :data:`snrkit.transits.MAX_SCALE_HEIGHT_RATIO`, where a hydrostatic
+    atmosphere is not a valid model.  Escaping: a hydrogen-rich scenario with a
+    restricted Jeans parameter below the threshold (a warning; an exclusion
+    only below the caller's ``min_jeans``).
+    """
     from .transits import MAX_SCALE_HEIGHT_RATIO, JEANS_PARAMETER_MIN, HYDROGEN_RICH_MU
     d, sc = ctx["obs"]["derived"], ctx["sc"]
     h_km = np.asarray(ctx["truth_ds"]["scale_height_km"].values, dtype=np.float64)
     h_over_r = h_km * 1e3 / d["radius_m"]
     jeans = G * d["mass_kg"] * (1.008 * M_U) / (K_B * d["equilibrium_temperature_K"] * d["radius_m"])
-    escaping = (sc.mean_molecular_weight < HYDROGEN_RICH_MU) & (jeans < JEANS_PARAMETER_MIN)
-    unbound = ((h_over_r > MAX_SCALE_HEIGHT_RATIO) | escaping) & ~sc.featureless
-    return h_km, h_over_r, jeans, unbound
+    hydrogen = (sc.mean_molecular_weight < HYDROGEN_RICH_MU) & ~sc.featureless
+    warn = hydrogen & (jeans < JEANS_PARAMETER_MIN)
+    limit = ctx.get("min_jeans")
+    excluded = hydrogen & (jeans < limit) if limit is not None else np.zeros_like(warn)
+    unbound = (h_over_r > MAX_SCALE_HEIGHT_RATIO) & ~sc.featureless
+    return h_km, h_over_r, jeans, unbound, warn, excluded
 
 
-def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_r, jeans):
+def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_r, jeans,
+                      excluded):
     """Status word and reason sentence of planet ``i``."""
-    from .transits import MAX_SCALE_HEIGHT_RATIO, JEANS_PARAMETER_MIN
+    from .transits import MAX_SCALE_HEIGHT_RATIO
     res, used, obs, sc = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"]
     prec = obs["precision"]
     share = ctx["extra"]["bias_share"][i]
@@ -44,14 +61,14 @@ def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_
                              f"in {n_sat} of {n_all} bins at the readout that serves the test "
                              f"best (brightest usable magnitude {sat_limit:.2f})")
     if unbound[i]:
-        if h_over_r[i] > MAX_SCALE_HEIGHT_RATIO:
-            return "unbound_atmosphere", (
-                f"scale height {h_km[i]:.0f} km is {h_over_r[i]:.2f} of the planet radius "
-                f"(> {MAX_SCALE_HEIGHT_RATIO:g}): scenario {sc.name!r} is not a bound "
-                "hydrostatic atmosphere on this planet, so its spectrum is not used")
         return "unbound_atmosphere", (
-            f"Jeans escape parameter {jeans[i]:.1f} < {JEANS_PARAMETER_MIN:g}: a hydrogen-rich "
-            f"envelope ({sc.name!r}) is not retained by this planet, so its spectrum is not used")
+            f"scale height {h_km[i]:.0f} km is {h_over_r[i]:.2f} of the planet radius "
+            f"(> {MAX_SCALE_HEIGHT_RATIO:g}): scenario {sc.name!r} is not a bound "
+            "hydrostatic atmosphere on this planet, so its spectrum is not used")
+    if excluded[i]:
+        return "escaping_atmosphere", (
+            f"restricted Jeans parameter {jeans[i]:.1f} is below the requested minimum "
+            f"{ctx['min_jeans']:g} for a hydrogen-rich envelope ({sc.name!r})")
     if res["no_signal"][i]:
         return "no_signal", (f"{ctx['label']} and {sc.name} give the same spectrum on these bins: "
                              "the test has no signal (0 sigma at any number of transits)")
@@ -94,7 +111,7 @@ def planet_records(ctx):
     res, used, obs, sc, hours = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"], ctx["hours"]
     d = obs["derived"]
     names = [str(x) for x in ctx["system"].names]
-    h_km, h_over_r, jeans, unbound = _unbound(ctx)
+    h_km, h_over_r, jeans, unbound, escape_warn, excluded = _unbound(ctx)
     n_bins = used["usable"].sum(axis=-1)
     saturated_all = (n_bins < 2) & (used["bins_saturated"] > 0)
     n_arr = np.asarray(res["transits_needed"])
@@ -103,6 +120,7 @@ def planet_records(ctx):
     limiting = np.where(saturated_all, "saturation", limiting)
     limiting = np.where(share > 0.5, "stellar contamination (bias)", limiting)
     limiting = np.where(unbound & ~saturated_all, "unbound atmosphere", limiting)
+    limiting = np.where(excluded & ~unbound & ~saturated_all, "escaping atmosphere", limiting)
     annulus = np.asarray(ctx["truth_ds"]["annulus_ppm_per_scale_height"].values, dtype=np.float64)
     feat = np.where(used["usable"], ctx["models"].data - ctx["models"].null, np.nan)
     with np.errstate(invalid="ignore"):
@@ -116,7 +134,7 @@ def planet_records(ctx):
     planets, notes = [], []
     for i, name in enumerate(names):
         status, reason = status_and_reason(i, ctx, int(n_arr[i]), limiting, saturated_all, unbound,
-                                           h_km, h_over_r, jeans)
+                                           h_km, h_over_r, jeans, excluded)
         n = int(n_arr[i]) if status in ("ok", "stellar_contamination") else 0
         test, statistic = _test_words(ctx, i)
         rec = {
@@ -138,6 +156,10 @@ def planet_records(ctx):
                                          for k, v in probs.items()},
             "scale_height_over_radius": float(h_over_r[i]),
             "jeans_parameter": float(jeans[i]),
+            "escape_warning": (f"restricted Jeans parameter {jeans[i]:.1f} < "
+                               f"{_jeans_threshold():g} (Fossati et al. 2017): the hydrogen "
+                               "envelope may be escaping; the spectrum assumes it is hydrostatic"
+                               if escape_warn[i] else None),
             "contamination_share": float(share[i]),
             "t14_hours": float(t14_h[i]), "in_transit_hours": float(t_in_h[i]),
             "baseline_hours": float(base_h[i]),

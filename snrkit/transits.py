@@ -37,11 +37,14 @@ __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamin
 #: parameter of Fossati et al. 2017, A&A 598, A90; threshold: common practice,
 #: no source).
 MAX_SCALE_HEIGHT_RATIO = 0.1
-#: Hydrogen-rich scenarios (mean molecular weight below this, g/mol) need the
-#: planet to retain hydrogen: the restricted Jeans escape parameter
-#: Lambda = G Mp m_H / (k Teq Rp) must be at least JEANS_PARAMETER_MIN
-#: (Fossati et al. 2017, A&A 598, A90, who find that planets below about 20
-#: lose their hydrogen envelopes by "boil-off"; value from memory).
+#: Escape screening informs, it does not delete.  For hydrogen-rich scenarios
+#: (mean molecular weight below HYDROGEN_RICH_MU, g/mol) the restricted Jeans
+#: escape parameter Lambda = G Mp m_H / (k Teq Rp) -- the hydrogen-atom mass
+#: and the equilibrium temperature, the definition of Fossati et al. 2017, A&A
+#: 598, A90, who find that envelopes below about 20 are lost by "boil-off"
+#: (value from memory) -- is reported with every answer, and a value below
+#: JEANS_PARAMETER_MIN adds a warning (``escape_warning``).  A planet is left out
+#: only when the caller sets ``min_jeans`` (status ``escaping_atmosphere``).
 HYDROGEN_RICH_MU = 4.0
 JEANS_PARAMETER_MIN = 20.0
 #: Largest number of planet-parameter draws (memory grows with draws x bins).
@@ -62,7 +65,7 @@ TEST_STATISTICS = {
 }
 #: Per-planet statuses.
 STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere",
-            "stellar_contamination")
+            "escaping_atmosphere", "stellar_contamination")
 #: Largest number of transits considered by default.
 DEFAULT_MAX_TRANSITS = 500
 #: Largest accepted transit limit (far beyond any programme; keeps the
@@ -245,6 +248,11 @@ def transits_for_system(system, mode, scenario=None, **options):
         Override the mode's floor (ppm per transit in a bin of the mode's
         reference resolving power, R = 100 for the presets) and the
         observation's baseline.
+    min_jeans : float, optional
+        Leave out hydrogen-rich scenarios on planets whose restricted Jeans
+        parameter is below this (status ``escaping_atmosphere``); default:
+        report the parameter and warn below :data:`JEANS_PARAMETER_MIN`, but
+        keep the planet.
     readout : int or "unsaturated", optional
         Fixed groups per integration, or the most groups that saturate no
         bin; default: chosen per target for the test (:mod:`snrkit.hypotheses`).
@@ -384,7 +392,7 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                   floor_averages_down=None, baseline=None, overhead_hours=None,
                   contamination=None, uncertainty_draws=0, seed=0, fisher=False,
                   solver="analytic", against_wavelength_unit=None, against_depth_kind="ppm",
-                  refit=(), curves=True, readout=None):
+                  refit=(), curves=True, readout=None, min_jeans=None):
     """:func:`transits_for_system` for planets sharing one scenario."""
     from .atmosphere.spectrum import transmission_spectrum
     from .atmosphere.scenarios import load_scenario
@@ -430,7 +438,11 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
                                      np.where(used["usable"], used["white"], np.nan),
                                      np.where(used["usable"], obs["floor"], 0.0),
                                      obs["floor_averages"], n_f)
+    if min_jeans is not None:
+        from .units import parse_number
+        min_jeans = parse_number(min_jeans, "min_jeans", 0.0, 1e4)
     ctx = dict(system=system, mode=mode, sc=sc, kind=kind, arg=arg, label=label, sigma=sigma,
+               min_jeans=min_jeans,
                n_max=int(n_max), obs=obs, truth_ds=truth_ds, models=models, res=res, used=used,
                hours=hours, spread=spread, fisher=fisher_out, refit=refit_values, extra=extra)
     planets, notes = planet_records(ctx)

@@ -226,3 +226,26 @@ def test_each_scenario_gives_one_row_per_planet_and_scenario(cat):
         assert ok.sum() > 0
         np.testing.assert_array_equal(np.sort(np.asarray(part["rank"])[ok]), np.arange(1, ok.sum() + 1))
     assert sum(t.meta["status_counts"].values()) == len(t)
+
+
+def test_escape_screening_informs_instead_of_deleting():
+    # Hot Neptunes of the demo catalogue (3-6.5 R_earth, 9-20 M_earth) with restricted Jeans
+    # parameters below 20 (Fossati et al. 2017, A&A 598, A90) are standard hydrogen-rich
+    # targets: ranked, with escape_warning set; left out only with min_jeans.
+    from snrkit.catalog import read_catalogue
+    from snrkit.rank import rank_catalogue
+    from snrkit.tables import data_path
+    import warnings
+    cat = read_catalogue(data_path("demo", "catalogue.ecsv"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")   # snrkit's own notes for the demo rows
+        t = rank_catalogue(cat, "cold6m-prism-lowres", "h2-clear-solar", resolution=30)
+        strict = rank_catalogue(cat, "cold6m-prism-lowres", "h2-clear-solar", resolution=30,
+                                min_jeans=20)
+    nep = ((t["radius_earth"] > 3) & (t["radius_earth"] < 6.5) & (t["mass_earth"] > 9)
+           & (t["mass_earth"] < 20) & (t["jeans_parameter"] < 20))
+    assert nep.sum() >= 3
+    assert np.all(t["escape_warning"][nep])
+    assert np.all(np.isin(t["status"][nep], ["ok", "not_reachable"]))
+    assert np.sum(t["rank"][nep] > 0) >= 3
+    assert np.all(strict["status"][nep] == "escaping_atmosphere")

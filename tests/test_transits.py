@@ -191,13 +191,20 @@ def test_unbound_scenario_is_not_credited(cedar):
     rec = transits_for_system(cedar.select("Cedar c"), PRISM, scenario="h2-clear-solar",
                               resolution=30)["planets"][0]
     assert 25 < rec["jeans_parameter"] < 40 and rec["status"] == "ok"
-    # a hot low-mass version of it is not: Lambda ~ 4.5
+    assert rec["escape_warning"] is None
+    # a hot low-mass version of it has Lambda ~ 4.5 < 20 (Fossati et al. 2017, A&A 598,
+    # A90): escape screening informs -- the answer carries a warning and stays ranked --
+    # and leaves the planet out only when the caller asks for a minimum
     from snrkit.io.systemfile import read_system_text
     text = data_path("demo", "cedar.toml").read_text().replace("period = 9.00 ", "period = 0.60 ")
     hot = read_system_text(text).select("Cedar c")
     rec = transits_for_system(hot, PRISM, scenario="h2-clear-solar", resolution=30)["planets"][0]
     assert rec["jeans_parameter"] < 20
-    assert rec["status"] == "unbound_atmosphere" and rec["transits_needed"] is None
+    assert rec["escape_warning"] and "Jeans" in rec["escape_warning"]
+    assert rec["status"] != "escaping_atmosphere"
+    rec = transits_for_system(hot, PRISM, scenario="h2-clear-solar", resolution=30,
+                              min_jeans=20)["planets"][0]
+    assert rec["status"] == "escaping_atmosphere" and rec["transits_needed"] is None
     # and a thin CO2 atmosphere on the same planet is fine
     rec = transits_for_system(cedar.select("Cedar c"), PRISM, scenario="co2-thick",
                               resolution=30)["planets"][0]

@@ -26,6 +26,10 @@ def add_parser(p):
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100, as for transits; "
                         "bins narrower than a resolution element are merged)")
+    p.add_argument("--min-jeans", type=float, metavar="LAMBDA",
+                   help="leave out hydrogen-rich scenarios on planets whose restricted Jeans "
+                        "parameter G Mp m_H / (k Teq Rp) is below this (default: rank them and "
+                        "flag those below 20 in escape_warning)")
     p.add_argument("--sort", default="hours", metavar="KEY[:asc|:desc]",
                    help="hours (default), transits, tsm, esm, significance, or a numeric column; "
                         "append :asc or :desc to choose the direction")
@@ -92,7 +96,7 @@ def run(args):
                            n_max=args.max_transits, resolution=resolution_value(args.resolution),
                            sort_by=args.sort, filters=_filters(args),
                            progress=ProgressBar(not args.quiet and not args.json),
-                           each_scenario=args.each_scenario)
+                           each_scenario=args.each_scenario, min_jeans=args.min_jeans)
     if args.out:
         write_table(table, args.out)
     if args.plot:
@@ -116,7 +120,9 @@ def run(args):
                          "limiting_term": str(r["limiting_term"]) or None,
                          "groups_per_integration": int(r["groups_per_integration"]) or None,
                          "duty_cycle": float(r["duty_cycle"]),
-                         "bins_saturated": int(r["bins_saturated"])})
+                         "bins_saturated": int(r["bins_saturated"]),
+                         "jeans_parameter": float(r["jeans_parameter"]),
+                         "escape_warning": bool(r["escape_warning"])})
         print_json({"rows": rows, "summary": table.meta["status_counts"],
                     "notes": table.meta.get("notes", []),
                     "settings": {k: table.meta[k] for k in ("test", "target_sigma", "modes",

@@ -104,6 +104,9 @@ def add_parser(p):
                         "temperature, cloud_top_pressure, reference_radius")
     p.add_argument("--fisher", action="store_true",
                    help="also forecast parameter errors at the N needed (slower)")
+    p.add_argument("--min-jeans", type=float, metavar="LAMBDA",
+                   help="leave out hydrogen-rich scenarios on planets whose restricted Jeans "
+                        "parameter is below this (default: keep them, with a warning below 20)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--plot", metavar="FILE.png",
                    help="significance vs transits and a simulated spectrum")
@@ -155,7 +158,9 @@ def format_result(res):
         lines.append(f"{p['name']}: {p['scenario']} vs {p['null_model']} with {p['mode']}, "
                      f"target {p['target_sigma']:g} sigma")
         lines.extend(_test_lines(p))
-        if p["status"] in ("saturated", "no_signal", "unbound_atmosphere"):
+        if p.get("escape_warning"):
+            lines.append(f"  warning: {p['escape_warning']}")
+        if p["status"] in ("saturated", "no_signal", "unbound_atmosphere", "escaping_atmosphere"):
             lines.append(f"  {p['status'].replace('_', ' ')}: {p['reason']}")
             continue
         lines.append(f"  transits needed (expected significance): {_fmt_n(p['transits_needed'])}"
@@ -184,6 +189,7 @@ def run(args):
     res = transits_for_system(
         system, args.mode, args.scenario, species=args.species, against=args.against,
         test="goodness-of-fit" if args.goodness_of_fit else None, readout=args.readout,
+        min_jeans=args.min_jeans,
         sigma=args.sigma, probabilities=tuple(args.probability or (0.5, 0.9)),
         n_max=args.max_transits, resolution=resolution_value(args.resolution), floor_ppm=args.floor,
         floor_averages_down=fa, overhead_hours=args.overhead,
