@@ -17,17 +17,48 @@ PLANETS = dict(planet_radius=[13.4, 2.6, 1.0], stellar_radius=[1.05, 0.72, 1.0],
 
 @pytest.mark.parametrize("scenario", ["h2-clear-solar", "n2-o2-temperate", "h2-metal-rich"])
 def test_layered_matches_analytic_with_real_tables(scenario):
-    # issue 3: the layered solver must match the analytic one within 0.1 H in the
-    # isothermal clear case.  Line shapes at one pressure in both (the analytic solver
-    # has no pressure axis); real line, Rayleigh and CIA opacities.
-    kw = dict(PLANETS, resolution=50)
+    # The layered solver must match the analytic one within 0.1 H in the isothermal
+    # clear case with line shapes at one pressure in both; real line, Rayleigh and CIA
+    # opacities (Heng & Kitzmann 2017, MNRAS 470, 2972: the analytic formula is exact for
+    # an isothermal atmosphere of constant opacity).
+    kw = dict(PLANETS, resolution=50, pressure_broadening=False)
     an = transmission_spectrum(scenario, **kw)
-    lay = transmission_spectrum(scenario, solver="layers", pressure_broadening=False, **kw)
+    lay = transmission_spectrum(scenario, solver="layers", **kw)
     h = an.scale_height_km.values[:, None]
     dev = np.abs(lay.effective_height_km.values - an.effective_height_km.values) / h
     assert dev.max() < 0.1
     # the spectra have real structure (several scale heights of bands)
     assert np.all(np.ptp(an.effective_height_km.values / h, axis=1) > 3)
+
+
+def test_solvers_agree_with_pressure_broadening_on_the_demo_planets():
+    # Line shapes at each level's pressure (layered) and at the pressure of each root
+    # with the local power law k ~ P^s (analytic): every bin of every preset on every
+    # demo planet within 0.3 H (issue requirement; measured ~0.11 H).
+    from snrkit.io.systemfile import load_system
+    from snrkit.tables import data_path
+    from snrkit.constants import R_EARTH, M_EARTH, R_SUN
+    rows = []
+    for name in ("alder.toml", "birch.toml", "cedar.toml"):
+        d = load_system(data_path("demo", name))
+        dd = d.derived_arrays()
+        rows += [(dd["radius_m"][i] / R_EARTH, d.star.radius_m[i] / R_SUN,
+                  dd["mass_kg"][i] / M_EARTH, dd["equilibrium_temperature_K"][i])
+                 for i in range(len(d))]
+    rp, rs, mp, teq = (np.array(c) for c in zip(*rows))
+    edges = np.geomspace(0.6, 12.0, 91)
+    import warnings
+    from snrkit.errors import SnrkitWarning
+    for name in preset_names():
+        kw = dict(planet_mass=mp, equilibrium_temperature=teq, wavelength_edges=edges)
+        with warnings.catch_warnings():
+            # the co2-thick band cores reach the model top; both solvers cap them there
+            warnings.simplefilter("ignore", SnrkitWarning)
+            an = transmission_spectrum(name, rp, rs, **kw)
+            lay = transmission_spectrum(name, rp, rs, solver="layers", **kw)
+        h = an.scale_height_km.values[:, None]
+        dev = np.abs(lay.effective_height_km.values - an.effective_height_km.values) / h
+        assert np.nanmax(dev) < 0.3, name
 
 
 def test_every_preset_runs_analytic():

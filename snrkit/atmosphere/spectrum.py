@@ -137,7 +137,8 @@ def _f_plane(tau):
 
 def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K, mu_g_mol,
                     reference_radius_m, reference_pressure_Pa, reference_gravity_m_s2,
-                    floor_pressure_Pa, top_pressure_Pa, max_iter=60):
+                    floor_pressure_Pa, top_pressure_Pa, max_iter=60, line_slope=None,
+                    line_pressure_Pa=None, radius_start_m=None):
     """Effective radius of an isothermal, well-mixed atmosphere (analytic solver).
 
     See the module docstring for the method (Heng & Kitzmann 2017 applied at
@@ -163,6 +164,17 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
         Top of the model atmosphere; the radius is capped there.
     max_iter : int
         Newton iterations at most (convergence is typically 3-6).
+    line_slope, line_pressure_Pa : numpy.ndarray, shape (n_planet, n_wave, n_g), optional
+        Pressure dependence of the line cross-section: ``line_sigma`` holds
+        its value at ``line_pressure_Pa`` and it varies locally as
+        ``(P / line_pressure_Pa)**line_slope`` (pressure broadening), so the
+        line extinction scales as n**(1 + slope) with scale height
+        H / (1 + slope) -- the chord formula then carries that exponent, as
+        it does 2 for collision-induced absorption.  Default: no pressure
+        dependence.
+    radius_start_m : numpy.ndarray, shape (n_planet, n_wave, n_g), optional
+        Starting radii of the Newton iteration (e.g. the previous pass's
+        roots); default the floor.
 
     Returns
     -------
@@ -201,25 +213,43 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
     ip = np.broadcast_to(np.arange(npl)[:, None, None], shape).ravel()
     bb = big_b[ip]
     half_lnb = 0.5 * np.log(bb)
-    a1 = (_log_or_minf(ls + cs[:, :, None]).ravel() + lnn0[ip]
-          + 0.5 * math.log(2.0 * np.pi) - half_lnb)
-    a2 = (np.broadcast_to(_log_or_minf(cc)[:, :, None], shape).ravel() + 2.0 * lnn0[ip]
-          + 0.5 * math.log(np.pi) - half_lnb)
+    # Three absorbers, each with extinction ~ n**e: lines (e = 1 + slope), the smooth
+    # continuum (e = 1) and CIA (e = 2).  Chord depth of each: sigma n sqrt(2 pi r H / e).
+    if line_slope is None:
+        e_line = np.ones(ls.size)
+        ln_line = _log_or_minf(ls).ravel()
+    else:
+        slope = np.clip(np.asarray(line_slope, dtype=np.float64), -0.9, 2.0)
+        e_line = 1.0 + np.broadcast_to(slope, shape).ravel()
+        # sigma(n) n = sigma_ref n_ref^-slope n^(1 + slope), n_ref = P_ref / k T
+        ln_nref = np.log(np.broadcast_to(np.asarray(line_pressure_Pa, dtype=np.float64), shape)
+                         / (K_B * T[:, None, None])).ravel()
+        ln_line = _log_or_minf(ls).ravel() - (e_line - 1.0) * ln_nref
+    base = 0.5 * math.log(2.0 * np.pi) - half_lnb
+    c1 = ln_line + e_line * lnn0[ip] + base - 0.5 * np.log(e_line)
+    c2 = np.broadcast_to(_log_or_minf(cs)[:, :, None], shape).ravel() + lnn0[ip] + base
+    c3 = (np.broadcast_to(_log_or_minf(cc)[:, :, None], shape).ravel() + 2.0 * lnn0[ip] + base
+          - 0.5 * math.log(2.0))
+
+    def terms(u, sel):
+        """ln tau(u), the shares (w1, w2, w3) of lines, continuum and CIA, and e_line."""
+        b, e1 = bb[sel] * u, e_line[sel]
+        l1, l2, l3 = c1[sel] + e1 * b, c2[sel] + b, c3[sel] + 2.0 * b
+        hi = np.maximum(np.maximum(l1, l2), l3)
+        fin = np.isfinite(hi)
+        h0_ = np.where(fin, hi, 0.0)
+        with np.errstate(invalid="ignore", over="ignore"):
+            x1, x2, x3 = np.exp(l1 - h0_), np.exp(l2 - h0_), np.exp(l3 - h0_)
+        tot = x1 + x2 + x3
+        inv = np.where(fin & (tot > 0), 1.0 / np.where(tot > 0, tot, 1.0), 0.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            lt = np.where(fin, hi + np.log(np.where(tot > 0, tot, 1.0)), -np.inf)
+        return lt - 1.5 * np.log(u), (x1 * inv, x2 * inv, x3 * inv), e1
 
     def f_and_slope(u, sel):
         """ln tau(u) and d ln tau / du for the elements ``sel``."""
-        b = bb[sel]
-        l1 = a1[sel] + b * u
-        l2 = a2[sel] + 2.0 * b * u
-        # log-sum-exp of the two terms; either may be -inf (no such opacity)
-        hi = np.maximum(l1, l2)
-        with np.errstate(invalid="ignore"):
-            e = np.exp(np.minimum(l1, l2) - hi)
-        e = np.where(np.isnan(e), 0.0, e)
-        lt = hi + np.log1p(e)
-        w2 = np.where(l2 >= l1, 1.0, e) / (1.0 + e)
-        lt = lt - 1.5 * np.log(u)
-        return lt, b * (1.0 + w2) - 1.5 / u
+        lt, (w1, w2, w3), e1 = terms(u, sel)
+        return lt, bb[sel] * (w1 * e1 + w2 + 2.0 * w3) - 1.5 / u
 
     all_sel = slice(None)
     uf = u_at(pf)[ip]
@@ -247,6 +277,10 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
     u_root = np.ones(ls.size)
     d_root = np.ones(ls.size)
     u = uf[sel].copy()
+    if radius_start_m is not None:
+        # a nearby start: Newton on the convex ln tau(u) overshoots at most once
+        us = 1.0 / np.asarray(radius_start_m, dtype=np.float64).ravel()[sel]
+        u = np.where(np.isfinite(us), np.clip(us, ut[sel], uf[sel]), u)
     d = np.ones(sel.size)
     for _ in range(int(max_iter)):
         if sel.size == 0:
@@ -263,24 +297,21 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
     ithick = np.flatnonzero(~thin & ~saturated)
     ur = u_root[ithick]
     b_ = bb[ithick]
-    l1 = a1[ithick] + b_ * ur
-    l2 = a2[ithick] + 2.0 * b_ * ur
-    with np.errstate(invalid="ignore", over="ignore"):
-        w2 = 1.0 / (1.0 + np.exp(l1 - l2))
-    w2 = np.where(np.isnan(w2), 0.0, w2)
-    d1 = b_ * (1.0 + w2) - 1.5 / ur                  # d ln tau / du
-    d2 = b_ * b_ * w2 * (1.0 - w2) + 1.5 / ur**2     # d2 ln tau / du2
+    _, (w1, w2, w3), e1 = terms(ur, ithick)
+    mean_e = w1 * e1 + w2 + 2.0 * w3
+    d1 = b_ * mean_e - 1.5 / ur                       # d ln tau / du
+    d2 = b_ * b_ * (w1 * e1 * e1 + w2 + 4.0 * w3 - mean_e ** 2) + 1.5 / ur**2   # d2 ln tau / du2
     h_a = 1.0 / (ur**2 * d1)                         # absorber scale height at the root [m]
     curv = 0.5 * (ur**4 * d2 + 2.0 * ur**3 * d1)     # (1/2) d2 ln tau / dr2 [m-2]
     # First-order corrections in H/R (derived for snrkit by carrying the expansions one
     # order further; they move R by ~3.6 H^2/R for a linear absorber):
-    #  * chord integral: exact/Laplace = 1 + 9/(8 beta) per unit of density exponent,
-    #    beta = r/H (and 9/(16 beta) for n^2 absorbers);
+    #  * chord integral: exact/Laplace = 1 + 9/(8 e beta) for an absorber ~ n^e,
+    #    beta = r/H (9/(8 beta) for e = 1, 9/(16 beta) for n^2 absorbers);
     #  * area: R_eff^2 = r*^2 + (pi^2/6) H_a^2 (variance of the Gumbel-shaped limb
     #    profile 1 - exp(-tau));
     #  * curvature of ln tau(r): + (pi^2/6) c H_a^3 with c = (1/2) d2 ln tau/dr2.
     beta = b_ * ur
-    dln_tau = np.log1p(9.0 / (8.0 * beta) * (1.0 - 0.5 * w2))
+    dln_tau = np.log1p(9.0 / (8.0 * beta) * (w1 / e1 + w2 + 0.5 * w3))
     corr = h_a * dln_tau + (np.pi**2 / 12.0) * h_a**2 * ur + (np.pi**2 / 6.0) * curv * h_a**3
     near = ln_tf[ithick] < math.log(40.0)           # E1(40) < 1e-19
     corr[near] += h_a[near] * exp1(np.exp(ln_tf[ithick][near]))
@@ -529,7 +560,62 @@ GRID_OPACITY_MIN_PLANETS = 48
 GRID_OPACITY_NODES = 64
 
 
-def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude):
+#: Passes of the analytic solver with line shapes at the pressure of its root.
+ROOT_PRESSURE_PASSES = 3
+
+
+def _line_shape_pressures(source):
+    """Pressure nodes [Pa] (one per decade) of the line-shape tables, or None."""
+    rng = getattr(source, "PRESSURE_RANGE_PA", None)
+    if rng is None:
+        return None
+    lo, hi = np.log10(rng[0]), np.log10(rng[1])
+    return 10.0 ** np.arange(np.floor(lo), np.ceil(hi) + 0.5)
+
+
+def _analytic_at_root_pressure(line_p, grid_p, args):
+    """Analytic radii with each g-point's line shape at the pressure of its own root.
+
+    The analytic formula takes one opacity per (planet, bin, g); the line
+    width depends on pressure, and the pressure probed is the one at the
+    root.  Start at the tables' reference pressure, then iterate: the root's
+    pressure (isothermal, g ~ 1/r^2: ln P = ln P0 - (R0/H0)(1 - R0/r)) selects
+    k(g) by linear interpolation of ln k in ln P between the decade nodes
+    (the correlated-k assumption the layered solver makes level by level).
+    :data:`ROOT_PRESSURE_PASSES` passes settle the root to well under 0.01 H.
+    """
+    from ..constants import M_U
+    from .opacity import REFERENCE_PRESSURE_PA
+    cont, cia, t_iso, mu, r0, p0, g0, floor, top = args
+    npl, n_p, nw, ng = line_p.shape
+    lnk = np.log(np.maximum(line_p, 1e-300))
+    x_nodes = np.log(grid_p)
+    h0 = K_B * t_iso / (mu * M_U * g0)
+    p_root = np.full((npl, nw, ng), REFERENCE_PRESSURE_PA)
+    ip = np.arange(npl)[:, None, None]
+    iw = np.arange(nw)[None, :, None]
+    ig = np.arange(ng)[None, None, :]
+    radius = sat = None
+    for _ in range(ROOT_PRESSURE_PASSES):
+        x = np.clip(np.log(np.clip(p_root, top[:, None, None], floor[:, None, None])),
+                    x_nodes[0], x_nodes[-1])
+        j = np.clip(np.searchsorted(x_nodes, x) - 1, 0, n_p - 2)
+        w = (x - x_nodes[j]) / (x_nodes[j + 1] - x_nodes[j])
+        lo_k, hi_k = lnk[ip, j, iw, ig], lnk[ip, j + 1, iw, ig]
+        lk = (1.0 - w) * lo_k + w * hi_k
+        line = np.where(lk <= np.log(1e-299), 0.0, np.exp(lk))
+        # local power law k ~ P^slope between the nodes: the chord sees it
+        slope = np.where(line > 0, (hi_k - lo_k) / (x_nodes[j + 1] - x_nodes[j]), 0.0)
+        radius, sat = analytic_radius(line, *args, line_slope=slope, line_pressure_Pa=np.exp(x),
+                                      radius_start_m=radius)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            lnp = (np.log(p0)[:, None, None] - (r0 / h0)[:, None, None]
+                   * (1.0 - r0[:, None, None] / radius))
+        p_root = np.where(np.isfinite(lnp), np.exp(np.clip(lnp, -700, 700)), REFERENCE_PRESSURE_PA)
+    return radius, sat
+
+
+def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressures=None):
     """Mixture opacity for many isothermal planets through a temperature grid.
 
     The random-overlap mixture is computed at :data:`GRID_OPACITY_NODES`
@@ -542,8 +628,14 @@ def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude):
     t = np.asarray(t_iso, dtype=np.float64)
     lo, hi = float(np.min(t)), float(np.max(t))
     grid = np.array([lo]) if hi <= lo * (1 + 1e-9) else np.geomspace(lo, hi, GRID_OPACITY_NODES)
-    op = mixture_opacity(source, sc.mixing_ratios, edges, grid[:, None], n_g,
-                         sc.haze_enhancement, sc.haze_slope, exclude)
+    if pressures is None:
+        op = mixture_opacity(source, sc.mixing_ratios, edges, grid[:, None], n_g,
+                             sc.haze_enhancement, sc.haze_slope, exclude)
+    else:
+        shape = (grid.size, np.size(pressures))
+        op = mixture_opacity(source, sc.mixing_ratios, edges,
+                             np.broadcast_to(grid[:, None], shape), n_g, sc.haze_enhancement,
+                             sc.haze_slope, exclude, pressure_Pa=np.broadcast_to(pressures, shape))
     if grid.size == 1:
         idx = np.zeros(t.size, dtype=int)
         return {"line": op["line"][idx], "continuum": op["continuum"][idx], "cia": op["cia"][idx],
@@ -573,8 +665,13 @@ def _profile_for(sc, temperature_K, gravity):
 
 
 def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top, refraction,
-           exclude=None, pressure_broadening=True):
-    """Effective radius per g-point (n_planet, n_wave, n_g), g weights, extras."""
+           exclude=None, pressure_broadening=True, memo=None):
+    """Effective radius per g-point (n_planet, n_wave, n_g), g weights, extras.
+
+    ``memo`` (a dict) keeps the analytic solver's mixture opacity between calls
+    for the same planets (it depends on the temperatures, not on the radius),
+    so the calibration's second solve does not rebuild it.
+    """
     from .profiles import (pressure_levels, hydrostatic_radius, scale_height,
                            mixture_refractivity, refraction_floor_pressure)
     npl = rp.shape[0]
@@ -604,13 +701,24 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
             np.asarray(gw, dtype=np.float64), extras
     if solver == "analytic":
         t_iso = profile.reference_temperature()
-        if npl >= GRID_OPACITY_MIN_PLANETS:
-            op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude)
+        grid_p = _line_shape_pressures(source) if pressure_broadening else None
+        nodes = None if grid_p is None else np.broadcast_to(grid_p, (npl, grid_p.size))
+        key = (exclude, t_iso.tobytes())
+        op = None if memo is None else memo.get(key)
+        if op is None and npl >= GRID_OPACITY_MIN_PLANETS:
+            op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, grid_p)
+        elif op is None:
+            tt = t_iso[:, None] if nodes is None else np.broadcast_to(t_iso[:, None], nodes.shape)
+            op = mixture_opacity(source, sc.mixing_ratios, edges, tt, n_g,
+                                 sc.haze_enhancement, sc.haze_slope, exclude, pressure_Pa=nodes)
+        if memo is not None:
+            memo[key] = op
+        args = (op["continuum"][:, 0], op["cia"][:, 0], t_iso, mu, rp, p0, g0, floor,
+                np.full(npl, p_top))
+        if grid_p is None:
+            radius, sat = analytic_radius(op["line"][:, 0], *args)
         else:
-            op = mixture_opacity(source, sc.mixing_ratios, edges, t_iso[:, None], n_g,
-                                 sc.haze_enhancement, sc.haze_slope, exclude)
-        radius, sat = analytic_radius(op["line"][:, 0], op["continuum"][:, 0], op["cia"][:, 0],
-                                      t_iso, mu, rp, p0, g0, floor, np.full(npl, p_top))
+            radius, sat = _analytic_at_root_pressure(op["line"], grid_p, args)
         extras["top_limited"] = sat.any(axis=(1, 2))
         return radius, op["g_weights"], extras
     levels = pressure_levels(floor, np.full(npl, p_top), n_layers)
@@ -645,18 +753,18 @@ _CHUNK_ELEMENTS = 4_000_000
 
 
 def _solve_depth(sc, *, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top,
-                 refraction, exclude=None, pressure_broadening=True):
+                 refraction, exclude=None, pressure_broadening=True, memo=None):
     """Bin-average depth (n_planet, n_wave) and extras, solving planet chunks in turn."""
     npl = rp.shape[0]
     per_planet = (edges.size - 1) * max(int(n_g), 1) * (
-        (n_layers or 150) + 1 if solver == "layers" else 4)
+        (n_layers or 150) + 1 if solver == "layers" else 16)
     step = max(1, int(_CHUNK_ELEMENTS // per_planet))
     depths, extras = [], []
     for i in range(0, npl, step):
         sl = slice(i, min(npl, i + step))
         radius, gw, ex = _solve(sc, source, edges, rp[sl], rs[sl], g0[sl], teq[sl], a_m[sl],
                                 solver, n_layers, n_g, p_top, refraction, exclude,
-                                pressure_broadening)
+                                pressure_broadening, memo)
         depths.append(bin_average_depth(radius, rs[sl], gw))
         extras.append(ex)
     ex = {k: np.concatenate([e[k] for e in extras]) for k in extras[0]}
@@ -917,6 +1025,7 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
 
     datasets, contrib = [], []
     for sc in scenarios:
+        solve_kw["memo"] = {}             # opacity shared by this scenario's solves
         if radius_calibration == "observed-depth" and not sc.featureless:
             r0, g0c, depth, ex, delta = _calibrated(sc, rp, g0, weights, exclude_species,
                                                     solve_kw)
