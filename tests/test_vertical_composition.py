@@ -21,6 +21,36 @@ PLANET = dict(planet_radius=1.0, planet_mass=1.0, stellar_radius=1.0,
               equilibrium_temperature=255.0)
 
 
+def test_presets_that_are_temperate_have_a_cold_trap():
+    for name in ("n2-o2-temperate", "n2-co2-ch4-anoxic"):
+        sc = load_scenario(name)
+        assert sc.cold_trap["gas"] == "H2O"
+        assert sc.cold_trap["tropopause_pressure_Pa"] == pytest.approx(22632.0)
+        assert sc.cold_trap["mixing_ratio_above"] < 1e-5 < sc.mixing_ratios["H2O"]
+        assert sc.needs_layers and not sc.well_mixed
+    assert load_scenario("steam").cold_trap is None
+
+
+def test_hydrogen_presets_carry_equilibrium_co2():
+    rich = load_scenario("h2-metal-rich").mixing_ratios
+    solar = load_scenario("h2-clear-solar").mixing_ratios
+    assert 1e-4 < rich["CO2"] < 1e-2
+    # equilibrium CO2 ~ [CO][H2O]/[H2]: about Z^2 between 1 and 100 x solar at one temperature
+    ratio = rich["CO2"] / solar["CO2"]
+    expected = rich["CO"] * rich["H2O"] / (solar["CO"] * solar["H2O"]) * solar["H2"] / rich["H2"]
+    assert ratio == pytest.approx(expected, rel=1e-3)
+    assert 5e3 < ratio < 2e4
+
+
+def test_every_preset_names_the_source_of_each_abundance():
+    from snrkit.atmosphere.scenarios import preset_names
+    for name in preset_names():
+        sc = load_scenario(name)
+        for gas in sc.mixing_ratios:
+            assert f"source_{gas}" in sc.provenance, (name, gas)
+            assert sc.provenance[f"source_{gas}"].strip(), (name, gas)
+
+
 def test_level_mixing_ratios_step_at_the_tropopause():
     sc = load_scenario({**BASE, "cold_trap": TRAP})
     p = np.array([[1e5, 3e4, 1.9e4, 1e2]])
@@ -81,6 +111,16 @@ def test_bad_vertical_keys_one_line(changes, exc, match):
     with pytest.raises(exc, match=match) as err:
         load_scenario({**BASE, **changes})
     assert "\n" not in str(err.value)
+
+
+def test_new_composition_without_the_trapped_gas_drops_the_trap():
+    sc = load_scenario({"scenario": "n2-o2-temperate", "mixing_ratios": {"CO2": 0.01},
+                        "fill_gas": "N2"})
+    assert sc.cold_trap is None and sc.well_mixed
+    kept = load_scenario({"scenario": "n2-o2-temperate", "cloud_top_pressure": 0.6})
+    assert kept.cold_trap is not None
+    off = load_scenario({"scenario": "n2-o2-temperate", "cold_trap": {}})
+    assert off.cold_trap is None
 
 
 def test_tabulated_profile_interpolates_and_extends_isothermally():
