@@ -31,6 +31,15 @@ def cat():
 
 
 @pytest.fixture(scope="module")
+def temperate(tmp_path_factory):
+    # The temperate preset without its cold trap: a cold trap takes the layered solver,
+    # which is slow over a whole catalogue, and these tests are about sorting and filters.
+    path = tmp_path_factory.mktemp("scenarios") / "temperate-well-mixed.toml"
+    path.write_text('scenario = "n2-o2-temperate"\ncold_trap = {}\n')
+    return str(path)
+
+
+@pytest.fixture(scope="module")
 def ranked(cat):
     # The analytic solver's temperature-grid opacity path (used from 48 planets on)
     # is bounded separately in test_spectrum_fast.py; switching it off here makes
@@ -84,7 +93,7 @@ def test_ranking_agrees_with_per_planet_path(cat, ranked):
             float(row["significance_per_transit"]), rel=1e-8, abs=1e-12)
 
 
-def test_sort_by_tsm_and_filters(cat):
+def test_sort_by_tsm_and_filters(cat, temperate):
     t = rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20, sort_by="tsm",
                        filters={"radius_max": 4.0, "teq_max": 1000.0})
     ok = np.asarray(t["rank"]) > 0
@@ -93,7 +102,7 @@ def test_sort_by_tsm_and_filters(cat):
     assert np.all(np.asarray(t["radius_earth"])[ok] <= 4.0)
     assert "filtered" in set(np.asarray(t["status"]))
     assert ok.sum() > 0 and np.all(np.asarray(t["equilibrium_temperature_K"])[ok] <= 1000.0)
-    hz = rank_catalogue(cat, PRISM, "n2-o2-temperate", resolution=20,
+    hz = rank_catalogue(cat, PRISM, temperate, resolution=20,
                         filters={"habitable_zone_only": True})
     ok = np.asarray(hz["rank"]) > 0
     assert ok.sum() > 0
@@ -110,17 +119,17 @@ def test_sort_by_tsm_and_filters(cat):
         rank_catalogue(cat, PRISM, "h2-clear-solar", sort_by="tsm:sideways")
 
 
-def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat):
+def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat, temperate):
     # ESM needs a Ks magnitude: blank three of them; those ok rows rank after the rest
     from snrkit.catalog import catalogue_from_table
     t = cat.table.copy()
-    base = rank_catalogue(cat, PRISM, "n2-o2-temperate", resolution=20, sort_by="esm")
+    base = rank_catalogue(cat, PRISM, temperate, resolution=20, sort_by="esm")
     ok_rows = np.flatnonzero(np.asarray(base["status"]) == "ok")[:3]
     col = t["star_mag_Ks"].astype(float)
     col[ok_rows] = np.nan
     t["star_mag_Ks"] = col
     c2 = catalogue_from_table(t)
-    r = rank_catalogue(c2, PRISM, "n2-o2-temperate", resolution=20, sort_by="esm")
+    r = rank_catalogue(c2, PRISM, temperate, resolution=20, sort_by="esm")
     status = np.asarray(r["status"])
     rank = np.asarray(r["rank"])
     assert np.all(rank[status != "ok"] == 0)
@@ -128,7 +137,7 @@ def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat):
     n_ok = int((status == "ok").sum())
     nan_rows = [i for i in ok_rows if status[i] == "ok"]
     assert nan_rows and all(rank[i] > n_ok - len(nan_rows) for i in nan_rows)
-    asc = rank_catalogue(c2, PRISM, "n2-o2-temperate", resolution=20, sort_by="tsm:asc")
+    asc = rank_catalogue(c2, PRISM, temperate, resolution=20, sort_by="tsm:asc")
     okm = np.asarray(asc["rank"]) > 0
     order = np.argsort(np.asarray(asc["rank"])[okm])
     assert np.all(np.diff(np.asarray(asc["tsm"])[okm][order]) >= 0)

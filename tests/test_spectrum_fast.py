@@ -11,7 +11,11 @@ import pytest
 from snrkit.atmosphere import spectrum as spm
 
 
-@pytest.mark.parametrize("scenario", ["h2-clear-solar", "n2-o2-temperate", "h2-cloudy-solar"])
+# the grid path is the analytic solver's; the temperate preset's cold trap would take the
+# layered solver, so its well-mixed variant is used here
+@pytest.mark.parametrize("scenario", ["h2-clear-solar", {"scenario": "n2-o2-temperate", "cold_trap": {}},
+                                      "h2-cloudy-solar"],
+                         ids=["h2-clear-solar", "n2-o2-temperate-well-mixed", "h2-cloudy-solar"])
 def test_grid_path_matches_per_planet_path(scenario):
     rng = np.random.default_rng(8)
     n = spm.GRID_OPACITY_MIN_PLANETS

@@ -15,7 +15,12 @@ PLANETS = dict(planet_radius=[13.4, 2.6, 1.0], stellar_radius=[1.05, 0.72, 1.0],
                planet_names=["giant", "sub-neptune", "rocky"])
 
 
-@pytest.mark.parametrize("scenario", ["h2-clear-solar", "n2-o2-temperate", "h2-metal-rich"])
+# the temperate preset without its cold trap (a cold trap always takes the layered solver)
+WELL_MIXED_TEMPERATE = {"scenario": "n2-o2-temperate", "cold_trap": {}}
+
+
+@pytest.mark.parametrize("scenario", ["h2-clear-solar", WELL_MIXED_TEMPERATE, "h2-metal-rich"],
+                         ids=["h2-clear-solar", "n2-o2-temperate-well-mixed", "h2-metal-rich"])
 def test_layered_matches_analytic_with_real_tables(scenario):
     # The layered solver must match the analytic one within 0.1 H in the isothermal
     # clear case with line shapes at one pressure in both; real line, Rayleigh and CIA

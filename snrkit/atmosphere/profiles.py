@@ -4,9 +4,13 @@ Compute layer (SI, numpy, leading ``planet`` axis):
 
 * :func:`pressure_levels` -- log-spaced level pressures from a bottom (deepest,
   opaque) pressure to a top pressure, ``n_layers + 1`` levels per planet;
-* :class:`IsothermalProfile` and :class:`GreyTwoStreamProfile` -- temperature as
-  a function of pressure (the second is the analytic irradiated grey
-  atmosphere of Guillot 2010, A&A 520, A27, eq. 29);
+* :class:`IsothermalProfile`, :class:`GreyTwoStreamProfile` and
+  :class:`TabulatedProfile` -- temperature as a function of pressure (the
+  second is the analytic irradiated grey atmosphere of Guillot 2010, A&A 520,
+  A27, eq. 29; the third interpolates a user's pressure-temperature table);
+* :func:`us_standard_atmosphere_1976` -- temperature and pressure of the
+  U.S. Standard Atmosphere 1976 below 86 km (the Earth reference of the
+  tests);
 * :func:`hydrostatic_radius` -- radius of each level from hydrostatic
   equilibrium of an ideal gas with gravity falling off as ``1/r**2``;
 * :func:`scale_height` -- ``H = k T / (mu m_u g)``.
@@ -27,6 +31,9 @@ __all__ = [
     "scale_height",
     "IsothermalProfile",
     "GreyTwoStreamProfile",
+    "TabulatedProfile",
+    "us_standard_atmosphere_1976",
+    "US1976_LAYERS",
     "hydrostatic_radius",
     "REFRACTIVITY_STP",
     "mixture_refractivity",
@@ -224,6 +231,140 @@ class GreyTwoStreamProfile:
         return self.equilibrium_temperature_K.copy()
 
 
+class TabulatedProfile:
+    """Temperature interpolated in a pressure-temperature table.
+
+    ``T(P)`` is linear in ``ln P`` between the table's points and constant
+    (isothermal) beyond its ends (common practice, no source).  An optional
+    factor per planet multiplies the whole table (the scenario key
+    ``temperature_factor``; 1 reproduces the table).
+
+    Parameters
+    ----------
+    pressure_Pa : array_like, shape (n_points,)
+        Table pressures [Pa], > 0, strictly monotonic (either order).
+    temperature_K : array_like, shape (n_points,)
+        Table temperatures [K], > 0.
+    factor : float or array_like, shape (n_planet,)
+        Multiplier of the table temperatures (default 1).
+    reference_pressure_Pa : float or array_like, shape (n_planet,)
+        Pressure whose temperature is quoted as the reference temperature
+        (the scale height at the reference radius); default 1e5 Pa.
+    """
+
+    kind = "tabulated"
+    is_isothermal = False
+
+    def __init__(self, pressure_Pa, temperature_K, factor=1.0, reference_pressure_Pa=1e5):
+        p = np.asarray(pressure_Pa, dtype=np.float64).ravel()
+        t = np.asarray(temperature_K, dtype=np.float64).ravel()
+        if p.size < 2 or p.size != t.size:
+            raise InputError("temperature_table", f"{p.size} pressures and {t.size} temperatures",
+                             "at least 2 pressures with one temperature each")
+        if np.any(~(p > 0)) or np.any(~(t > 0)):
+            raise InputError("temperature_table", "a pressure or temperature <= 0",
+                             "pressures > 0 and temperatures > 0 K")
+        order = np.argsort(p)
+        p, t = p[order], t[order]
+        if np.any(np.diff(p) <= 0):
+            raise InputError("temperature_table.pressure", "repeated pressure",
+                             "strictly monotonic pressures")
+        self._lnp = np.log(p)
+        self._t = t
+        f = _planet_axis(factor, "temperature_factor")
+        pr = _planet_axis(reference_pressure_Pa, "reference_pressure")
+        f, pr = np.broadcast_arrays(f, pr)
+        if np.any(~(f > 0)):
+            raise InputError("temperature_factor", float(np.min(f)), "> 0")
+        self.factor = f.copy()
+        self.reference_pressure_Pa = pr.copy()
+
+    @property
+    def n_planet(self):
+        return self.factor.shape[0]
+
+    def temperature(self, pressure_Pa):
+        """Temperature [K] at ``pressure_Pa`` (shape ``(n_planet, ...)``)."""
+        p = np.asarray(pressure_Pa, dtype=np.float64)
+        t = np.interp(np.log(p), self._lnp, self._t)
+        return self.factor.reshape((-1,) + (1,) * max(p.ndim - 1, 0)) * t
+
+    def reference_temperature(self):
+        """Temperature at the reference pressure [K], shape (n_planet,)."""
+        return self.factor * np.interp(np.log(self.reference_pressure_Pa), self._lnp, self._t)
+
+
+#: U.S. Standard Atmosphere 1976 (NOAA/NASA/USAF 1976, Table 4): base
+#: geopotential height [m'] and temperature gradient [K per m'] of the seven
+#: layers below 84.852 km'.  The constants below are the standard's defining
+#: values (sea level 288.15 K and 101325 Pa, g0 = 9.80665 m s-2,
+#: R* = 8.31432 J mol-1 K-1, M0 = 28.9644 g/mol, r0 = 6356.766 km for the
+#: geopotential conversion); they agree with the tabulations read at
+#: crnslab.org/util/atmo.php and scipp.ucsc.edu (outreach page "US Standard
+#: Atmosphere, 1976"), which cite the standard.
+US1976_LAYERS = ((0.0, -0.0065), (11000.0, 0.0), (20000.0, 0.001), (32000.0, 0.0028),
+                 (47000.0, 0.0), (51000.0, -0.0028), (71000.0, -0.002))
+_US76_T0 = 288.15
+_US76_P0 = 101325.0
+_US76_G0 = 9.80665
+_US76_R = 8.31432
+_US76_M0 = 28.9644e-3
+_US76_R0 = 6356766.0
+_US76_TOP_GEOPOTENTIAL = 84852.0
+
+
+def us_standard_atmosphere_1976(altitude_m, geopotential=False):
+    """Temperature and pressure of the U.S. Standard Atmosphere 1976 below 86 km.
+
+    Piecewise-linear temperature in geopotential height with hydrostatic
+    pressure, ``P = P_b (T_b/T)^(g0 M0/(R* L))`` in gradient layers and
+    ``P = P_b exp(-g0 M0 (h - h_b)/(R* T_b))`` in isothermal ones (NOAA, NASA
+    & USAF 1976, "U.S. Standard Atmosphere, 1976", eqs. 23 and 33a-b, Table 4;
+    equation numbers from memory).  Geometric altitude ``z`` converts to
+    geopotential height ``h = r0 z / (r0 + z)``.  The molecular-weight
+    correction above 80 km (at most 0.04 per cent in temperature) is left out.
+
+    Parameters
+    ----------
+    altitude_m : float or array_like
+        Altitude [m], 0 to 86 km geometric (84.852 km geopotential).
+    geopotential : bool
+        Altitudes are geopotential heights (default: geometric).
+
+    Returns
+    -------
+    temperature_K, pressure_Pa : numpy.ndarray
+        Same shape as ``altitude_m``.
+
+    Examples
+    --------
+    >>> t, p = us_standard_atmosphere_1976(11000.0, geopotential=True)
+    >>> round(float(t), 2), round(float(p))
+    (216.65, 22632)
+    """
+    z = np.asarray(altitude_m, dtype=np.float64)
+    h = z if geopotential else _US76_R0 * z / (_US76_R0 + z)
+    if np.any(~np.isfinite(h)) or np.any(h < 0) or np.any(h > _US76_TOP_GEOPOTENTIAL + 0.1):
+        raise InputError("altitude", float(np.max(z)) if np.all(np.isfinite(z)) else "non-finite",
+                         "0 to 84.852 km geopotential (86 km geometric)")
+    k = _US76_G0 * _US76_M0 / _US76_R
+    tb, pb = [_US76_T0], [_US76_P0]
+    for (h0, lapse), (h1, _) in zip(US1976_LAYERS[:-1], US1976_LAYERS[1:]):
+        t1 = tb[-1] + lapse * (h1 - h0)
+        pb.append(pb[-1] * ((tb[-1] / t1) ** (k / lapse) if lapse else
+                            np.exp(-k * (h1 - h0) / tb[-1])))
+        tb.append(t1)
+    bases = np.array([b for b, _ in US1976_LAYERS])
+    i = np.clip(np.searchsorted(bases, h, side="right") - 1, 0, bases.size - 1)
+    lapse = np.array([g for _, g in US1976_LAYERS])[i]
+    t_b, p_b = np.array(tb)[i], np.array(pb)[i]
+    t = t_b + lapse * (h - bases[i])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        p = np.where(lapse != 0, p_b * (t_b / t) ** (k / np.where(lapse != 0, lapse, 1.0)),
+                     p_b * np.exp(-k * (h - bases[i]) / t_b))
+    return t, p
+
+
 def _gauss_legendre(n):
     x, w = np.polynomial.legendre.leggauss(n)
     return 0.5 * (x + 1.0), 0.5 * w
@@ -249,8 +390,11 @@ def hydrostatic_radius(pressure_levels_Pa, profile, mu_g_mol, reference_radius_m
         Level pressures [Pa], decreasing.
     profile : IsothermalProfile or GreyTwoStreamProfile
         Temperature profile.
-    mu_g_mol : array_like, shape (n_planet,)
-        Mean molecular weight [g/mol], constant with height (well-mixed gas).
+    mu_g_mol : array_like, shape (n_planet,) or (n_planet, n_levels)
+        Mean molecular weight [g/mol]: constant with height (well-mixed gas),
+        or one value per level (a composition that varies with height; then
+        the bridge from the reference pressure to the grid's bottom level
+        uses the bottom level's value).
     reference_radius_m, reference_pressure_Pa, reference_gravity_m_s2 : array_like, shape (n_planet,)
         Radius ``R_0`` [m] at which the pressure is ``P_0`` [Pa], and gravity
         there [m s-2].
@@ -262,15 +406,23 @@ def hydrostatic_radius(pressure_levels_Pa, profile, mu_g_mol, reference_radius_m
         gas would be unbound, ``1/r <= 0``) are NaN.
     """
     p = np.asarray(pressure_levels_Pa, dtype=np.float64)
-    mu = _planet_axis(mu_g_mol, "mean_molecular_weight")[:, None]
+    mu_arr = np.asarray(mu_g_mol, dtype=np.float64)
+    if mu_arr.ndim == 2:
+        if mu_arr.shape[1] != p.shape[-1]:
+            raise InputError("mean_molecular_weight", f"shape {mu_arr.shape}",
+                             f"(n_planet,) or (n_planet, {p.shape[-1]}) values")
+        mu_lv, mu = mu_arr, mu_arr[:, :1]
+    else:
+        mu = _planet_axis(mu_g_mol, "mean_molecular_weight")[:, None]
+        mu_lv = mu
     r0 = _planet_axis(reference_radius_m, "reference_radius")[:, None]
     p0 = _planet_axis(reference_pressure_Pa, "reference_pressure")[:, None]
     g0 = _planet_axis(reference_gravity_m_s2, "reference_gravity")[:, None]
     gm = g0 * r0**2
     lnp = np.log(p)
 
-    def q(pressure):
-        return K_B * profile.temperature(pressure) / (mu * M_U * gm)
+    def q(pressure, m=mu):
+        return K_B * profile.temperature(pressure) / (m * M_U * gm)
 
     # bridge from ln P0 to the grid's first level
     x, w = _gauss_legendre(16)
@@ -278,7 +430,7 @@ def hydrostatic_radius(pressure_levels_Pa, profile, mu_g_mol, reference_radius_m
     ln_b = lnp[:, :1]
     lnq = ln_a + (ln_b - ln_a) * x[None, :]
     bridge = np.sum(q(np.exp(lnq)) * w[None, :], axis=1, keepdims=True) * (ln_b - ln_a)
-    qi = q(p)
+    qi = q(p, mu_lv)
     steps = 0.5 * (qi[:, 1:] + qi[:, :-1]) * np.diff(lnp, axis=1)
     cum = np.concatenate([np.zeros_like(bridge), np.cumsum(steps, axis=1)], axis=1)
     inv_r = 1.0 / r0 + bridge + cum

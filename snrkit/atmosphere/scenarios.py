@@ -19,7 +19,10 @@ astropy unit, e.g. ``"100 Pa"``)::
     mean_molecular_weight = 2.3          # g/mol, only without mixing_ratios
     temperature = 800                    # K; fixed temperature (overrides the rule)
     temperature_factor = 1.0             # otherwise T = factor x equilibrium temperature
-    temperature_profile = "isothermal"   # or "grey-two-stream" (Guillot 2010)
+    temperature_profile = "isothermal"   # or "grey-two-stream" (Guillot 2010) or "tabulated"
+    temperature_table = { pressure = [1, 0.1, 0.01], temperature = [288, 217, 229] }
+                                         # bar and K; "tabulated" only: T linear in ln P,
+                                         # constant beyond the ends, x temperature_factor
     internal_temperature = 0             # K, grey-two-stream only
     thermal_opacity = 1e-3               # m2/kg, grey-two-stream only
     visible_to_thermal_ratio = 0.4       # grey-two-stream only
@@ -30,7 +33,24 @@ astropy unit, e.g. ``"100 Pa"``)::
     haze_slope = -4                      # d ln sigma / d ln lambda of the haze
     featureless = false                  # true: the flat null spectrum
     feature_scale_heights = 6.2          # band amplitude in H (quick estimate's N_H)
+    [cold_trap]                          # one gas condensed above a tropopause:
+    gas = "H2O"                          #   its mixing_ratios value holds below,
+    tropopause_pressure = 0.2263         #   bar,
+    mixing_ratio_above = 4e-6            #   and this value (at most the one below) above
+    [mixing_ratio_profiles]              # gases whose mixing ratio varies with pressure:
+    O3 = { pressure = [1, 0.01, 1e-4], mixing_ratio = [3e-8, 7e-6, 1e-6] }
+                                         #   bar; linear in ln P, constant beyond the ends;
+                                         #   the mixing_ratios value sets only mu's column value
     [provenance]                         # free text: source, method, date, script
+
+Vertical composition.  With ``cold_trap`` or ``mixing_ratio_profiles`` the
+composition varies with height: at each level the named gases take their
+local value and the fill gas takes the remainder (without a fill gas the
+level's ratios are renormalised to sum to one), and the mean molecular
+weight follows level by level.  The analytic solver is isothermal and
+well-mixed, so a scenario with a vertical composition or a tabulated
+temperature profile is always solved by the layered solver (the spectrum's
+``solver_used`` attribute says so).
 """
 
 import dataclasses
@@ -45,8 +65,8 @@ from ..tables import data_path
 from ..units import to_si, parse_number, scalar_si
 from .composition import normalise_mixing_ratios, species_molar_masses
 
-__all__ = ["Scenario", "SCENARIO_KEYS", "TEMPERATURE_PROFILES", "load_scenario",
-           "list_scenarios", "preset_names", "TEMPERATURE_RANGE_K"]
+__all__ = ["Scenario", "SCENARIO_KEYS", "TEMPERATURE_PROFILES", "COLD_TRAP_KEYS",
+           "load_scenario", "list_scenarios", "preset_names", "TEMPERATURE_RANGE_K"]
 
 #: key -> what it holds (also the list shown in unknown-key errors)
 SCENARIO_KEYS = {
@@ -58,7 +78,8 @@ SCENARIO_KEYS = {
     "mean_molecular_weight": "g/mol (only without mixing_ratios)",
     "temperature": "K (fixed temperature)",
     "temperature_factor": "T = factor x equilibrium temperature",
-    "temperature_profile": "isothermal or grey-two-stream",
+    "temperature_profile": "isothermal, grey-two-stream or tabulated",
+    "temperature_table": "table of pressure (bar, list) and temperature (K, list)",
     "internal_temperature": "K",
     "thermal_opacity": "m2/kg",
     "visible_to_thermal_ratio": "number",
@@ -69,10 +90,16 @@ SCENARIO_KEYS = {
     "haze_slope": "number",
     "featureless": "true or false",
     "feature_scale_heights": "band amplitude in scale heights (quick-estimate N_H)",
+    "cold_trap": "table of gas, tropopause_pressure (bar) and mixing_ratio_above",
+    "mixing_ratio_profiles": "table of species = { pressure = [bar...], mixing_ratio = [...] }",
     "provenance": "table of text",
 }
 
-TEMPERATURE_PROFILES = ("isothermal", "grey-two-stream")
+TEMPERATURE_PROFILES = ("isothermal", "grey-two-stream", "tabulated")
+#: keys of the ``[cold_trap]`` table
+COLD_TRAP_KEYS = {"gas": "a species of mixing_ratios (not the fill gas)",
+                  "tropopause_pressure": "bar",
+                  "mixing_ratio_above": "number in [0, the gas's mixing ratio]"}
 
 _DEFAULT_REFERENCE_PRESSURE_BAR = 1.0
 
@@ -108,6 +135,12 @@ class Scenario:
     source : str
         Where the scenario came from (preset, file path or "table").
     provenance : dict
+    temperature_table : tuple or None
+        ``(pressures [Pa], temperatures [K])`` of a ``tabulated`` profile.
+    cold_trap : dict or None
+        ``{"gas", "tropopause_pressure_Pa", "mixing_ratio_above"}``.
+    mixing_ratio_profiles : dict
+        species -> ``(pressures [Pa], mixing ratios)``.
     """
 
     name: str
@@ -130,10 +163,70 @@ class Scenario:
     feature_scale_heights: object = None
     source: str = "table"
     provenance: dict = dataclasses.field(default_factory=dict)
+    temperature_table: object = None
+    cold_trap: object = None
+    mixing_ratio_profiles: dict = dataclasses.field(default_factory=dict)
+
+    @property
+    def well_mixed(self):
+        """True when every gas has one mixing ratio at all heights."""
+        return self.cold_trap is None and not self.mixing_ratio_profiles
+
+    @property
+    def needs_layers(self):
+        """True when only the layered solver represents the scenario.
+
+        A vertical composition (:attr:`well_mixed` False) or a ``tabulated``
+        temperature profile: the analytic solver is isothermal and well-mixed.
+        """
+        return not self.well_mixed or self.temperature_profile == "tabulated"
+
+    def level_mixing_ratios(self, pressure_Pa):
+        """Mixing ratios and mean molecular weight at given pressures.
+
+        Parameters
+        ----------
+        pressure_Pa : array_like
+            Level pressures [Pa], any shape.
+
+        Returns
+        -------
+        mixing_ratios : dict of str to numpy.ndarray
+            Every gas at every pressure (shape of ``pressure_Pa``), summing to
+            one: the cold-trapped gas at ``mixing_ratio_above`` where the
+            pressure is below the tropopause's, profiled gases interpolated
+            linearly in ln P (constant beyond their tables), the fill gas the
+            remainder (or, without one, all renormalised).
+        mu : numpy.ndarray
+            Mean molecular weight [g/mol], same shape.
+        """
+        p = np.asarray(pressure_Pa, dtype=np.float64)
+        x = {k: np.full(p.shape, float(v)) for k, v in self.mixing_ratios.items()}
+        for gas, (pp, xx) in self.mixing_ratio_profiles.items():
+            order = np.argsort(pp)
+            x[gas] = np.interp(np.log(p), np.log(np.asarray(pp)[order]), np.asarray(xx)[order])
+        if self.cold_trap is not None:
+            gas = self.cold_trap["gas"]
+            above = min(float(self.cold_trap["mixing_ratio_above"]), float(self.mixing_ratios[gas]))
+            x[gas] = np.where(p < self.cold_trap["tropopause_pressure_Pa"], above, x[gas])
+        if self.fill_gas is not None and self.fill_gas in x:
+            rest = sum(v for k, v in x.items() if k != self.fill_gas)
+            x[self.fill_gas] = np.clip(1.0 - rest, 0.0, None)
+        total = sum(x.values())
+        x = {k: v / total for k, v in x.items()}
+        masses = species_molar_masses()
+        mu = sum(v * masses[k] for k, v in x.items())
+        return x, np.asarray(mu, dtype=np.float64)
 
     def temperature(self, equilibrium_temperature_K):
         """Atmosphere temperature [K] for planets of the given T_eq [K] (array)."""
         teq = np.atleast_1d(np.asarray(equilibrium_temperature_K, dtype=np.float64))
+        if self.temperature_table is not None:
+            pp, tt = self.temperature_table
+            order = np.argsort(pp)
+            t_ref = np.interp(math.log(self.reference_pressure_Pa),
+                              np.log(np.asarray(pp)[order]), np.asarray(tt)[order])
+            return np.full(teq.shape, self.temperature_factor * float(t_ref))
         if self.temperature_K is not None:
             return np.full(teq.shape, float(self.temperature_K))
         if np.any(~(teq > 0)):
@@ -157,6 +250,16 @@ class Scenario:
             "haze_enhancement": self.haze_enhancement, "haze_slope": self.haze_slope,
             "featureless": self.featureless,
             "feature_scale_heights": self.feature_scale_heights, "source": self.source,
+            "temperature_table": None if self.temperature_table is None else {
+                "pressure_bar": [v / 1e5 for v in self.temperature_table[0]],
+                "temperature_K": list(self.temperature_table[1])},
+            "cold_trap": None if self.cold_trap is None else {
+                "gas": self.cold_trap["gas"],
+                "tropopause_pressure_bar": self.cold_trap["tropopause_pressure_Pa"] / 1e5,
+                "mixing_ratio_above": self.cold_trap["mixing_ratio_above"]},
+            "mixing_ratio_profiles": {g: {"pressure_bar": [v / 1e5 for v in pp],
+                                          "mixing_ratio": list(xx)}
+                                      for g, (pp, xx) in self.mixing_ratio_profiles.items()},
         }
 
 
@@ -238,6 +341,23 @@ def _merge(base, over):
         out.pop("temperature", None)
     if "temperature" in over and "temperature_factor" not in over:
         out.pop("temperature_factor", None)
+    if "temperature" in over and "temperature_profile" not in over \
+            and out.get("temperature_profile") == "tabulated":
+        out.pop("temperature_profile", None)
+        out.pop("temperature_table", None)
+    if over.get("temperature_profile", "tabulated") != "tabulated" and "temperature_table" not in over:
+        out.pop("temperature_table", None)
+    if over.get("temperature_profile") == "tabulated" and "temperature" not in over:
+        out.pop("temperature", None)
+    if "mixing_ratios" in over and isinstance(over["mixing_ratios"], dict):
+        # vertical structure of gases the new composition no longer has is dropped
+        new = set(over["mixing_ratios"])
+        trap = out.get("cold_trap")
+        if "cold_trap" not in over and isinstance(trap, dict) and trap.get("gas") not in new:
+            out.pop("cold_trap", None)
+        prof = out.get("mixing_ratio_profiles")
+        if "mixing_ratio_profiles" not in over and isinstance(prof, dict):
+            out["mixing_ratio_profiles"] = {g: v for g, v in prof.items() if g in new}
     return out
 
 
@@ -348,13 +468,134 @@ def _validate(t, where, source):
     prov = t.get("provenance", {})
     if not isinstance(prov, dict):
         raise InputError(f"{where}.provenance", prov, "a table of text")
+    table = _temperature_table(t, where, prof)
+    if table is not None and temp is not None:
+        raise InputError(f"{where}.temperature", t["temperature"],
+                         "either temperature or a tabulated temperature_profile, not both")
+    trap = _cold_trap(t, where, x, fill, p_surf)
+    profiles = _mixing_ratio_profiles(t, where, x, fill)
+    if trap is not None and trap["gas"] in profiles:
+        raise InputError(f"{where}.cold_trap.gas", trap["gas"],
+                         "a gas without a mixing_ratio_profiles entry (one vertical rule per gas)")
     return Scenario(name=name.strip(), description=desc, mixing_ratios=x, fill_gas=fill,
                     mean_molecular_weight=mu, temperature_K=temp, temperature_factor=factor,
                     temperature_profile=prof, internal_temperature_K=tint,
                     thermal_opacity_m2_kg=kth, visible_to_thermal_ratio=gam,
                     reference_pressure_Pa=p_ref, surface_pressure_Pa=p_surf,
                     cloud_top_pressure_Pa=p_cloud, haze_enhancement=haze, haze_slope=slope,
-                    featureless=feat, feature_scale_heights=n_h, source=source, provenance={str(k): str(v) for k, v in prov.items()})
+                    featureless=feat, feature_scale_heights=n_h, source=source,
+                    provenance={str(k): str(v) for k, v in prov.items()},
+                    temperature_table=table, cold_trap=trap, mixing_ratio_profiles=profiles)
+
+
+def _number_list(value, field, low, high, unit, low_inclusive=True):
+    """A list of >= 2 finite numbers in [low, high] (or (low, high])."""
+    if not isinstance(value, (list, tuple)) or len(value) < 2 or any(
+            isinstance(v, bool) or not isinstance(v, (int, float)) for v in value):
+        raise InputError(field, value, f"a list of at least 2 numbers{' (' + unit + ')' if unit else ''}")
+    arr = np.asarray(value, dtype=np.float64)
+    bad = ~np.isfinite(arr) | (arr < low if low_inclusive else arr <= low) | (arr > high)
+    if np.any(bad):
+        raise InputError(field, float(arr[bad][0]),
+                         f"numbers in {'[' if low_inclusive else '('}{low:g}, {high:g}] {unit}".rstrip())
+    return arr
+
+
+def _pressure_list(value, field):
+    arr = _number_list(value, field, 0.0, 1e4, "bar", low_inclusive=False)
+    d = np.diff(arr)
+    if not (np.all(d > 0) or np.all(d < 0)):
+        raise InputError(field, value, "strictly increasing or strictly decreasing pressures (bar)")
+    return arr * 1e5
+
+
+def _sub_table(t, key, where, keys):
+    tab = t[key]
+    if not isinstance(tab, dict):
+        raise InputError(f"{where}.{key}", tab, "a table of " + ", ".join(keys))
+    for k in tab:
+        if k not in keys:
+            close = difflib.get_close_matches(str(k), list(keys), n=1, cutoff=0.5)
+            raise UnknownKeyError(f"{where}.{key}.{k}", tab[k], "keys " + ", ".join(keys),
+                                  detail=f"did you mean {close[0]!r}?" if close else "")
+    for k in keys:
+        if k not in tab:
+            raise InputError(f"{where}.{key}.{k}", None, f"a value ({keys[k]}); the key is required")
+    return tab
+
+
+def _temperature_table(t, where, prof):
+    if prof != "tabulated":
+        if "temperature_table" in t:
+            raise InputError(f"{where}.temperature_profile", prof,
+                             'tabulated (a temperature_table needs temperature_profile = "tabulated")')
+        return None
+    if "temperature_table" not in t:
+        raise InputError(f"{where}.temperature_table", None,
+                         "a table { pressure = [bar...], temperature = [K...] } "
+                         '(needed by temperature_profile = "tabulated")')
+    tab = _sub_table(t, "temperature_table", where,
+                     {"pressure": "a list of pressures (bar)",
+                      "temperature": "a list of temperatures (K)"})
+    p = _pressure_list(tab["pressure"], f"{where}.temperature_table.pressure")
+    temp = _number_list(tab["temperature"], f"{where}.temperature_table.temperature",
+                        0.0, 1e5, "K", low_inclusive=False)
+    if temp.size != p.size:
+        raise InputError(f"{where}.temperature_table.temperature", f"{temp.size} values",
+                         f"one temperature per pressure ({p.size})")
+    return (tuple(float(v) for v in p), tuple(float(v) for v in temp))
+
+
+def _cold_trap(t, where, x, fill, p_surf):
+    if "cold_trap" not in t or t["cold_trap"] == {}:
+        return None
+    tab = _sub_table(t, "cold_trap", where, COLD_TRAP_KEYS)
+    gas = tab["gas"]
+    if not isinstance(gas, str) or gas not in x or gas == fill:
+        raise InputError(f"{where}.cold_trap.gas", gas,
+                         "a gas of mixing_ratios other than the fill gas ("
+                         + ", ".join(k for k in x if k != fill) + ")")
+    p_trop = _pressure(tab, "tropopause_pressure", f"{where}.cold_trap")
+    if p_surf is not None and p_trop >= p_surf:
+        raise InputError(f"{where}.cold_trap.tropopause_pressure", f"{p_trop / 1e5:.6g} bar",
+                         f"below the surface pressure ({p_surf / 1e5:.6g} bar)")
+    above = tab["mixing_ratio_above"]
+    if isinstance(above, bool) or not isinstance(above, (int, float)) or not math.isfinite(above) \
+            or not 0.0 <= above <= float(x[gas]) * (1 + 1e-12):
+        raise InputError(f"{where}.cold_trap.mixing_ratio_above", above,
+                         f"a number in [0, {float(x[gas]):.6g}] (at most the {gas} mixing ratio below)")
+    return {"gas": gas, "tropopause_pressure_Pa": p_trop, "mixing_ratio_above": float(above)}
+
+
+def _mixing_ratio_profiles(t, where, x, fill):
+    if "mixing_ratio_profiles" not in t:
+        return {}
+    tab = t["mixing_ratio_profiles"]
+    if not isinstance(tab, dict):
+        raise InputError(f"{where}.mixing_ratio_profiles", tab,
+                         "a table of species = { pressure = [bar...], mixing_ratio = [...] }")
+    out = {}
+    for gas in tab:
+        field = f"{where}.mixing_ratio_profiles.{gas}"
+        if gas not in x or gas == fill:
+            raise InputError(field, gas, "a gas of mixing_ratios other than the fill gas ("
+                             + ", ".join(k for k in x if k != fill) + ")")
+        sub = _sub_table(tab, gas, f"{where}.mixing_ratio_profiles",
+                         {"pressure": "a list of pressures (bar)",
+                          "mixing_ratio": "a list of volume mixing ratios in [0, 1]"})
+        p = _pressure_list(sub["pressure"], f"{field}.pressure")
+        v = _number_list(sub["mixing_ratio"], f"{field}.mixing_ratio", 0.0, 1.0, "")
+        if v.size != p.size:
+            raise InputError(f"{field}.mixing_ratio", f"{v.size} values",
+                             f"one mixing ratio per pressure ({p.size})")
+        out[str(gas)] = (tuple(float(a) for a in p), tuple(float(a) for a in v))
+    if out:
+        fixed = sum(float(v) for k, v in x.items() if k != fill and k not in out)
+        peak = fixed + sum(max(v) for _, v in out.values())
+        if fill is not None and peak > 1.0 + 1e-6:
+            raise InputError(f"{where}.mixing_ratio_profiles", f"peak sum {peak:.6g}",
+                             "profiles leaving room for the fill gas (sum of mixing ratios <= 1)")
+    return out
 
 
 def load_scenario(spec, field="scenario"):

@@ -491,8 +491,11 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
     source : object
         Opacity source with the functions of :mod:`snrkit.atmosphere.opacity`
         and :mod:`snrkit.atmosphere.continuum` (see ATMOSPHERE_INTERFACE).
-    mixing_ratios : dict of str to float
-        Volume mixing ratios.
+    mixing_ratios : dict of str to float or numpy.ndarray
+        Volume mixing ratios: one value per gas, or per level (arrays
+        broadcast against ``temperature_K``, e.g. from
+        :meth:`snrkit.atmosphere.scenarios.Scenario.level_mixing_ratios`);
+        lines, Rayleigh scattering and CIA all use the local value.
     wavelength_edges_m : numpy.ndarray, shape (n_wave + 1,)
         Bin edges [m].
     temperature_K : numpy.ndarray, shape (n_planet, n_levels)
@@ -523,7 +526,8 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
     T = np.asarray(temperature_K, dtype=np.float64)
     _, gw = source.g_quadrature(n_g)
     gw = np.asarray(gw, dtype=np.float64)
-    x = {k: float(v) for k, v in mixing_ratios.items() if k != exclude and float(v) > 0}
+    x = {k: np.asarray(v, dtype=np.float64) for k, v in mixing_ratios.items()
+         if k != exclude and np.any(np.asarray(v) > 0)}
     nw = centres.size
     ks, vs = [], []
     kw = {}
@@ -533,7 +537,7 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
     for sp in source.OPACITY_SPECIES:
         if sp in x:
             ks.append(np.asarray(source.species_k_coefficients(sp, edges, T, n_g=n_g, **kw)))
-            vs.append(np.full(T.shape, x[sp]))
+            vs.append(np.broadcast_to(x[sp], T.shape))
     if ks:
         line = np.asarray(source.combine_random_overlap(ks, vs, gw))
     else:
@@ -541,14 +545,14 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
     ray = np.zeros(nw)
     for sp in source.RAYLEIGH_SPECIES:
         if sp in x:
-            ray = ray + x[sp] * np.asarray(source.rayleigh_cross_section(sp, centres))
+            ray = ray + x[sp][..., None] * np.asarray(source.rayleigh_cross_section(sp, centres))
     if haze_enhancement > 0:
         ray = ray + np.asarray(source.haze_cross_section(centres, haze_enhancement, haze_slope))
     cia = np.zeros(T.shape + (nw,))
     for pair in source.CIA_PAIRS:
         a, b = _CIA_SPECIES.get(pair, (None, None))
         if a in x and b in x:
-            cia = cia + x[a] * x[b] * np.asarray(source.cia_coefficient(pair, centres, T))
+            cia = cia + (x[a] * x[b])[..., None] * np.asarray(source.cia_coefficient(pair, centres, T))
     return {"line": line, "continuum": np.broadcast_to(ray, T.shape + (nw,)),
             "cia": cia, "g_weights": gw}
 
@@ -657,7 +661,11 @@ def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressur
 
 
 def _profile_for(sc, temperature_K, gravity):
-    from .profiles import IsothermalProfile, GreyTwoStreamProfile
+    from .profiles import IsothermalProfile, GreyTwoStreamProfile, TabulatedProfile
+    if sc.temperature_profile == "tabulated":
+        npl = np.size(temperature_K)
+        return TabulatedProfile(*sc.temperature_table, factor=np.full(npl, sc.temperature_factor),
+                                reference_pressure_Pa=np.full(npl, sc.reference_pressure_Pa))
     if sc.temperature_profile == "grey-two-stream":
         return GreyTwoStreamProfile(temperature_K, gravity, sc.internal_temperature_K,
                                     sc.thermal_opacity_m2_kg, sc.visible_to_thermal_ratio)
@@ -699,7 +707,9 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
         _, gw = source.g_quadrature(n_g) if source is not None else (None, np.ones(1))
         return np.broadcast_to(rp[:, None, None], (npl, nw, np.size(gw))).copy(), \
             np.asarray(gw, dtype=np.float64), extras
-    if solver == "analytic":
+    # the analytic solver is isothermal and well-mixed: other scenarios take the layered one
+    extras["layered_fallback"] = np.full(npl, solver == "analytic" and sc.needs_layers)
+    if solver == "analytic" and not sc.needs_layers:
         t_iso = profile.reference_temperature()
         grid_p = _line_shape_pressures(source) if pressure_broadening else None
         nodes = None if grid_p is None else np.broadcast_to(grid_p, (npl, grid_p.size))
@@ -722,7 +732,8 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
         extras["top_limited"] = sat.any(axis=(1, 2))
         return radius, op["g_weights"], extras
     levels = pressure_levels(floor, np.full(npl, p_top), n_layers)
-    r = hydrostatic_radius(levels, profile, mu, rp, p0, g0)
+    mix, mu_lv = (sc.mixing_ratios, mu) if sc.well_mixed else sc.level_mixing_ratios(levels)
+    r = hydrostatic_radius(levels, profile, mu_lv, rp, p0, g0)
     bad = ~np.all(np.isfinite(r), axis=1)
     if bad.any():
         import warnings
@@ -733,7 +744,7 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
         r = np.where(bad[:, None], rp[:, None] * (1.0 + np.linspace(0, 1, r.shape[1])), r)
     temp = profile.temperature(levels)
     n = levels / (K_B * temp)
-    op = mixture_opacity(source, sc.mixing_ratios, edges, temp, n_g, sc.haze_enhancement,
+    op = mixture_opacity(source, mix, edges, temp, n_g, sc.haze_enhancement,
                          sc.haze_slope, exclude,
                          pressure_Pa=levels if pressure_broadening else None)
     alpha = n[:, :, None, None] * (op["line"] + op["continuum"][..., None]) \
@@ -741,7 +752,8 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
     radius = layered_radius(alpha, r)
     radius[bad] = np.nan
     # opacity still significant at the top: chord depth of the top level > 1e-2
-    h_top = scale_height(temp[:, -1], mu, g0 * (rp / r[:, -1]) ** 2)
+    h_top = scale_height(temp[:, -1], mu_lv[:, -1] if np.ndim(mu_lv) == 2 else mu,
+                         g0 * (rp / r[:, -1]) ** 2)
     tau_top = alpha[:, -1] * np.sqrt(2.0 * np.pi * r[:, -1] * h_top)[:, None, None]
     extras["top_limited"] = np.any(tau_top > 1e-2, axis=(1, 2))
     return radius, op["g_weights"], extras
@@ -757,7 +769,7 @@ def _solve_depth(sc, *, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n
     """Bin-average depth (n_planet, n_wave) and extras, solving planet chunks in turn."""
     npl = rp.shape[0]
     per_planet = (edges.size - 1) * max(int(n_g), 1) * (
-        (n_layers or 150) + 1 if solver == "layers" else 16)
+        (n_layers or 150) + 1 if solver == "layers" or sc.needs_layers else 16)
     step = max(1, int(_CHUNK_ELEMENTS // per_planet))
     depths, extras = [], []
     for i in range(0, npl, step):
@@ -1139,6 +1151,10 @@ def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0):
         },
         attrs={"scenario": sc.name, "scenario_description": sc.description},
     )
+    if np.any(ex.get("layered_fallback", False)):
+        ds.attrs["solver_used"] = ("layers (the scenario has a vertical composition or a tabulated "
+                                   "temperature profile, which the isothermal, well-mixed "
+                                   "analytic solver cannot represent)")
     if np.any(np.isfinite(ex["refraction_floor"])):
         ds["refraction_floor_bar"] = ("planet", ex["refraction_floor"] / 1e5, {"units": "bar"})
     return ds
