@@ -463,7 +463,7 @@ def transits_needed(lambda_of_n, target_lambda, n_max):
 
 def _linear_transits_needed(lam1, target, n_max):
     """N = ceil(target / lambda_1) where lambda(N) = N lambda_1 (0: beyond n_max)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         n = np.ceil(target / lam1 * (1.0 - 1e-12))
     n = np.where((lam1 > 0) & np.isfinite(n), np.maximum(n, 1.0), np.inf)
     return np.where(n <= n_max, n, 0).astype(np.int64)

@@ -17,8 +17,9 @@ from snrkit.errors import InputError, UnknownKeyError
 TRAP = {"gas": "H2O", "tropopause_pressure": 0.2, "mixing_ratio_above": 4e-6}
 BASE = {"mixing_ratios": {"O2": 0.21, "H2O": 3e-3, "CO2": 4e-4}, "fill_gas": "N2",
         "surface_pressure": 1.0}
+# radius at the reference pressure, so that heights are comparable between scenarios
 PLANET = dict(planet_radius=1.0, planet_mass=1.0, stellar_radius=1.0,
-              equilibrium_temperature=255.0)
+              equilibrium_temperature=255.0, radius_calibration="reference-pressure")
 
 
 def test_presets_that_are_temperate_have_a_cold_trap():
@@ -175,5 +176,6 @@ def test_analytic_solver_falls_back_to_layers_for_a_cold_trap():
     band = (w > 5.5) & (w < 7.5)
     mixed = S.transmission_spectrum(BASE, resolution=20, solver="layers", **PLANET)
     drop = (mixed["effective_height_km"] - b["effective_height_km"]).values[0]
-    assert np.all(drop > -1e-6)
+    # (1 m, 1e-4 H: the water profile changes the per-level mean molecular weight slightly)
+    assert np.all(drop > -1e-3)
     assert np.max(drop[band]) > 3 * float(b["scale_height_km"].values[0])

@@ -7,7 +7,6 @@ atomic weights).
 """
 
 import difflib
-import math
 
 import numpy as np
 

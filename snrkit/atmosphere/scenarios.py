@@ -55,6 +55,7 @@ temperature profile is always solved by the layered solver (the spectrum's
 
 import dataclasses
 import difflib
+import math
 from pathlib import Path
 
 import numpy as np

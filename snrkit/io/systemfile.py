@@ -264,7 +264,6 @@ def _system_from_doc(doc, source):
         raise InputError("planet", planets, "one or more [[planet]] tables",
                          detail=f"missing in {source}")
     star = _star_from_table(doc["star"], source)
-    columns = {}
     names = []
     mus, temps, factors, atms, obs = [], [], [], [], []
     for i, tbl in enumerate(planets):
