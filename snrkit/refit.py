@@ -111,7 +111,7 @@ def _bounded_minimum(cost, start, lows, highs):
 
 
 def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fraction, spec_kw,
-               transmission_spectrum):
+               transmission_spectrum, null_scale=None):
     """Best-fitting null spectrum per planet over the chosen continuum parameters.
 
     Parameters
@@ -128,6 +128,9 @@ def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fracti
         One-transit noise (NaN: bin unused).
     rp, rs, radius_fraction : numpy.ndarray (planet,)
         Radii [R_earth, R_sun] and fractional radius uncertainty.
+    null_scale : (float, float), optional
+        Bounds of the free factor on the null (species test), so that the fit
+        minimises the same statistic the test then evaluates.
 
     Returns
     -------
@@ -162,8 +165,9 @@ def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fracti
 
         def cost(theta, ok=ok, i=i, model=model):
             m = model(theta)
-            chi = float(dt.profiled_delta_chi2(np.where(ok, data[i] - m, 0.0),
-                                               np.where(ok, sigma[i], np.nan)))
+            chi = float(dt.nested_delta_chi2(np.where(ok, data[i], 0.0), np.where(ok, m, 0.0),
+                                             np.where(ok, sigma[i], np.nan),
+                                             null_scale=null_scale))
             if "reference_radius" in names:
                 f = theta[names.index("reference_radius")]
                 chi += ((f - 1.0) / radius_fraction[i]) ** 2

@@ -407,7 +407,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
     d = obs["derived"]
-    truth_ds = transmission_spectrum(sc, obs["rp"], obs["rs"], contributions=(kind == "species"),
+    truth_ds = transmission_spectrum(sc, obs["rp"], obs["rs"],
+                                     contributions=[arg] if kind == "species" else False,
                                      **obs["spec_kw"])
     truth = np.asarray(truth_ds["transit_depth_ppm"].values, dtype=np.float64)
     null, label = _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
@@ -420,7 +421,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
         null, refit_values = refit_null(
             alt_sc, arg if kind == "species" else None, list(refit), data, null,
             np.sqrt(obs["white"] ** 2 + obs["floor"] ** 2), obs["rp"], obs["rs"],
-            _radius_fraction(system, d), obs["spec_kw"], transmission_spectrum)
+            _radius_fraction(system, d), obs["spec_kw"], transmission_spectrum,
+            null_scale=hy.SPECIES_SCALE if kind == "species" else None)
     models = hy.build_models("atmosphere" if kind == hy.GOODNESS_OF_FIT else kind, truth, null,
                              eps, fitted, goodness_of_fit=(kind == hy.GOODNESS_OF_FIT))
     res, used = hy.run_test(models, obs, sigma=sigma, probabilities=probabilities,

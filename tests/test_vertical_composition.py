@@ -2,8 +2,8 @@
 
 Cold traps (``[cold_trap]``), mixing-ratio profiles (``[mixing_ratio_profiles]``)
 and tabulated temperature profiles (``temperature_profile = "tabulated"``):
-parsing, one-line errors, per-level opacity and the analytic solver's
-fallback to the layered solver.
+parsing, one-line errors, per-level opacity, the analytic solver's cold trap
+and its fallback to the layered solver for the others.
 """
 
 import numpy as np
@@ -163,14 +163,17 @@ def test_per_level_mixing_ratios_reach_lines_rayleigh_and_cia():
     assert not np.allclose(many["continuum"][:, 0], many["continuum"][:, 1], rtol=1e-3, atol=0)
 
 
-def test_analytic_solver_falls_back_to_layers_for_a_cold_trap():
+def test_analytic_solver_handles_a_cold_trap():
+    # The analytic solver takes a cold trap through its two compositions (the radius is
+    # median(r_stratosphere, r_tropopause, r_troposphere), snrkit.atmosphere.spectrum):
+    # within 0.3 H of the layered solver in every bin.
     trap = {**BASE, "cold_trap": TRAP}
     a = S.transmission_spectrum(trap, resolution=20, solver="analytic", **PLANET)
     b = S.transmission_spectrum(trap, resolution=20, solver="layers", **PLANET)
-    assert "layers" in a.attrs["solver_used"]
-    np.testing.assert_allclose(a["transit_depth_ppm"], b["transit_depth_ppm"], rtol=1e-12)
-    plain = S.transmission_spectrum(BASE, resolution=20, solver="analytic", **PLANET)
-    assert "solver_used" not in plain.attrs
+    assert "solver_used" not in a.attrs
+    h = float(b["scale_height_km"].values[0])
+    dev = np.abs(a["effective_height_km"].values - b["effective_height_km"].values) / h
+    assert dev.max() < 0.3
     # the trap lowers the water bands and nothing else rises
     w = a["wavelength"].values
     band = (w > 5.5) & (w < 7.5)

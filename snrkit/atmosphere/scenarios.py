@@ -48,9 +48,11 @@ composition varies with height: at each level the named gases take their
 local value and the fill gas takes the remainder (without a fill gas the
 level's ratios are renormalised to sum to one), and the mean molecular
 weight follows level by level.  The analytic solver is isothermal and
-well-mixed, so a scenario with a vertical composition or a tabulated
-temperature profile is always solved by the layered solver (the spectrum's
-``solver_used`` attribute says so).
+well-mixed: it takes a cold trap through its two compositions (see
+``_analytic_cold_trap`` in :mod:`snrkit.atmosphere.spectrum`), while a
+scenario with mixing-ratio profiles or a tabulated temperature profile is
+solved by the layered solver (the spectrum's ``solver_used`` attribute says
+so).
 """
 
 import dataclasses

@@ -566,15 +566,18 @@ GRID_OPACITY_NODES = 64
 
 #: Passes of the analytic solver with line shapes at the pressure of its root.
 ROOT_PRESSURE_PASSES = 3
+#: Spacing [decades] of the pressure nodes at which the analytic solver takes the
+#: line shapes (k ~ P^s is interpolated between them).
+LINE_SHAPE_DECADES = 2.0
 
 
 def _line_shape_pressures(source):
-    """Pressure nodes [Pa] (one per decade) of the line-shape tables, or None."""
+    """Pressure nodes [Pa] (every LINE_SHAPE_DECADES decades) of the line-shape tables, or None."""
     rng = getattr(source, "PRESSURE_RANGE_PA", None)
     if rng is None:
         return None
     lo, hi = np.log10(rng[0]), np.log10(rng[1])
-    return 10.0 ** np.arange(np.floor(lo), np.ceil(hi) + 0.5)
+    return 10.0 ** np.arange(np.floor(lo), np.ceil(hi) + 0.5, LINE_SHAPE_DECADES)
 
 
 def _analytic_at_root_pressure(line_p, grid_p, args):
@@ -619,7 +622,8 @@ def _analytic_at_root_pressure(line_p, grid_p, args):
     return radius, sat
 
 
-def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressures=None):
+def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressures=None,
+                                 mixing_ratios=None):
     """Mixture opacity for many isothermal planets through a temperature grid.
 
     The random-overlap mixture is computed at :data:`GRID_OPACITY_NODES`
@@ -632,12 +636,13 @@ def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressur
     t = np.asarray(t_iso, dtype=np.float64)
     lo, hi = float(np.min(t)), float(np.max(t))
     grid = np.array([lo]) if hi <= lo * (1 + 1e-9) else np.geomspace(lo, hi, GRID_OPACITY_NODES)
+    mix = sc.mixing_ratios if mixing_ratios is None else mixing_ratios
     if pressures is None:
-        op = mixture_opacity(source, sc.mixing_ratios, edges, grid[:, None], n_g,
+        op = mixture_opacity(source, mix, edges, grid[:, None], n_g,
                              sc.haze_enhancement, sc.haze_slope, exclude)
     else:
         shape = (grid.size, np.size(pressures))
-        op = mixture_opacity(source, sc.mixing_ratios, edges,
+        op = mixture_opacity(source, mix, edges,
                              np.broadcast_to(grid[:, None], shape), n_g, sc.haze_enhancement,
                              sc.haze_slope, exclude, pressure_Pa=np.broadcast_to(pressures, shape))
     if grid.size == 1:
@@ -670,6 +675,65 @@ def _profile_for(sc, temperature_K, gravity):
         return GreyTwoStreamProfile(temperature_K, gravity, sc.internal_temperature_K,
                                     sc.thermal_opacity_m2_kg, sc.visible_to_thermal_ratio)
     return IsothermalProfile(temperature_K)
+
+
+def _only_cold_trap(sc):
+    """True when the scenario's one departure from the analytic solver is a cold trap."""
+    return (sc.cold_trap is not None and not sc.mixing_ratio_profiles
+            and sc.temperature_profile != "tabulated")
+
+
+def _analytic_for(mixing_ratios, tag, *, source, sc, edges, t_iso, n_g, exclude, memo,
+                  pressure_broadening, args):
+    """Analytic radii (planet, bin, g), the top flags and the g weights for one composition."""
+    npl = t_iso.shape[0]
+    grid_p = _line_shape_pressures(source) if pressure_broadening else None
+    nodes = None if grid_p is None else np.broadcast_to(grid_p, (npl, grid_p.size))
+    key = (tag, exclude, t_iso.tobytes())
+    op = None if memo is None else memo.get(key)
+    if op is None and npl >= GRID_OPACITY_MIN_PLANETS:
+        op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, grid_p,
+                                          mixing_ratios)
+    elif op is None:
+        tt = t_iso[:, None] if nodes is None else np.broadcast_to(t_iso[:, None], nodes.shape)
+        op = mixture_opacity(source, mixing_ratios, edges, tt, n_g, sc.haze_enhancement,
+                             sc.haze_slope, exclude, pressure_Pa=nodes)
+    if memo is not None:
+        memo[key] = op
+    full = (op["continuum"][:, 0], op["cia"][:, 0]) + tuple(args)
+    if grid_p is None:
+        radius, sat = analytic_radius(op["line"][:, 0], *full)
+    else:
+        radius, sat = _analytic_at_root_pressure(op["line"], grid_p, full)
+    return radius, sat, op["g_weights"]
+
+
+def _analytic_cold_trap(**kw):
+    """Analytic radii for a gas cold-trapped above a tropopause.
+
+    The chord at impact parameter b above the tropopause radius r_t sees only
+    the stratospheric composition; a chord below it is dominated by the gas
+    near its lowest point, i.e. the troposphere.  With r_s and r_l the roots of
+    the isothermal formula for the stratospheric and the tropospheric
+    compositions (r_s <= r_l), the radius is therefore r_s if r_s lies above
+    the tropopause, r_l if r_l lies below it, and r_t where the opacity jump
+    at the tropopause itself makes the atmosphere turn opaque: median(r_s,
+    r_t, r_l) (derived here; checked against the layered solver).
+    """
+    from ..constants import M_U
+    sc = kw["sc"]
+    trap = sc.cold_trap
+    strat = dict(sc.mixing_ratios)
+    strat[trap["gas"]] = min(float(trap["mixing_ratio_above"]), float(strat[trap["gas"]]))
+    r_l, sat_l, gw = _analytic_for(sc.mixing_ratios, "troposphere", **kw)
+    r_s, sat_s, _ = _analytic_for(strat, "stratosphere", **kw)
+    t_iso, mu, r0, p0, g0 = kw["args"][:5]
+    h0 = K_B * t_iso / (mu * M_U * g0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        u_t = (1.0 + np.log(trap["tropopause_pressure_Pa"] / p0) * h0 / r0) / r0
+    r_t = np.where(u_t > 0, 1.0 / u_t, np.inf)[:, None, None]
+    radius = np.clip(r_t, r_s, r_l)
+    return radius, np.where(radius >= r_l, sat_l, sat_s), gw
 
 
 def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top, refraction,
@@ -707,30 +771,21 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
         _, gw = source.g_quadrature(n_g) if source is not None else (None, np.ones(1))
         return np.broadcast_to(rp[:, None, None], (npl, nw, np.size(gw))).copy(), \
             np.asarray(gw, dtype=np.float64), extras
-    # the analytic solver is isothermal and well-mixed: other scenarios take the layered one
-    extras["layered_fallback"] = np.full(npl, solver == "analytic" and sc.needs_layers)
-    if solver == "analytic" and not sc.needs_layers:
+    # the analytic solver is isothermal and well-mixed (a cold trap through the two
+    # compositions, _analytic_cold_trap); other scenarios take the layered one
+    analytic_ok = sc.well_mixed or _only_cold_trap(sc)
+    extras["layered_fallback"] = np.full(npl, solver == "analytic" and not analytic_ok)
+    if solver == "analytic" and analytic_ok:
         t_iso = profile.reference_temperature()
-        grid_p = _line_shape_pressures(source) if pressure_broadening else None
-        nodes = None if grid_p is None else np.broadcast_to(grid_p, (npl, grid_p.size))
-        key = (exclude, t_iso.tobytes())
-        op = None if memo is None else memo.get(key)
-        if op is None and npl >= GRID_OPACITY_MIN_PLANETS:
-            op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, grid_p)
-        elif op is None:
-            tt = t_iso[:, None] if nodes is None else np.broadcast_to(t_iso[:, None], nodes.shape)
-            op = mixture_opacity(source, sc.mixing_ratios, edges, tt, n_g,
-                                 sc.haze_enhancement, sc.haze_slope, exclude, pressure_Pa=nodes)
-        if memo is not None:
-            memo[key] = op
-        args = (op["continuum"][:, 0], op["cia"][:, 0], t_iso, mu, rp, p0, g0, floor,
-                np.full(npl, p_top))
-        if grid_p is None:
-            radius, sat = analytic_radius(op["line"][:, 0], *args)
+        kw = dict(source=source, sc=sc, edges=edges, t_iso=t_iso, n_g=n_g, exclude=exclude,
+                  memo=memo, pressure_broadening=pressure_broadening,
+                  args=(t_iso, mu, rp, p0, g0, floor, np.full(npl, p_top)))
+        if sc.well_mixed:
+            radius, sat, gw = _analytic_for(sc.mixing_ratios, "mixed", **kw)
         else:
-            radius, sat = _analytic_at_root_pressure(op["line"], grid_p, args)
+            radius, sat, gw = _analytic_cold_trap(**kw)
         extras["top_limited"] = sat.any(axis=(1, 2))
-        return radius, op["g_weights"], extras
+        return radius, gw, extras
     levels = pressure_levels(floor, np.full(npl, p_top), n_layers)
     mix, mu_lv = (sc.mixing_ratios, mu) if sc.well_mixed else sc.level_mixing_ratios(levels)
     r = hydrostatic_radius(levels, profile, mu_lv, rp, p0, g0)
@@ -769,7 +824,8 @@ def _solve_depth(sc, *, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n
     """Bin-average depth (n_planet, n_wave) and extras, solving planet chunks in turn."""
     npl = rp.shape[0]
     per_planet = (edges.size - 1) * max(int(n_g), 1) * (
-        (n_layers or 150) + 1 if solver == "layers" or sc.needs_layers else 16)
+        (n_layers or 150) + 1 if solver == "layers" or not (sc.well_mixed or _only_cold_trap(sc))
+        else 16)
     step = max(1, int(_CHUNK_ELEMENTS // per_planet))
     depths, extras = [], []
     for i in range(0, npl, step):
@@ -919,9 +975,10 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
     exclude_species : str, optional
         Leave this species' opacity out (mean molecular weight unchanged), as
         in the ``depth_without_species_ppm`` contributions.
-    contributions : bool
+    contributions : bool or sequence of str
         Also compute the spectrum with each absorbing species removed
-        (``depth_without_species_ppm``), on the same reference radius.
+        (``depth_without_species_ppm``), on the same reference radius; a
+        sequence limits this to the species named.
     radius_calibration : {"observed-depth", "reference-pressure"}
         ``"observed-depth"`` (default): the radius at the scenario's
         reference pressure is solved so that the model's band-averaged depth
@@ -1049,8 +1106,10 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0 + delta)
         if contributions:
             import xarray as xr
+            wanted = None if contributions is True else set(contributions)
             absorbers = ([] if sc.featureless else
-                         [k for k in sc.mixing_ratios if _absorbs(source, k)])
+                         [k for k in sc.mixing_ratios if _absorbs(source, k)
+                          and (wanted is None or k in wanted)])
             rows = []
             for sp in absorbers:
                 d_x, _ = _solve_depth(sc, rp=r0, g0=g0c, exclude=sp, **solve_kw)
