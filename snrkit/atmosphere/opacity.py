@@ -525,11 +525,32 @@ def _alkali_native_kdist(species, pressure, n_g):
     return _grouped_rebin(sig, w, idx, _N_NATIVE, n_g)
 
 
+#: Data files whose contents key the disk cache of the native k-distributions.
+_KDIST_DATA = ("opacity/malkmus_bands.npz", "opacity/bands.ecsv", "opacity/alkali_lines.ecsv")
+
+
+@lru_cache(maxsize=16)
 def _native_kdist(species, pressure, n_g):
-    """(n_T, n_native, n_g) k-distributions of the native bins [m^2]."""
-    if species in ATOMIC_SPECIES:
-        return _alkali_native_kdist(species, pressure, n_g)
-    return _molecular_native_quantiles(species, pressure, _gl(n_g)[0])
+    """(n_T, n_native, n_g) k-distributions of the native bins [m^2].
+
+    Kept in memory and, as ln k in float32 (1e-7 relative in ln k; k below
+    1e-300 m^2 is stored as 1e-300, far below the tables' floor), in the
+    per-user disk cache (:mod:`snrkit.atmosphere.kcache`).
+    """
+    from .kcache import cached_array, data_key
+
+    def build():
+        if species in ATOMIC_SPECIES:
+            k = _alkali_native_kdist(species, pressure, n_g)
+        else:
+            k = _molecular_native_quantiles(species, pressure, _gl(n_g)[0])
+        return np.log(np.maximum(k, 1e-300))
+    shape = (table_temperatures().size, _N_NATIVE, n_g)
+    lnk = cached_array(f"lnk-{species}-{pressure:.6g}Pa-g{n_g}", data_key(*_KDIST_DATA),
+                       shape, build)
+    k = np.exp(lnk.astype(np.float64))
+    k.setflags(write=False)
+    return k
 
 
 def native_mean_cross_section(species, temperature_K=296.0, pressure_Pa=None):
@@ -724,12 +745,18 @@ def species_k_coefficients(species, wavelength_edges_m, temperature_K, n_g=8, *,
         lnk = np.zeros((t.size, edges.size - 1, n_g))
         for i in np.unique(ip):
             sel = ip == i
-            lo_ = _k_table_cached(species, key, n_g, float(_PRESSURE_GRID_PA[i]))
-            hi_ = _k_table_cached(species, key, n_g, float(_PRESSURE_GRID_PA[i + 1]))
             f = fp[sel][:, None, None]
-            a = lo_[jt0[sel]] * (1.0 - ft[sel]) + lo_[jt1[sel]] * ft[sel]
-            b = hi_[jt0[sel]] * (1.0 - ft[sel]) + hi_[jt1[sel]] * ft[sel]
-            lnk[sel] = a * (1.0 - f) + b * f
+
+            def at(node, sel=sel):
+                tab = _k_table_cached(species, key, n_g, float(_PRESSURE_GRID_PA[node]))
+                return tab[jt0[sel]] * (1.0 - ft[sel]) + tab[jt1[sel]] * ft[sel]
+            # a pressure on a table node needs that node's table only
+            if np.all(f == 0.0):
+                lnk[sel] = at(i)
+            elif np.all(f == 1.0):
+                lnk[sel] = at(i + 1)
+            else:
+                lnk[sel] = at(i) * (1.0 - f) + at(i + 1) * f
     k = np.exp(lnk)
     k[lnk <= _LN_K_FLOOR + 1e-3] = 0.0
     return k.reshape(lead + (edges.size - 1, n_g))
