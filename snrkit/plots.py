@@ -77,18 +77,21 @@ def plot_transits(result, path, seed=0):
         floor = ds["floor_ppm"].values[i]
         ok = np.isfinite(white)
         wl = ds["wavelength"].values
-        ax2.plot(wl, np.where(ok, model, np.nan), color="C0", lw=0.8, label="model")
+        ax2.plot(wl, np.where(ok, model, np.nan), color="C0", lw=0.8, label=rec["scenario"])
+        if "observed_depth_ppm" in ds:
+            ax2.axhline(float(ds["observed_depth_ppm"].values[i]), color="0.4", ls=":", lw=0.8,
+                        label="observed depth")
         ax2.plot(wl, np.where(ok, ds["null_ppm"].values[i], np.nan), color="C1", lw=0.8,
                  label=f"null: {rec['null_model']}")
-        # Display bins: white noise combines as 1/sqrt(k) within a group; the
-        # floor is taken as fully correlated inside a group (it does not shrink).
+        # Display bins: white noise and the floor (white in wavelength, see
+        # snrkit.photons.precision) both combine as 1/sqrt(k) within a group.
         x, y, e = [], [], []
         for g in groups:
             g = g[ok[g]]
             if g.size == 0:
                 continue
             wn = np.sqrt(np.sum(white[g] ** 2)) / g.size
-            fl = np.mean(floor[g])
+            fl = np.sqrt(np.sum(floor[g] ** 2)) / g.size
             sim, sig = simulated_spectrum(np.mean(model[g]), wn, fl, n_show,
                                           bool(ds.attrs.get("floor_averages_down", 0)), rng)
             x.append(np.mean(wl[g]))

@@ -215,6 +215,9 @@ def result_dataset(ctx, planets):
             "probability": (("planet", "transits"), res["curve_probability"]),
             "transits_needed": ("planet", np.array([p["transits_needed"] or 0 for p in planets])),
             "groups_per_integration": ("planet", np.asarray(used["groups"])),
+            "observed_depth_ppm": ("planet", np.asarray(ctx["truth_ds"]["observed_depth_ppm"].values),
+                                   {"units": "ppm", "long_name": "observed transit depth, to which "
+                                    "the model's photon-weighted band average is calibrated"}),
         },
         coords={"planet": names, "wavelength": ("wavelength", obs["wl"], {"units": "um"}),
                 "wavelength_lower": ("wavelength", edges_um[:-1], {"units": "um"}),
