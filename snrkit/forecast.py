@@ -21,7 +21,7 @@ from .detect import stack_transits, noise_per_bin
 from .errors import InputError
 
 __all__ = ["fisher_matrix", "fisher_errors", "numerical_jacobian", "fisher_forecast",
-           "feature_scale_draws", "transits_distribution", "programme_hours",
+           "feature_scale_draws", "transits_distribution", "spread_summary", "programme_hours",
            "DEFAULT_OVERHEAD_HOURS"]
 
 #: Default per-visit overhead [h] (slew, settling, target acquisition):
@@ -207,7 +207,16 @@ def transits_distribution(truth, alternative, sigma1, scale_draws, *, floor=0.0,
                          floor=floor, floor_averages=floor_averages, dof=dof, sigma=sigma,
                          probabilities=(), n_max=n_max, n_curve=[1], templates=tm,
                          template_sigma=template_sigma)
-    n = res["transits_needed"].astype(np.float64)
+    return spread_summary(res["transits_needed"])
+
+
+def spread_summary(transits_needed):
+    """16th, 50th and 84th percentiles over draws (axis 0) of the transits needed.
+
+    A draw that never reaches the target (0) counts as infinitely many
+    transits, so a percentile beyond the reachable draws is NaN.
+    """
+    n = np.asarray(transits_needed, dtype=np.float64).copy()
     n[n == 0] = np.inf
     frac = np.mean(np.isfinite(n), axis=0)
     with np.errstate(invalid="ignore"):

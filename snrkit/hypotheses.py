@@ -305,10 +305,5 @@ def transits_spread(models, used, obs, scale, *, sigma, n_max):
     res = _stack(scaled, np.broadcast_to(used["white"], scaled.data.shape),
                  np.broadcast_to(obs["floor"], scaled.data.shape), usable, obs["floor_averages"],
                  sigma=sigma, probabilities=(), n_max=n_max, n_curve=[1])
-    n = res["transits_needed"].astype(np.float64)
-    n[n == 0] = np.inf
-    frac = np.mean(np.isfinite(n), axis=0)
-    with np.errstate(invalid="ignore"):
-        q = np.percentile(n, [16, 50, 84], axis=0, method="inverted_cdf")
-    q = np.where(np.isfinite(q), q, np.nan)
-    return {"p16": q[0], "median": q[1], "p84": q[2], "fraction_reachable": frac}
+    from .forecast import spread_summary
+    return spread_summary(res["transits_needed"])

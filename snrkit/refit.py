@@ -85,27 +85,23 @@ def _bounded_minimum(cost, start, lows, highs):
     x0 = np.asarray(start, dtype=np.float64)
     lo, hi = np.asarray(lows), np.asarray(highs)
     span = hi - lo
-    # initial simplex: a tenth of each range, stepping inwards from the start
-    simplex = [x0]
-    for k in range(x0.size):
-        x = x0.copy()
-        step = 0.1 * span[k]
-        x[k] = x[k] + step if x[k] + step <= hi[k] else x[k] - step
-        simplex.append(x)
+    def simplex_at(x0, fraction):
+        """A start and one step of ``fraction`` of each range, stepping inwards."""
+        pts = [x0]
+        for k in range(x0.size):
+            x = x0.copy()
+            step = fraction * span[k]
+            x[k] = x[k] + step if x[k] + step <= hi[k] else x[k] - step
+            pts.append(x)
+        return np.array(pts)
     opts = {"xatol": 1e-4 * span.max(), "fatol": 1e-4, "maxfev": 200 * x0.size}
     res = minimize(cost, x0, method="Nelder-Mead", bounds=list(zip(lo, hi)),
-                   options={"initial_simplex": np.array(simplex), **opts})
+                   options={"initial_simplex": simplex_at(x0, 0.1), **opts})
     best = np.clip(res.x, lo, hi)
     # one restart from the best point with a fresh simplex: Nelder-Mead can stall on a
     # collapsed simplex, and a stalled null would overstate the significance
-    simplex = [best]
-    for k in range(best.size):
-        x = best.copy()
-        step = 0.05 * span[k]
-        x[k] = x[k] + step if x[k] + step <= hi[k] else x[k] - step
-        simplex.append(x)
     res2 = minimize(cost, best, method="Nelder-Mead", bounds=list(zip(lo, hi)),
-                    options={"initial_simplex": np.array(simplex), **opts})
+                    options={"initial_simplex": simplex_at(best, 0.05), **opts})
     cands = [x0, best, np.clip(res2.x, lo, hi)]
     return min(cands, key=cost)
 

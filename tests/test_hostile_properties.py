@@ -5,7 +5,8 @@ Hypothesis draws a seeded ``random.Random`` and the generators of
 2 (never 1), keep every catalogue row once with its own name, give finite
 outputs, leave no temporary file and print one-line errors.  The same
 generators drive ``tests/fuzz_inputs.py`` (10^4 cases).  Example counts are
-kept small so the whole file runs in well under a minute.
+kept small so the whole file runs in well under a minute.  The contract is
+the project's own (common practice, no source).
 """
 
 import shutil

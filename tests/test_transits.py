@@ -17,7 +17,6 @@ from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system, read_system_text
 from snrkit.tables import data_path
 from snrkit.transits import transits_for_system, contrast_for_system
-from snrkit import detect as dt
 
 CEDAR = str(data_path("demo", "cedar.toml"))
 ALDER = str(data_path("demo", "alder.toml"))
