@@ -965,6 +965,7 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
 
     half = window_half_width(t14[idx], mult, base_s, sig, k) + np.where(known, 0.0,
                                                                        MAX_LIGHT_TIME_S)
+    _warn_overlapping_windows(system, idx, half)
     start_jd = obs - half / DAY
     end_jd = obs + half / DAY
 
@@ -1003,6 +1004,20 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
     tab.meta.update(_meta(observatory, t_start, t_end, mult, base_s, k, obs))
     tab.meta["planets"] = [str(x) for x in system.planet.name]
     return tab
+
+
+def _warn_overlapping_windows(system, idx, half):
+    """Note planets whose windows (transit, baseline, timing padding) outlast the orbit."""
+    from .errors import ExtremeValueWarning
+    period = np.asarray(system.planet.period_s, dtype=np.float64)[idx]
+    over = 2.0 * half > period
+    if np.any(over):
+        names = sorted(set(np.asarray(system.planet.name)[idx][over].astype(str)))
+        j = int(np.flatnonzero(over)[0])
+        warnings.warn(f"{', '.join(names)}: each window ({2 * half[j] / HOUR:.1f} h) is longer "
+                      f"than the orbit ({period[j] / HOUR:.1f} h), so consecutive windows "
+                      "overlap; the baseline or the timing padding cannot all be taken",
+                      ExtremeValueWarning, stacklevel=3)
 
 
 def _meta(observatory, t_start, t_end, mult, base_s, k, obs_jd):

@@ -316,6 +316,21 @@ def transits_for_system(system, mode, scenario=None, **options):
     return {"planets": planets, "dataset": ds, "test": parts[0][1]["test"], "notes": notes}
 
 
+def _noted(notes, fn, *args, **kwargs):
+    """``fn(*args, **kwargs)`` with snrkit's own warnings added to ``notes``."""
+    import warnings
+    from .errors import SnrkitWarning
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", SnrkitWarning)
+        out = fn(*args, **kwargs)
+    for w in caught:
+        if isinstance(w.message, SnrkitWarning):
+            notes.append(str(w.message))
+        else:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    return out
+
+
 def _check_options(system, sigma, probabilities, n_max, uncertainty_draws, overhead_hours, seed):
     """Validated (sigma, probabilities, n_max, overhead_hours, seed)."""
     sigma = dt.check_sigma(sigma)
@@ -407,9 +422,8 @@ def _one_scenario(system, mode, scenario, *, test=None, species=None, against=No
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
     d = obs["derived"]
-    truth_ds = transmission_spectrum(sc, obs["rp"], obs["rs"],
-                                     contributions=[arg] if kind == "species" else False,
-                                     **obs["spec_kw"])
+    truth_ds = _noted(obs["notes"], transmission_spectrum, sc, obs["rp"], obs["rs"],
+                      contributions=[arg] if kind == "species" else False, **obs["spec_kw"])
     truth = np.asarray(truth_ds["transit_depth_ppm"].values, dtype=np.float64)
     null, label = _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
                                  against_wavelength_unit, against_depth_kind)
@@ -546,7 +560,7 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
         overhead_hours = common_observation(system, "overhead", None)
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
-    ds = transmission_spectrum(scs, obs["rp"], obs["rs"], **obs["spec_kw"])
+    ds = _noted(obs["notes"], transmission_spectrum, scs, obs["rp"], obs["rs"], **obs["spec_kw"])
     spec = np.asarray(ds["transit_depth_ppm"].transpose("scenario", "planet", "wavelength").values,
                       dtype=np.float64)
     k = len(scs)

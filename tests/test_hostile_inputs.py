@@ -324,3 +324,30 @@ def test_class16_messages_stay_short(tmp_path):
     with pytest.raises(InputError) as exc:
         raise InputError("x", list(range(1000)), "a number")
     assert len(str(exc.value)) < 300
+
+
+def test_class15_questionable_valid_extremes_are_noted(tmp_path):
+    # A scenario whose scale height is 0.126 of the planet radius: the spectrum is given,
+    # with a one-line note that it is not a bound hydrostatic atmosphere (threshold R/H < 10,
+    # common practice, no source); and calendar windows longer than the orbit are noted.
+    import warnings
+    from snrkit.atmosphere.spectrum import transmission_spectrum
+    from snrkit.errors import ExtremeValueWarning
+    from snrkit.errors import SnrkitWarning
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", SnrkitWarning)
+        transmission_spectrum("h2-clear-solar", 0.6, 0.2, planet_mass=0.2,
+                              equilibrium_temperature=1500.0, resolution=10)
+    assert any(isinstance(w.message, ExtremeValueWarning) and "scale height" in str(w.message)
+               for w in caught)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ExtremeValueWarning)
+        transmission_spectrum("h2-clear-solar", 11.0, 1.0, planet_mass=300.0,
+                              equilibrium_temperature=1300.0, resolution=10)
+    text = CEDAR.read_text().replace("period = 3.10 ", "period = 0.20 ")
+    f = tmp_path / "fast.toml"
+    f.write_text(text)
+    rc, _, err = run_cli(["calendar", str(f), "--planet", "Cedar b", "--from", "2027-01-01",
+                          "--to", "2027-01-03", "--baseline", "12 h"])
+    assert rc == 0 and "longer than the orbit" in err
+    assert all(len(line) < 400 for line in err.splitlines())

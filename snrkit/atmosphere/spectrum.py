@@ -1103,6 +1103,7 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
             depth, ex = _solve_depth(sc, rp=rp, g0=g0, exclude=exclude_species, **solve_kw)
         _warn_top(sc, ex, p_top)
         h = scale_height(ex["temperature"], ex["mu"], g0)
+        _warn_extended(sc, h, rp, planet_names)
         ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0 + delta)
         if contributions:
             import xarray as xr
@@ -1158,6 +1159,25 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
 def _absorbs(source, species):
     return (species in source.OPACITY_SPECIES or species in source.RAYLEIGH_SPECIES
             or any(species in _CIA_SPECIES.get(p, ()) for p in source.CIA_PAIRS))
+
+
+#: Above this scale height, as a fraction of the planet radius, a hydrostatic
+#: spectrum is only indicative (R/H < 10; common practice, no source).
+EXTENDED_SCALE_HEIGHT_RATIO = 0.1
+
+
+def _warn_extended(sc, h, rp, names):
+    """Note planets on which the scenario is too extended for a hydrostatic spectrum."""
+    ratio = np.asarray(h) / np.asarray(rp)
+    bad = (ratio > EXTENDED_SCALE_HEIGHT_RATIO) & ~sc.featureless
+    if np.any(bad):
+        import warnings
+        from ..errors import ExtremeValueWarning
+        j = int(np.flatnonzero(bad)[0])
+        warnings.warn(f"scenario {sc.name!r} on {names[j]}: the scale height is "
+                      f"{ratio[j]:.2f} of the planet radius (> {EXTENDED_SCALE_HEIGHT_RATIO:g}); "
+                      "the atmosphere is not a bound hydrostatic one and its spectrum is only "
+                      "indicative", ExtremeValueWarning, stacklevel=3)
 
 
 def _warn_top(sc, ex, p_top):
