@@ -18,8 +18,14 @@ def test_wheel_install_finds_data_tables(tmp_path):
     assert r.returncode == 0, r.stderr
     wheels = list(wheel_dir.glob("snrkit-*.whl"))
     assert len(wheels) == 1
-    names = zipfile.ZipFile(wheels[0]).namelist()
+    wheel = zipfile.ZipFile(wheels[0])
+    names = wheel.namelist()
     assert "snrkit/data_tables/README.md" in names
+    # the licence travels with the wheel, with PEP 639 metadata (Python Packaging
+    # Authority, PEP 639, "Improving license clarity with better package metadata")
+    assert any(n.endswith(".dist-info/licenses/LICENSE") for n in names)
+    meta = wheel.read(next(n for n in names if n.endswith(".dist-info/METADATA"))).decode()
+    assert "License-Expression: BSD-3-Clause" in meta
     assert any(n.startswith("snrkit/data_tables/demo/") for n in names)
     site = tmp_path / "site"
     r = subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "-q", "--target",
