@@ -486,11 +486,20 @@ def asymptotic_delta_chi2(residual, floor, templates=None, usable=None, template
         Bins taking part (default: all).
     """
     r = np.asarray(residual, dtype=np.float64)
-    f = np.broadcast_to(np.asarray(floor, dtype=np.float64), r.shape)
     use = np.ones(r.shape, dtype=bool) if usable is None else np.broadcast_to(usable, r.shape)
-    unbounded = np.any(use & (f == 0) & (r != 0), axis=-1)
-    sig = np.where(use & (f > 0), f, np.inf)
-    lam = profiled_delta_chi2(r, sig, templates, template_sigma)
+    return _asymptote(r, np.zeros_like(r), floor, use,
+                      dict(null_templates=templates, template_sigma=template_sigma))
+
+
+def _asymptote(data, null, floor, usable, kw):
+    """Nested Delta chi^2 with the noise at the floor alone (white noise averaged away).
+
+    Infinite where a used bin in which data and null differ has no floor.
+    """
+    f = np.broadcast_to(np.asarray(floor, dtype=np.float64), data.shape)
+    unbounded = np.any(usable & (f == 0) & (data != null), axis=-1)
+    sig = np.where(usable & (f > 0), f, np.nan)
+    lam = np.broadcast_to(nested_delta_chi2(data, null, sig, **kw), data.shape[:-1])
     return np.where(unbounded, np.inf, lam)
 
 
@@ -635,10 +644,7 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
     if no_floor or floor_averages:
         lam_inf = np.where(lam1 > 0, np.inf, 0.0)
     else:
-        unbounded = np.any(used & (fl == 0) & (d != nul), axis=-1) & (lam1 > 0)
-        sig_inf = np.where(used & (fl > 0), fl, np.nan)
-        lam_inf = np.where(unbounded, np.inf,
-                           np.broadcast_to(nested_delta_chi2(d, nul, sig_inf, **kw), batch))
+        lam_inf = np.where(lam1 > 0, _asymptote(d, nul, fl, used, kw), 0.0)
 
     def needed(target):
         if linear:

@@ -16,11 +16,6 @@ from .constants import HOUR, G, K_B, M_U
 __all__ = ["planet_records", "result_dataset", "status_and_reason"]
 
 
-def _jeans_threshold():
-    from .transits import JEANS_PARAMETER_MIN
-    return JEANS_PARAMETER_MIN
-
-
 def _none_if_nan(x):
     return float(x) if np.isfinite(x) else None
 
@@ -108,6 +103,7 @@ def _atmosphere_note(ctx, i):
 
 def planet_records(ctx):
     """One JSON-ready dict per planet, and the notes to print."""
+    from .transits import JEANS_PARAMETER_MIN
     res, used, obs, sc, hours = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"], ctx["hours"]
     d = obs["derived"]
     names = [str(x) for x in ctx["system"].names]
@@ -157,7 +153,7 @@ def planet_records(ctx):
             "scale_height_over_radius": float(h_over_r[i]),
             "jeans_parameter": float(jeans[i]),
             "escape_warning": (f"restricted Jeans parameter {jeans[i]:.1f} < "
-                               f"{_jeans_threshold():g} (Fossati et al. 2017): the hydrogen "
+                               f"{JEANS_PARAMETER_MIN:g} (Fossati et al. 2017): the hydrogen "
                                "envelope may be escaping; the spectrum assumes it is hydrostatic"
                                if escape_warn[i] else None),
             "contamination_share": float(share[i]),
