@@ -1,36 +1,124 @@
-"""The analytic solver's temperature-grid path for many planets agrees with the per-planet path.
+"""The analytic solver gives a planet the same spectrum alone and in any chunk of a catalogue.
 
-Reference: the per-planet path itself (Heng & Kitzmann 2017 with per-planet
-opacities); the tolerance (0.05 scale heights) is a planning tolerance, common
-practice, no source.
+The opacity comes from a process-wide temperature lattice
+(:mod:`snrkit.atmosphere.analytic_kernel`), so grouping cannot change an
+answer; and the lattice's interpolation in temperature stays close to the
+opacity computed at each planet's own temperature.  Tolerances: 1e-3 scale
+heights for grouping and chunking (the one-engine requirement), 0.05 scale
+heights for the lattice interpolation (a planning tolerance, common practice,
+no source).
 """
 
 import numpy as np
 import pytest
 
 from snrkit.atmosphere import spectrum as spm
+from snrkit.atmosphere import analytic_kernel as ak
+
+SCENARIOS = ["h2-clear-solar", {"scenario": "n2-o2-temperate", "cold_trap": {}}, "h2-cloudy-solar",
+             "n2-o2-temperate"]
+IDS = ["h2-clear-solar", "n2-o2-temperate-well-mixed", "h2-cloudy-solar", "n2-o2-cold-trap"]
 
 
-# the grid path is the analytic solver's; the temperate preset's cold trap would take the
-# layered solver, so its well-mixed variant is used here
-@pytest.mark.parametrize("scenario", ["h2-clear-solar", {"scenario": "n2-o2-temperate", "cold_trap": {}},
-                                      "h2-cloudy-solar"],
-                         ids=["h2-clear-solar", "n2-o2-temperate-well-mixed", "h2-cloudy-solar"])
-def test_grid_path_matches_per_planet_path(scenario):
-    rng = np.random.default_rng(8)
-    n = spm.GRID_OPACITY_MIN_PLANETS
+def _planets(n, seed=8):
+    rng = np.random.default_rng(seed)
     rp = rng.uniform(1.5, 12.0, n)
-    mp = 1.436 * rp ** 1.7
-    rs = rng.uniform(0.3, 1.2, n)
-    teq = np.geomspace(250.0, 1900.0, n)
+    return dict(rp=rp, mp=1.436 * rp ** 1.7, rs=rng.uniform(0.3, 1.2, n),
+                teq=np.geomspace(250.0, 1900.0, n))
+
+
+def _spectrum(p, sl, edges, scenario):
+    return spm.transmission_spectrum(scenario, p["rp"][sl], p["rs"][sl], planet_mass=p["mp"][sl],
+                                     equilibrium_temperature=p["teq"][sl], wavelength_edges=edges)
+
+
+@pytest.mark.parametrize("scenario", SCENARIOS, ids=IDS)
+def test_planet_alone_equals_planet_in_catalogue(scenario, monkeypatch):
+    p = _planets(40)
     edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
-    kw = dict(planet_mass=mp, equilibrium_temperature=teq, wavelength_edges=edges)
-    fast = spm.transmission_spectrum(scenario, rp, rs, **kw)
-    slow = [spm.transmission_spectrum(scenario, rp[i:i + 1], rs[i:i + 1], planet_mass=mp[i:i + 1],
-                                      equilibrium_temperature=teq[i:i + 1], wavelength_edges=edges)
-            for i in range(0, n, 7)]
-    for k, i in enumerate(range(0, n, 7)):
-        h = float(fast["effective_height_km"].values[i].max() - fast["effective_height_km"].values[i].min())
-        diff = np.abs(fast["effective_height_km"].values[i] - slow[k]["effective_height_km"].values[0])
-        scale_h = float(slow[k]["scale_height_km"].values[0])
-        assert np.max(diff) < 0.05 * scale_h, (i, np.max(diff) / scale_h, h)
+    whole = _spectrum(p, slice(None), edges, scenario)
+    ak.clear_lattice_cache()                         # a fresh process, other chunk sizes
+    monkeypatch.setattr(ak, "CHUNK_ELEMENTS", 997)
+    monkeypatch.setattr(spm, "_CHUNK_ELEMENTS", 20_000)
+    for i in range(0, 40, 9):
+        one = _spectrum(p, slice(i, i + 1), edges, scenario)
+        h = float(one["scale_height_km"].values[0])
+        diff = np.abs(whole["effective_height_km"].values[i] - one["effective_height_km"].values[0])
+        assert np.max(diff) < 1e-3 * h, (i, np.max(diff) / h)
+
+
+@pytest.mark.parametrize("scenario", SCENARIOS[:3], ids=IDS[:3])
+def test_lattice_close_to_opacity_at_each_temperature(scenario):
+    # the kernel with the lattice's opacity against the kernel with the mixture at the
+    # planet's own temperature (the former per-planet path), same radii otherwise
+    from snrkit.atmosphere.scenarios import load_scenario
+    sc = load_scenario(scenario)
+    src = spm._default_opacity_source()
+    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
+    nodes = spm._line_shape_pressures(src)
+    p = _planets(12, seed=3)
+    t = sc.temperature(p["teq"]) * np.ones(12)
+    lat = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
+                             8, None, nodes, t)
+    exact = spm.mixture_opacity(src, sc.mixing_ratios, edges, np.broadcast_to(t[:, None], (12, nodes.size)),
+                                8, sc.haze_enhancement, sc.haze_slope, None,
+                                pressure_Pa=np.broadcast_to(nodes, (12, nodes.size)))
+    r0 = p["rp"] * 6.371e6
+    g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
+    floor = np.full(12, sc.cloud_top_pressure_Pa or 1e3 * sc.reference_pressure_Pa)
+    args = (t, np.full(12, sc.mean_molecular_weight), r0, np.full(12, sc.reference_pressure_Pa),
+            g0, floor, np.full(12, 1e-6))
+    with np.errstate(divide="ignore"):
+        ln_ex = (np.log(np.maximum(exact["line"], 1e-300)), np.log(exact["continuum"][:, 0]),
+                 np.log(exact["cia"][:, 0]))
+    r_lat, _ = ak.root_radius(lat["lnk"], np.log(nodes), lat["ln_continuum"], lat["ln_cia"], *args)
+    r_ex, _ = ak.root_radius(ln_ex[0], np.log(nodes), ln_ex[1], ln_ex[2], *args)
+    h = 1.380649e-23 * t / (sc.mean_molecular_weight * 1.66054e-27 * g0)
+    w = lat["g_weights"]
+    # bin-average effective height, in scale heights
+    d_lat = np.sqrt(np.sum(w * r_lat ** 2, axis=-1))
+    d_ex = np.sqrt(np.sum(w * r_ex ** 2, axis=-1))
+    err = np.abs(d_lat - d_ex) / h[:, None]
+    i, j = np.unravel_index(np.argmax(err), err.shape)
+    assert np.max(err) < 0.05, (np.max(err), t[i], edges[j] * 1e6)
+
+
+def test_single_power_law_matches_reference_formula():
+    # root_radius with pressure-independent lines equals analytic_radius (the
+    # reference implementation of the same formulas) to 1e-6 scale heights
+    rng = np.random.default_rng(1)
+    npl, nw, ng = 5, 7, 4
+    T = rng.uniform(300, 1500, npl)
+    mu = rng.uniform(2.3, 30, npl)
+    r0 = rng.uniform(6e6, 7e7, npl)
+    g0 = rng.uniform(5, 25, npl)
+    p0 = np.full(npl, 1e5)
+    floor = np.full(npl, 1e8)
+    top = np.full(npl, 1e-6)
+    line = 10 ** rng.uniform(-32, -24, (npl, nw, ng))
+    cont = 10 ** rng.uniform(-33, -30, (npl, nw))
+    cia = 10 ** rng.uniform(-60, -56, (npl, nw))
+    args = (T, mu, r0, p0, g0, floor, top)
+    ref, sref = spm.analytic_radius(line, cont, cia, *args)
+    got, sgot = ak.root_radius(np.log(line)[:, None], np.log([1e3]), np.log(cont), np.log(cia), *args)
+    h = 1.380649e-23 * T / (mu * 1.66054e-27 * g0)
+    assert np.array_equal(sref, sgot)
+    assert np.max(np.abs(got - ref) / h[:, None, None]) < 1e-6
+
+
+def test_same_answer_with_one_or_two_threads_and_any_chunk(monkeypatch):
+    p = _planets(30, seed=4)
+    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
+    monkeypatch.setenv("SNRKIT_THREADS", "1")
+    one = _spectrum(p, slice(None), edges, "h2-clear-solar")["transit_depth_ppm"].values
+    monkeypatch.setenv("SNRKIT_THREADS", "2")
+    monkeypatch.setattr(ak, "CHUNK_ELEMENTS", 1531)
+    two = _spectrum(p, slice(None), edges, "h2-clear-solar")["transit_depth_ppm"].values
+    np.testing.assert_array_equal(one, two)
+
+
+def test_thread_setting_is_checked(monkeypatch):
+    from snrkit.errors import InputError
+    monkeypatch.setenv("SNRKIT_THREADS", "many")
+    with pytest.raises(InputError, match="SNRKIT_THREADS"):
+        ak.worker_threads()

@@ -475,7 +475,9 @@ def _default_opacity_source():
     grid = getattr(opacity, "PRESSURE_RANGE_PA", None)
     if grid is None:
         grid = (0.1, 1e7)   # the k tables' pressure decades (0.1 Pa - 100 bar)
-    return SimpleNamespace(PRESSURE_RANGE_PA=tuple(grid), **{k: getattr(opacity, k) for k in (
+    # cache_key: the shipped tables' opacity lattice is kept for the whole process
+    return SimpleNamespace(PRESSURE_RANGE_PA=tuple(grid), cache_key="shipped-tables",
+                           **{k: getattr(opacity, k) for k in (
         "OPACITY_SPECIES", "g_quadrature", "species_k_coefficients", "combine_random_overlap")},
         **{k: getattr(continuum, k) for k in (
             "RAYLEIGH_SPECIES", "rayleigh_cross_section", "CIA_PAIRS", "cia_coefficient",
@@ -557,15 +559,6 @@ def mixture_opacity(source, mixing_ratios, wavelength_edges_m, temperature_K, n_
             "cia": cia, "g_weights": gw}
 
 
-#: From this many planets on, the analytic solver tabulates the mixture opacity
-#: on a temperature grid and interpolates (see _mixture_on_temperature_grid).
-GRID_OPACITY_MIN_PLANETS = 48
-#: Nodes of that temperature grid (log-spaced over the planets' range).
-GRID_OPACITY_NODES = 64
-
-
-#: Passes of the analytic solver with line shapes at the pressure of its root.
-ROOT_PRESSURE_PASSES = 3
 #: Spacing [decades] of the pressure nodes at which the analytic solver takes the
 #: line shapes (k ~ P^s is interpolated between them).
 LINE_SHAPE_DECADES = 2.0
@@ -578,91 +571,6 @@ def _line_shape_pressures(source):
         return None
     lo, hi = np.log10(rng[0]), np.log10(rng[1])
     return 10.0 ** np.arange(np.floor(lo), np.ceil(hi) + 0.5, LINE_SHAPE_DECADES)
-
-
-def _analytic_at_root_pressure(line_p, grid_p, args):
-    """Analytic radii with each g-point's line shape at the pressure of its own root.
-
-    The analytic formula takes one opacity per (planet, bin, g); the line
-    width depends on pressure, and the pressure probed is the one at the
-    root.  Start at the tables' reference pressure, then iterate: the root's
-    pressure (isothermal, g ~ 1/r^2: ln P = ln P0 - (R0/H0)(1 - R0/r)) selects
-    k(g) by linear interpolation of ln k in ln P between the decade nodes
-    (the correlated-k assumption the layered solver makes level by level).
-    :data:`ROOT_PRESSURE_PASSES` passes settle the root to well under 0.01 H.
-    """
-    from ..constants import M_U
-    from .opacity import REFERENCE_PRESSURE_PA
-    cont, cia, t_iso, mu, r0, p0, g0, floor, top = args
-    npl, n_p, nw, ng = line_p.shape
-    lnk = np.log(np.maximum(line_p, 1e-300))
-    x_nodes = np.log(grid_p)
-    h0 = K_B * t_iso / (mu * M_U * g0)
-    p_root = np.full((npl, nw, ng), REFERENCE_PRESSURE_PA)
-    ip = np.arange(npl)[:, None, None]
-    iw = np.arange(nw)[None, :, None]
-    ig = np.arange(ng)[None, None, :]
-    radius = sat = None
-    for _ in range(ROOT_PRESSURE_PASSES):
-        x = np.clip(np.log(np.clip(p_root, top[:, None, None], floor[:, None, None])),
-                    x_nodes[0], x_nodes[-1])
-        j = np.clip(np.searchsorted(x_nodes, x) - 1, 0, n_p - 2)
-        w = (x - x_nodes[j]) / (x_nodes[j + 1] - x_nodes[j])
-        lo_k, hi_k = lnk[ip, j, iw, ig], lnk[ip, j + 1, iw, ig]
-        lk = (1.0 - w) * lo_k + w * hi_k
-        line = np.where(lk <= np.log(1e-299), 0.0, np.exp(lk))
-        # local power law k ~ P^slope between the nodes: the chord sees it
-        slope = np.where(line > 0, (hi_k - lo_k) / (x_nodes[j + 1] - x_nodes[j]), 0.0)
-        radius, sat = analytic_radius(line, *args, line_slope=slope, line_pressure_Pa=np.exp(x),
-                                      radius_start_m=radius)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            lnp = (np.log(p0)[:, None, None] - (r0 / h0)[:, None, None]
-                   * (1.0 - r0[:, None, None] / radius))
-        p_root = np.where(np.isfinite(lnp), np.exp(np.clip(lnp, -700, 700)), REFERENCE_PRESSURE_PA)
-    return radius, sat
-
-
-def _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, pressures=None,
-                                 mixing_ratios=None):
-    """Mixture opacity for many isothermal planets through a temperature grid.
-
-    The random-overlap mixture is computed at :data:`GRID_OPACITY_NODES`
-    temperatures spanning the planets' range (log-spaced) and interpolated
-    linearly in ln k against 1/T -- the same rule the species tables use
-    between their own 13 temperatures -- so a catalogue costs one mixture per
-    node instead of one per planet.  tests/test_spectrum_fast.py bounds the
-    difference from the per-planet path.
-    """
-    t = np.asarray(t_iso, dtype=np.float64)
-    lo, hi = float(np.min(t)), float(np.max(t))
-    grid = np.array([lo]) if hi <= lo * (1 + 1e-9) else np.geomspace(lo, hi, GRID_OPACITY_NODES)
-    mix = sc.mixing_ratios if mixing_ratios is None else mixing_ratios
-    if pressures is None:
-        op = mixture_opacity(source, mix, edges, grid[:, None], n_g,
-                             sc.haze_enhancement, sc.haze_slope, exclude)
-    else:
-        shape = (grid.size, np.size(pressures))
-        op = mixture_opacity(source, mix, edges,
-                             np.broadcast_to(grid[:, None], shape), n_g, sc.haze_enhancement,
-                             sc.haze_slope, exclude, pressure_Pa=np.broadcast_to(pressures, shape))
-    if grid.size == 1:
-        idx = np.zeros(t.size, dtype=int)
-        return {"line": op["line"][idx], "continuum": op["continuum"][idx], "cia": op["cia"][idx],
-                "g_weights": op["g_weights"]}
-    x, xg = 1.0 / t, 1.0 / grid                      # xg decreasing
-    j = np.clip(np.searchsorted(-xg, -x) - 1, 0, grid.size - 2)
-    w = ((x - xg[j]) / (xg[j + 1] - xg[j]))
-
-    def interp(a, extra_dims):
-        tiny = 1e-300
-        la = np.log(np.maximum(a, tiny))
-        ww = w.reshape((-1,) + (1,) * extra_dims)
-        out = np.exp((1 - ww) * la[j] + ww * la[j + 1])
-        return np.where(out <= tiny * 10, 0.0, out)
-
-    return {"line": interp(op["line"], op["line"].ndim - 1),
-            "continuum": op["continuum"][j],
-            "cia": interp(op["cia"], op["cia"].ndim - 1), "g_weights": op["g_weights"]}
 
 
 def _profile_for(sc, temperature_K, gravity):
@@ -685,27 +593,39 @@ def _only_cold_trap(sc):
 
 def _analytic_for(mixing_ratios, tag, *, source, sc, edges, t_iso, n_g, exclude, memo,
                   pressure_broadening, args):
-    """Analytic radii (planet, bin, g), the top flags and the g weights for one composition."""
-    npl = t_iso.shape[0]
+    """Analytic radii (planet, bin, g), the top flags and the g weights for one composition.
+
+    The opacity comes from the process-wide temperature lattice
+    (:mod:`snrkit.atmosphere.analytic_kernel`), so it does not depend on which
+    planets are solved together.  ``memo`` carries the roots of the previous
+    solve of the same planets (the calibration's first solve), shifted to the
+    new reference radius, as starting points.
+    """
+    from .analytic_kernel import lattice_opacity, root_radius
     grid_p = _line_shape_pressures(source) if pressure_broadening else None
-    nodes = None if grid_p is None else np.broadcast_to(grid_p, (npl, grid_p.size))
-    key = (tag, exclude, t_iso.tobytes())
-    op = None if memo is None else memo.get(key)
-    if op is None and npl >= GRID_OPACITY_MIN_PLANETS:
-        op = _mixture_on_temperature_grid(source, sc, edges, t_iso, n_g, exclude, grid_p,
-                                          mixing_ratios)
-    elif op is None:
-        tt = t_iso[:, None] if nodes is None else np.broadcast_to(t_iso[:, None], nodes.shape)
-        op = mixture_opacity(source, mixing_ratios, edges, tt, n_g, sc.haze_enhancement,
-                             sc.haze_slope, exclude, pressure_Pa=nodes)
-    if memo is not None:
-        memo[key] = op
-    full = (op["continuum"][:, 0], op["cia"][:, 0]) + tuple(args)
-    if grid_p is None:
-        radius, sat = analytic_radius(op["line"][:, 0], *full)
-    else:
-        radius, sat = _analytic_at_root_pressure(op["line"], grid_p, full)
+    op = lattice_opacity(source, mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges, n_g,
+                         exclude, grid_p, t_iso, memo=None if memo is None else memo.setdefault(
+                             "lattice", {}))
+    x_nodes = (np.array([np.log(_reference_pressure(source))]) if grid_p is None
+               else np.log(grid_p))
+    r0 = np.asarray(args[2], dtype=np.float64)
+    start = None
+    key = ("start", tag, memo.get("slice", 0) if memo is not None else 0)
+    if memo is not None and key in memo:
+        r0_old, r_old = memo[key]
+        if r_old.shape[0] == r0.shape[0]:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                start = 1.0 / (1.0 / r_old + (1.0 / r0 - 1.0 / r0_old)[:, None, None])
+    radius, sat = root_radius(op["lnk"], x_nodes, op["ln_continuum"], op["ln_cia"], *args,
+                              radius_start_m=start)
+    if memo is not None and exclude is None:
+        memo[key] = (r0, radius)
     return radius, sat, op["g_weights"]
+
+
+def _reference_pressure(source):
+    from .opacity import REFERENCE_PRESSURE_PA
+    return getattr(source, "REFERENCE_PRESSURE_PA", REFERENCE_PRESSURE_PA)
 
 
 def _analytic_cold_trap(**kw):
@@ -830,6 +750,8 @@ def _solve_depth(sc, *, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n
     depths, extras = [], []
     for i in range(0, npl, step):
         sl = slice(i, min(npl, i + step))
+        if memo is not None:
+            memo["slice"] = i
         radius, gw, ex = _solve(sc, source, edges, rp[sl], rs[sl], g0[sl], teq[sl], a_m[sl],
                                 solver, n_layers, n_g, p_top, refraction, exclude,
                                 pressure_broadening, memo)
