@@ -121,7 +121,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         the status counts.
     """
     from astropy.table import Table
-    from .transits import transits_for_system, parse_test
+    from .engine import parse_test
     from .atmosphere.scenarios import load_scenario
     from . import detect as dt
     if each_scenario:
@@ -174,6 +174,14 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     system, good = _with_magnitudes(catalogue, status, reason)
     if system is not None and len(good):
         d = system.derived_arrays()
+        quick = {sc.name: _quick_feature_ppm(sc, d) for sc in scs}
+
+        def quick_by_scenario(chosen, idx):
+            q = np.full(idx.size, np.nan)
+            for name, values in quick.items():
+                q[chosen == name] = values[idx[chosen == name]]
+            return q
+
         out["radius_earth"][good] = d["radius_m"] / R_EARTH
         out["mass_earth"][good] = d["mass_kg"] / M_EARTH
         out["mass_estimated"][good] = d["mass_estimated"]
@@ -181,58 +189,29 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         out["tsm"][good] = d["tsm"]
         out["esm"][good] = d["esm"]
         out["habitable_zone"][good] = d["hz_position"]
-        best_class = np.full(len(good), 9)
-        best_hours = np.full(len(good), np.inf)
+        starts = list(range(0, len(good), max(int(chunk), 1)))
         best_status = np.full(len(good), "", dtype=object)
         best_reason = np.full(len(good), "", dtype=object)
-        starts = list(range(0, len(good), max(int(chunk), 1)))
-        total = len(starts) * len(modes) * len(scs)
-        done = 0
-        for mode in modes:
-            for sc in scs:
-                quick = _quick_feature_ppm(sc, d)
-                for s0 in starts:
-                    idx = np.arange(s0, min(s0 + int(chunk), len(good)))
-                    sub = system.take(idx)
-                    with warnings.catch_warnings(record=True) as caught:
-                        warnings.simplefilter("always", SnrkitWarning)
-                        res = _run_chunk(transits_for_system, sub, dict(
-                            mode=mode, scenario=sc, test=test, sigma=sigma, n_max=n_max,
-                            resolution=resolution, probabilities=(),
-                            overhead_hours=overhead_hours, curves=False, readout=readout,
-                            min_jeans=min_jeans))
-                    for w in caught:
-                        notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
-                    notes.update({n[:300]: None for n in res["notes"][:3]})
-                    recs = res["planets"]
-                    st = np.array([r["status"] for r in recs], dtype=object)
-                    cls = np.array([_STATUS_CLASS.get(x, 1) for x in st])
-                    hrs = np.array([np.inf if r["hours_total"] is None else r["hours_total"]
-                                    for r in recs])
-                    # finite hours < not reachable < unbound < saturated; then fewer hours
-                    better = (cls < best_class[idx]) | ((cls == best_class[idx]) & (hrs < best_hours[idx]))
-                    j = np.flatnonzero(better)
-                    gi = good[idx[j]]
-                    out["mode"][gi] = [recs[k]["mode"] for k in j]
-                    out["scenario"][gi] = [recs[k]["scenario"] for k in j]
-                    out["limiting_term"][gi] = [recs[k]["limiting_term"] for k in j]
-                    out["transits_needed"][gi] = [recs[k]["transits_needed"] or 0 for k in j]
-                    out["hours_total"][gi] = np.where(np.isfinite(hrs[j]), hrs[j], np.nan)
-                    out["hours_per_transit"][gi] = [recs[k]["hours_per_transit"] for k in j]
-                    out["significance_per_transit"][gi] = [recs[k]["significance_per_transit_sigma"]
-                                                           for k in j]
-                    out["quick_feature_ppm"][gi] = quick[idx[j]]
-                    for c in ("groups_per_integration", "duty_cycle", "bins_saturated",
-                              "jeans_parameter"):
-                        out[c][gi] = [recs[k].get(c, np.nan) for k in j]
-                    out["escape_warning"][gi] = [bool(recs[k].get("escape_warning")) for k in j]
-                    best_status[idx[j]] = st[j]
-                    best_reason[idx[j]] = [recs[k]["reason"] for k in j]
-                    best_class[idx[j]] = cls[j]
-                    best_hours[idx[j]] = hrs[j]
-                    done += 1
-                    if progress is not None:
-                        progress(done, total)
+        run_kw = dict(test=test, sigma=sigma, n_max=n_max, resolution=resolution,
+                      probabilities=(), overhead_hours=overhead_hours, readout=readout,
+                      min_jeans=min_jeans)
+        for done, s0 in enumerate(starts, 1):
+            idx = np.arange(s0, min(s0 + int(chunk), len(good)))
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always", SnrkitWarning)
+                res = _run_chunk(system.take(idx), modes, scs, run_kw)
+            for w in caught:
+                notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
+            notes.update({n[:300]: None for n in res["notes"][:3]})
+            best = _best_combination(res["columns"])
+            gi = good[idx]
+            for c in _ENGINE_COLUMNS:
+                out[c][gi] = best[c]
+            out["quick_feature_ppm"][gi] = quick_by_scenario(best["scenario"], idx)
+            best_status[idx] = best["status"]
+            best_reason[idx] = best["reason"]
+            if progress is not None:
+                progress(done, len(starts))
         status[good] = best_status
         reason[good] = best_reason
     # filters
@@ -342,24 +321,62 @@ def _with_magnitudes(catalogue, status, reason):
     return (system.take(np.flatnonzero(have)) if have.any() else None), good[have]
 
 
-def _run_chunk(run, sub, kw):
-    """``run(sub, **kw)``; if the chunk is refused, each planet alone.
+def _run_chunk(sub, modes, scs, kw):
+    """The engine on a chunk of planets; if the chunk is refused, each planet alone.
 
     A row that the chain refuses gets status ``bad_value`` with the message as
     its reason, and never fails its neighbours.
     """
+    from .engine import evaluate
     try:
-        return run(sub, **kw)
+        return evaluate(sub, modes, scs, **kw)
     except InputError as exc:
         if len(sub.names) == 1:
-            return {"notes": [], "planets": [{
-                "status": "bad_value", "reason": str(exc), "hours_total": None, "mode": "",
-                "scenario": "", "limiting_term": "", "transits_needed": None,
-                "hours_per_transit": np.nan, "significance_per_transit_sigma": np.nan,
-                "groups_per_integration": 0, "duty_cycle": np.nan, "bins_saturated": 0}]}
-    parts = [_run_chunk(run, sub.take([i]), kw) for i in range(len(sub.names))]
-    return {"planets": [r for p in parts for r in p["planets"]],
+            shape = (len(modes), len(scs), 1)
+            cols = {c: np.full(shape, v, dtype=type(v) if not isinstance(v, str) else object)
+                    for c, v in _BAD_ROW.items()}
+            cols["reason"] = np.full(shape, str(exc), dtype=object)
+            return {"columns": cols, "notes": []}
+    parts = [_run_chunk(sub.take([i]), modes, scs, kw) for i in range(len(sub.names))]
+    return {"columns": {c: np.concatenate([p["columns"][c] for p in parts], axis=-1)
+                        for c in parts[0]["columns"]},
             "notes": [x for p in parts for x in p["notes"]]}
+
+
+#: Columns of a row that the chain refused (see _run_chunk).
+_BAD_ROW = {"status": "bad_value", "reason": "", "mode": "", "scenario": "", "transits_needed": 0,
+            "hours_per_transit": np.nan, "hours_total": np.nan,
+            "significance_per_transit": np.nan, "limiting_term": "",
+            "groups_per_integration": 0, "duty_cycle": np.nan, "bins_saturated": 0,
+            "jeans_parameter": np.nan, "escape_warning": False}
+#: Engine columns copied into the rank table.
+_ENGINE_COLUMNS = ("mode", "scenario", "limiting_term", "transits_needed", "hours_total",
+                   "hours_per_transit", "significance_per_transit", "groups_per_integration",
+                   "duty_cycle", "bins_saturated", "jeans_parameter", "escape_warning")
+
+
+def _best_combination(cols):
+    """Per planet, the mode x scenario with the best status class, then the fewest hours.
+
+    Classes: finite hours < not reachable < unbound or no signal < saturated
+    < refused; ties keep the first combination (modes, then scenarios, in the
+    order given).
+    """
+    status = cols["status"]
+    k = status.shape[0] * status.shape[1]
+    flat = {c: v.reshape((k,) + v.shape[2:]) for c, v in cols.items()}
+    cls = np.full(flat["status"].shape, 1)
+    for word, c in _STATUS_CLASS.items():
+        cls[flat["status"] == word] = c
+    hrs = np.where(np.isfinite(flat["hours_total"]), flat["hours_total"], np.inf)
+    best_cls = cls.min(axis=0)
+    hrs = np.where(cls == best_cls, hrs, np.inf)
+    pick = np.where(cls == best_cls, 0, 1)
+    # first of the best class with the fewest hours
+    order = np.lexsort((np.arange(k)[:, None] * np.ones_like(hrs, dtype=np.int64), hrs, pick),
+                       axis=0)[0]
+    cols_idx = np.arange(status.shape[-1])
+    return {c: v[order, cols_idx] for c, v in flat.items()}
 
 
 def _quick_feature_ppm(sc, d):

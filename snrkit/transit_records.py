@@ -13,7 +13,8 @@ import numpy as np
 from . import hypotheses as hy
 from .constants import HOUR, G, K_B, M_U
 
-__all__ = ["planet_records", "result_dataset", "status_and_reason"]
+__all__ = ["planet_records", "result_dataset", "status_and_reason", "statuses", "columns",
+           "COLUMNS"]
 
 
 def _none_if_nan(x):
@@ -101,22 +102,95 @@ def _atmosphere_note(ctx, i):
             "spectrum, because the features of different gases alternate across the band")
 
 
+def statuses(ctx):
+    """Status of every planet at once, and the arrays its reason and limiting term need.
+
+    Precedence (first that applies): ``saturated``, ``unbound_atmosphere``,
+    ``escaping_atmosphere``, ``no_signal``, ``stellar_contamination``,
+    ``not_reachable``, ``ok`` -- the order of :func:`status_and_reason`.
+    """
+    res, used = ctx["res"], ctx["used"]
+    h_km, h_over_r, jeans, unbound, escape_warn, excluded = _unbound(ctx)
+    n_bins = used["usable"].sum(axis=-1)
+    saturated_all = (n_bins < 2) & (used["bins_saturated"] > 0)
+    n_arr = np.asarray(res["transits_needed"])
+    share = ctx["extra"]["bias_share"]
+    status = np.full(n_arr.shape, "ok", dtype=object)
+    for mask, word in ((n_arr == 0, "not_reachable"), (share > 0.5, "stellar_contamination"),
+                       (res["no_signal"], "no_signal"), (excluded, "escaping_atmosphere"),
+                       (unbound, "unbound_atmosphere"), (saturated_all, "saturated")):
+        status[np.asarray(mask, dtype=bool)] = word
+    limiting = np.asarray(res["limiting_term"]).astype(str).astype(object)
+    limiting = np.where(saturated_all, "saturation", limiting)
+    limiting = np.where(share > 0.5, "stellar contamination (bias)", limiting)
+    limiting = np.where(unbound & ~saturated_all, "unbound atmosphere", limiting)
+    limiting = np.where(excluded & ~unbound & ~saturated_all, "escaping atmosphere", limiting)
+    counted = (status == "ok") | (status == "stellar_contamination")
+    return {"status": status, "limiting": limiting, "saturated_all": saturated_all,
+            "unbound": unbound, "excluded": excluded, "escape_warning": escape_warn,
+            "h_km": h_km, "h_over_r": h_over_r, "jeans": jeans, "n_bins": n_bins,
+            "n_raw": n_arr, "transits_needed": np.where(counted, n_arr, 0)}
+
+
+def _reasons(ctx, st):
+    """Reason sentences (empty for ``ok``); worded only for the planets that need one."""
+    reason = np.full(st["status"].shape, "", dtype=object)
+    for i in np.flatnonzero(st["status"] != "ok"):
+        reason[i] = status_and_reason(i, ctx, int(st["n_raw"][i]), st["limiting"],
+                                      st["saturated_all"], st["unbound"], st["h_km"],
+                                      st["h_over_r"], st["jeans"], st["excluded"])[1]
+    return reason
+
+
+#: Columns of :func:`columns` (one value per planet).
+COLUMNS = ("status", "reason", "mode", "scenario", "transits_needed", "hours_per_transit",
+           "hours_total", "significance_per_transit", "limiting_term", "groups_per_integration",
+           "duty_cycle", "bins_saturated", "jeans_parameter", "escape_warning")
+
+
+def columns(ctx):
+    """The answer for every planet as arrays (the catalogue path; no per-planet records).
+
+    Returns
+    -------
+    dict
+        The :data:`COLUMNS`, each an array over the planet axis:
+        ``transits_needed`` 0 and ``hours_total`` NaN where not reached.
+    """
+    st = statuses(ctx)
+    res, used, hours = ctx["res"], ctx["used"], ctx["hours"]
+    n = st["transits_needed"]
+    npl = n.shape[0]
+    mode_name = str(ctx["obs"]["precision"].attrs.get("mode", ctx["mode"]))
+    return {
+        "status": st["status"], "reason": _reasons(ctx, st),
+        "mode": np.full(npl, mode_name, dtype=object),
+        "scenario": np.full(npl, ctx["sc"].name, dtype=object),
+        "transits_needed": n.astype(np.int64),
+        "hours_per_transit": np.asarray(hours["hours_per_transit"], dtype=np.float64),
+        "hours_total": np.where(n > 0, np.asarray(hours["hours_total"], dtype=np.float64), np.nan),
+        "significance_per_transit": np.asarray(res["significance_per_transit"], dtype=np.float64),
+        "limiting_term": np.where(st["status"] == "no_signal", "no signal", st["limiting"]),
+        "groups_per_integration": np.asarray(used["groups"], dtype=np.int64),
+        "duty_cycle": np.asarray(used["duty"], dtype=np.float64),
+        "bins_saturated": np.asarray(used["bins_saturated"], dtype=np.int64),
+        "jeans_parameter": np.asarray(st["jeans"], dtype=np.float64),
+        "escape_warning": np.asarray(st["escape_warning"], dtype=bool),
+    }
+
+
 def planet_records(ctx):
     """One JSON-ready dict per planet, and the notes to print."""
     from .transits import JEANS_PARAMETER_MIN
     res, used, obs, sc, hours = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"], ctx["hours"]
     d = obs["derived"]
     names = [str(x) for x in ctx["system"].names]
-    h_km, h_over_r, jeans, unbound, escape_warn, excluded = _unbound(ctx)
-    n_bins = used["usable"].sum(axis=-1)
-    saturated_all = (n_bins < 2) & (used["bins_saturated"] > 0)
-    n_arr = np.asarray(res["transits_needed"])
-    limiting = np.asarray(res["limiting_term"]).astype(str).astype(object)
+    st = statuses(ctx)
+    reasons = _reasons(ctx, st)
+    h_km, h_over_r, jeans, escape_warn = st["h_km"], st["h_over_r"], st["jeans"], st["escape_warning"]
+    n_bins, limiting = st["n_bins"], st["limiting"]
+    n_arr = st["n_raw"]
     share = ctx["extra"]["bias_share"]
-    limiting = np.where(saturated_all, "saturation", limiting)
-    limiting = np.where(share > 0.5, "stellar contamination (bias)", limiting)
-    limiting = np.where(unbound & ~saturated_all, "unbound atmosphere", limiting)
-    limiting = np.where(excluded & ~unbound & ~saturated_all, "escaping atmosphere", limiting)
     annulus = np.asarray(ctx["truth_ds"]["annulus_ppm_per_scale_height"].values, dtype=np.float64)
     feat = np.where(used["usable"], ctx["models"].data - ctx["models"].null, np.nan)
     with np.errstate(invalid="ignore"):
@@ -129,9 +203,8 @@ def planet_records(ctx):
     mode_name = str(obs["precision"].attrs.get("mode", ctx["mode"]))
     planets, notes = [], []
     for i, name in enumerate(names):
-        status, reason = status_and_reason(i, ctx, int(n_arr[i]), limiting, saturated_all, unbound,
-                                           h_km, h_over_r, jeans, excluded)
-        n = int(n_arr[i]) if status in ("ok", "stellar_contamination") else 0
+        status, reason = str(st["status"][i]), str(reasons[i])
+        n = int(st["transits_needed"][i])
         test, statistic = _test_words(ctx, i)
         rec = {
             "name": name, "scenario": sc.name, "test": test, "test_statistic": statistic,
