@@ -122,3 +122,34 @@ def test_thread_setting_is_checked(monkeypatch):
     monkeypatch.setenv("SNRKIT_THREADS", "many")
     with pytest.raises(InputError, match="SNRKIT_THREADS"):
         ak.worker_threads()
+
+
+@pytest.mark.parametrize("shift_km", [-300.0, -40.0, 25.0, 500.0])
+def test_shifted_resolve_equals_fresh_solve(shift_km):
+    # the calibration's second solve by translation (G M fixed) against a solve from
+    # scratch at the new reference radius: 1e-4 scale heights (one Newton step from
+    # the translated root; the H/R terms are evaluated afresh)
+    from snrkit.atmosphere.scenarios import load_scenario
+    sc = load_scenario("h2-clear-solar")
+    src = spm._default_opacity_source()
+    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
+    nodes = spm._line_shape_pressures(src)
+    p = _planets(6, seed=11)
+    t = sc.temperature(p["teq"]) * np.ones(6)
+    op = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
+                            8, None, nodes, t)
+    r0 = p["rp"] * 6.371e6
+    g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
+    mu = np.full(6, sc.mean_molecular_weight)
+    rest = (np.full(6, sc.reference_pressure_Pa),)
+    tail = (np.full(6, 1e3 * sc.reference_pressure_Pa), np.full(6, 1e-6))
+    lin = (op["lnk"], np.log(nodes), op["ln_continuum"], op["ln_cia"])
+    _, _, state = ak.root_radius(*lin, t, mu, r0, *rest, g0, *tail, return_state=True)
+    r1 = r0 + shift_km * 1e3
+    g1 = g0 * (r0 / r1) ** 2
+    shifted, s_sat = ak.root_radius(*lin, t, mu, r1, *rest, g1, *tail, previous=state)
+    fresh, f_sat = ak.root_radius(*lin, t, mu, r1, *rest, g1, *tail)
+    h = 1.380649e-23 * t / (mu * 1.66054e-27 * g1)
+    assert np.array_equal(s_sat, f_sat)
+    err = np.abs(shifted - fresh) / h[:, None, None]
+    assert np.max(err) < 1e-4, (np.max(err), np.unravel_index(np.argmax(err), err.shape), h, r1 / h)

@@ -207,6 +207,8 @@ class _Planets:
         # where the isothermal gas would be unbound below the top, the top is put
         # where r/H(r) = 3 (the Laplace chord formula needs r >> H)
         self.ut = np.maximum(ut, 3.0 / self.B)
+        self.capped = ~(ut >= 3.0 / self.B)
+        self.r0 = r0
 
 
 def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
@@ -300,6 +302,7 @@ def _newton(u, el, x0, dx, n_p):
     """
     n = u.size
     u_root = u.copy()
+    d_root = np.ones(n)
     lo, f_lo = el["ut"].copy(), np.full(n, -1.0)
     hi, f_hi = np.full(n, np.inf), np.full(n, np.nan)
     act = np.arange(n)
@@ -311,7 +314,8 @@ def _newton(u, el, x0, dx, n_p):
         lo, f_lo = np.where(below, np.maximum(lo, u), lo), np.where(below, f, f_lo)
         hi, f_hi = np.where(below, hi, np.minimum(hi, u)), np.where(below, f_hi, f)
         new = u - f / d
-        done = live & (np.abs(f / d * cur["B"]) < 1e-7)            # |dr| < 1e-7 H
+        # a Newton step under 1e-4 H: the updated root is good to ~1e-8 H (quadratic)
+        done = live & (np.abs(f / d * cur["B"]) < 1e-4)
         bad = (~((new > lo) & (new < hi)) | ~np.isfinite(new)) & ~done
         if np.any(bad):
             fp = lo - f_lo * (hi - lo) / (f_hi - f_lo)          # false position
@@ -319,16 +323,18 @@ def _newton(u, el, x0, dx, n_p):
             new = np.where(bad, np.where(ok_fp, fp, np.where(np.isfinite(hi), 0.5 * (lo + hi),
                                                              u + 1.0 / cur["B"])), new)
         u_root[act[done]] = (u - f / d)[done]
+        d_root[act[done]] = d[done]
         live &= ~done
         u = new
         if not live.any():
-            return u_root
+            return u_root, d_root
         if live.sum() * 2 < live.size:                            # compact the work arrays
             act, u, lo, hi, f_lo, f_hi = (v[live] for v in (act, u, lo, hi, f_lo, f_hi))
             cur = _take(cur, live)
             live = np.ones(act.size, dtype=bool)
     u_root[act[live]] = u[live]                       # not converged (not expected)
-    return u_root
+    d_root[act[live]] = d[live]
+    return u_root, d_root
 
 
 def _corrections(ur, el, ln_tf, x0, dx, n_p):
@@ -358,19 +364,26 @@ def _f_plane(tau):
     return np.where(tau > 0, val, 0.0)
 
 
+def _thin_radius(el, it, ln_tf, dfu):
+    """Radius where the floor is nearly transparent: r_floor + H [E1 + gamma + ln](tau_f)."""
+    uf = el["uf"][it]
+    heff = 1.0 / (uf ** 2 * dfu[it])
+    return 1.0 / uf + heff * _f_plane(np.exp(ln_tf[it]))
+
+
 def _solve_chunk(el, x0, dx, n_p, u_start):
-    """Radii and top flags of one chunk of elements."""
-    ln_tf, dfu, _, _ = _ln_tau(el["uf"], el, x0, dx, n_p)
-    ln_tf = ln_tf - EULER_GAMMA
-    ln_tt, _, _, _ = _ln_tau(el["ut"], el, x0, dx, n_p)
-    saturated = ln_tt >= 0.0
+    """Radii, top flags and the solve's state (for a shifted re-solve) of one chunk."""
+    f_floor, dfu, _, _ = _ln_tau(el["uf"], el, x0, dx, n_p)
+    ln_tf = f_floor - EULER_GAMMA
+    f_top, _, _, _ = _ln_tau(el["ut"], el, x0, dx, n_p)
+    saturated = f_top >= 0.0
     thin = (ln_tf < _LN_TAU_THIN) & ~saturated
     out = np.empty(el["B"].size)
     it = np.flatnonzero(thin)
     if it.size:
-        uf = el["uf"][it]
-        heff = 1.0 / (uf ** 2 * dfu[it])
-        out[it] = 1.0 / uf + heff * _f_plane(np.exp(ln_tf[it]))
+        out[it] = _thin_radius(el, it, ln_tf, dfu)
+    state = {"u": np.full(out.size, np.nan), "d": np.full(out.size, np.nan), "ln_tf": ln_tf,
+             "dfu": dfu, "f_top": f_top}
     ik = np.flatnonzero(~thin & ~saturated)
     if ik.size:
         sub = _take(el, ik)
@@ -380,15 +393,67 @@ def _solve_chunk(el, x0, dx, n_p, u_start):
             u0 = np.where(np.isfinite(us) & (us > 0), np.clip(us, sub["ut"], sub["uf"]), u0)
         else:
             u0 = _dominant_start(u0, sub, x0, dx, n_p)
-        ur = _newton(u0, sub, x0, dx, n_p)
+        ur, dr = _newton(u0, sub, x0, dx, n_p)
+        state["u"][ik], state["d"][ik] = ur, dr
         out[ik] = 1.0 / ur + _corrections(ur, sub, ln_tf[ik], x0, dx, n_p)
     out[saturated] = 1.0 / el["ut"][saturated]
-    return out, saturated
+    return out, saturated, state
+
+
+def _shifted_chunk(el, prev, du, x0, dx, n_p):
+    """Re-solve after the reference radius moved with G M fixed (the calibration's second solve).
+
+    With g0 R0**2 fixed, B = R0**2 / H0 does not change and every absorber's
+    ln n(u) is translated by du = 1/R0' - 1/R0, so the new ln tau is the old
+    one at u - du plus 1.5 ln((u - du)/u) -- exactly.  The floor and top values
+    follow without new evaluations (the top is evaluated again only where it
+    is set by r/H = 3, which does not translate), each old root gives the new
+    one in two Newton steps (the first from the stored slope, without a new
+    evaluation; the shift of the -1.5 ln u term is ~1e-2 H), and the H/R terms
+    are evaluated at the new root.
+    """
+    uf, ut = el["uf"], el["ut"]
+    ln_tf = prev["ln_tf"] - 1.5 * np.log(uf / (uf - du))
+    dfu = prev["dfu"] + 1.5 / (uf - du) - 1.5 / uf
+    f_top = prev["f_top"] - 1.5 * np.log(ut / (ut - du))
+    capped = el["capped"] | prev["capped"]
+    if np.any(capped):
+        ic = np.flatnonzero(capped)
+        f_top[ic] = _ln_tau(ut[ic], _take(el, ic), x0, dx, n_p)[0]
+    saturated = f_top >= 0.0
+    thin = (ln_tf < _LN_TAU_THIN) & ~saturated
+    out = np.empty(uf.size)
+    it = np.flatnonzero(thin)
+    if it.size:
+        out[it] = _thin_radius(el, it, ln_tf, dfu)
+    state = {"u": np.full(out.size, np.nan), "d": np.full(out.size, np.nan), "ln_tf": ln_tf,
+             "dfu": dfu, "f_top": f_top}
+    thick = ~thin & ~saturated
+    easy = np.flatnonzero(thick & np.isfinite(prev["u"]))
+    if easy.size:
+        u_old = prev["u"][easy]
+        u_s = u_old + du[easy]
+        slope = prev["d"][easy] + 1.5 / u_old - 1.5 / u_s
+        ur = u_s - 1.5 * np.log(u_old / u_s) / slope
+        sub = _take(el, easy)
+        f, slope, _, _ = _ln_tau(ur, sub, x0, dx, n_p, exact_slope=True)
+        ur = ur - f / slope                            # a second step: ~1e-8 H
+        state["u"][easy], state["d"][easy] = ur, slope
+        out[easy] = 1.0 / ur + _corrections(ur, sub, ln_tf[easy], x0, dx, n_p)
+    hard = np.flatnonzero(thick & ~np.isfinite(prev["u"]))
+    if hard.size:                                     # newly thick: a full solve
+        sub = _take(el, hard)
+        ur, dr = _newton(_dominant_start(sub["uf"], sub, x0, dx, n_p), sub, x0, dx, n_p)
+        state["u"][hard], state["d"][hard] = ur, dr
+        out[hard] = 1.0 / ur + _corrections(ur, sub, ln_tf[hard], x0, dx, n_p)
+    out[saturated] = 1.0 / ut[saturated]
+    return out, saturated, state
 
 
 def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
                 reference_radius_m, reference_pressure_Pa, reference_gravity_m_s2,
-                floor_pressure_Pa, top_pressure_Pa, radius_start_m=None, chunk=None):
+                floor_pressure_Pa, top_pressure_Pa, radius_start_m=None, chunk=None,
+                previous=None, return_state=False):
     """Effective radius per (planet, bin, g-point) with line shapes at the root's pressure.
 
     Parameters
@@ -408,6 +473,13 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
         Starting radii (for example the roots of a nearby solve).
     chunk : int, optional
         Elements per work chunk (default :data:`CHUNK_ELEMENTS`).
+    previous : dict, optional
+        The state of an earlier call for the same planets, opacity,
+        temperature and G M, with only the reference radius moved (the
+        calibration's second solve): solved by translation
+        (:func:`_shifted_chunk`) instead of from scratch.
+    return_state : bool
+        Also return that state.
 
     Returns
     -------
@@ -415,6 +487,8 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
         Effective radius [m].
     saturated : numpy.ndarray of bool, same shape
         Where the atmosphere is still opaque at the top.
+    state : dict
+        Only with ``return_state``.
     """
     lnk = np.asarray(lnk, dtype=np.float64)
     npl, n_p, nw, ng = lnk.shape
@@ -438,20 +512,33 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
              1.0 / np.asarray(radius_start_m, dtype=np.float64).reshape(-1))
     out = np.empty(n_el)
     sat = np.empty(n_el, dtype=bool)
+    state = {k: np.empty(n_el) for k in ("u", "d", "ln_tf", "dfu", "f_top")}
     step = int(chunk or CHUNK_ELEMENTS)
+    du = None
+    if previous is not None and previous["u"].size == n_el and np.allclose(
+            previous["B"], pl.B, rtol=1e-9, atol=0.0):
+        du = 1.0 / pl.r0 - 1.0 / previous["r0"]
 
     def run(s0):
         e = np.arange(s0, min(n_el, s0 + step))
         ip = e // (nw * ng)
         iw = (e // ng) % nw
         el = {"B": pl.B[ip], "lnn0": pl.lnn0[ip], "lnkT": pl.lnkT[ip], "base": pl.base[ip],
-              "uf": pl.uf[ip], "ut": pl.ut[ip], "lnk": lnk_e, "e": e_e,
+              "uf": pl.uf[ip], "ut": pl.ut[ip], "capped": pl.capped[ip], "lnk": lnk_e, "e": e_e,
               "row": e * n_p}
         el["a2"] = np.maximum(lc[ip, iw], _LN_ABSENT) + el["lnn0"] + el["base"]
         el["a3"] = (np.maximum(li[ip, iw], _LN_ABSENT) + 2.0 * el["lnn0"] + el["base"]
                     - 0.5 * math.log(2.0))
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            out[e], sat[e] = _solve_chunk(el, x0, dx, n_p, None if start is None else start[e])
+            if du is not None:
+                prev = {k: previous[k][e] for k in state}
+                prev["capped"] = previous["capped"][e]
+                out[e], sat[e], st = _shifted_chunk(el, prev, du[ip], x0, dx, n_p)
+            else:
+                out[e], sat[e], st = _solve_chunk(el, x0, dx, n_p,
+                                                  None if start is None else start[e])
+        for k in state:
+            state[k][e] = st[k]
 
     starts = range(0, n_el, step)
     workers = min(worker_threads(), len(starts))
@@ -464,7 +551,12 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
     else:
         for s0 in starts:
             run(s0)
-    return out.reshape(npl, nw, ng), sat.reshape(npl, nw, ng)
+    radius, saturated = out.reshape(npl, nw, ng), sat.reshape(npl, nw, ng)
+    if not return_state:
+        return radius, saturated
+    ip_all = np.arange(n_el) // (nw * ng)
+    state.update(r0=pl.r0, B=pl.B, capped=pl.capped[ip_all])
+    return radius, saturated, state
 
 
 def worker_threads():

@@ -609,17 +609,21 @@ def _analytic_for(mixing_ratios, tag, *, source, sc, edges, t_iso, n_g, exclude,
     x_nodes = (np.array([np.log(_reference_pressure(source))]) if grid_p is None
                else np.log(grid_p))
     r0 = np.asarray(args[2], dtype=np.float64)
+    key = ("state", tag, memo.get("slice", 0) if memo is not None else 0)
+    prev = None if memo is None else memo.get(key)
+    if prev is not None and prev["r0"].shape != r0.shape:
+        prev = None
     start = None
-    key = ("start", tag, memo.get("slice", 0) if memo is not None else 0)
-    if memo is not None and key in memo:
-        r0_old, r_old = memo[key]
-        if r_old.shape[0] == r0.shape[0]:
-            with np.errstate(divide="ignore", invalid="ignore"):
-                start = 1.0 / (1.0 / r_old + (1.0 / r0 - 1.0 / r0_old)[:, None, None])
-    radius, sat = root_radius(op["lnk"], x_nodes, op["ln_continuum"], op["ln_cia"], *args,
-                              radius_start_m=start)
+    if prev is not None and exclude is not None:
+        # the same planets without one species: start from the full model's roots
+        du = (1.0 / r0 - 1.0 / prev["r0"])[:, None, None]
+        start = 1.0 / (prev["u"].reshape(du.shape[0], -1, op["lnk"].shape[-1]) + du)
+    radius, sat, state = root_radius(op["lnk"], x_nodes, op["ln_continuum"], op["ln_cia"], *args,
+                                     radius_start_m=start,
+                                     previous=prev if exclude is None else None,
+                                     return_state=True)
     if memo is not None and exclude is None:
-        memo[key] = (r0, radius)
+        memo[key] = state
     return radius, sat, op["g_weights"]
 
 
