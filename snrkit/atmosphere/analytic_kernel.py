@@ -46,8 +46,9 @@ EULER_GAMMA = 0.5772156649015329
 LATTICE_SUBDIVISIONS = 8
 #: Lattice nodes per doubling of T outside the tables' temperature range.
 LATTICE_NODES_PER_OCTAVE = 24
-#: Elements (planet x bin x g) per work chunk.
-CHUNK_ELEMENTS = 1 << 16
+#: Elements (planet x bin x g) per work chunk: some 25 work arrays of 128 kB stay in
+#: the core's cache (measured: 16384 beat 8192 and 65536 on the 2-core test machine).
+CHUNK_ELEMENTS = 1 << 14
 #: Upper bound of the process-wide lattice cache [bytes].
 LATTICE_CACHE_BYTES = 256 * 2**20
 #: ln of an absent absorber's opacity (finite, so that exp() gives exactly 0).
@@ -237,7 +238,9 @@ def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
     l2 = el["a2"] + bu
     l3 = el["a3"] + 2.0 * bu
     top = np.maximum(np.maximum(l1, l2), l3)
-    x1, x2, x3 = np.exp(l1 - top), np.exp(l2 - top), np.exp(l3 - top)
+    # exponents clipped at -60 (exp = 9e-27 next to the largest term's 1): results
+    # between 1e-308 and 1e-324 are subnormal numbers, which cost 100 times more
+    x1, x2, x3 = (np.exp(np.maximum(v - top, -60.0)) for v in (l1, l2, l3))
     tot = x1 + x2 + x3
     inv = 1.0 / tot
     w1, w2, w3 = x1 * inv, x2 * inv, x3 * inv
