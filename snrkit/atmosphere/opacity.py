@@ -76,7 +76,7 @@ import numpy as np
 
 from ..constants import C_LIGHT, K_B, M_U
 from ..errors import InputError, SnrkitError, SnrkitWarning, UnknownKeyError
-from ..tables import data_path, read_table
+from ..tables import data_path, read_columns
 
 __all__ = [
     "OPACITY_SPECIES", "MOLECULAR_SPECIES", "ATOMIC_SPECIES", "NATIVE_RESOLUTION",
@@ -305,9 +305,9 @@ def _molecular_table():
 
 @lru_cache(maxsize=1)
 def _band_parameters():
-    t = read_table("opacity", "bands.ecsv")
+    t = read_columns("opacity", "bands.ecsv")
     out = {}
-    for row in t:
+    for row in t.rows():
         out.setdefault(str(row["species"]), (float(row["lorentz_hwhm_1bar_296"]),
                                              float(row["lorentz_t_exponent"])))
     return out
@@ -315,7 +315,7 @@ def _band_parameters():
 
 @lru_cache(maxsize=1)
 def _molar_masses():
-    t = read_table("species.ecsv")
+    t = read_columns("species.ecsv")
     return {str(s): float(m) for s, m in zip(t["species"], t["molar_mass"])}
 
 
@@ -361,9 +361,9 @@ def _molecular_native_quantiles(species, pressure, g_nodes):
 
 @lru_cache(maxsize=1)
 def _alkali_lines():
-    t = read_table("opacity", "alkali_lines.ecsv")
+    t = read_columns("opacity", "alkali_lines.ecsv")
     out = {}
-    for row in t:
+    for row in t.rows():
         out.setdefault(str(row["species"]), []).append((
             1.0 / (float(row["wavelength_vacuum"]) * 1e-9),      # m^-1
             float(row["oscillator_strength"]), float(row["einstein_a"]),
