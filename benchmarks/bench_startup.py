@@ -15,8 +15,8 @@ it includes the interpreter start, the imports and the first-call work:
 Wall times on a shared 2-core machine are noisy, so the CPU time (user +
 system) of the same processes is printed beside them.  With
 ``--empty-cache`` the transits figure is also measured once against an empty
-cache folder (the first run on a new machine: it builds every opacity table,
-minutes on two cores).
+cache folder (the first run on a new machine: it builds the opacity tables
+the command needs, several seconds on two cores).
 
     python benchmarks/bench_startup.py [--repeats 5] [--empty-cache]
 """
@@ -96,10 +96,10 @@ def main():
 
     wall, cpu = medians(["-m", "snrkit", "--help"], env, args.repeats)
     print(f"cold `snrkit --help`: {wall:.3f} s wall ({cpu:.3f} s CPU), median of "
-          f"{args.repeats} new processes (goal 0.1 s)")
+          f"{args.repeats} new process(es) (goal 0.1 s)")
     wall, cpu = medians(transits, env, args.repeats)
     print(f"cold `snrkit transits {DEMO.name}`: {wall:.3f} s wall ({cpu:.3f} s CPU), median of "
-          f"{args.repeats} new processes, disk cache filled (goal 0.8 s)")
+          f"{args.repeats} new process(es), disk cache filled (goal 0.8 s)")
     imports, firsts, warms = [], [], []
     for _ in range(max(3, args.repeats // 2)):
         out = run(["-c", LAYERS], env)[2].split()
