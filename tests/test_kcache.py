@@ -56,6 +56,10 @@ def test_cached_array_reuses_and_rebuilds(cache):
     assert len(calls) == 5
     kcache.cached_array("x", "key1", (3, 4), build, dtype=np.float64)
     assert len(calls) == 6
+    # a builder that disagrees with the declared shape is a defect, not an entry
+    from snrkit.errors import SnrkitError
+    with pytest.raises(SnrkitError, match="expected"):
+        kcache.cached_array("z", "key1", (2, 2), build)
     assert not list(cache.glob(".*.tmp"))             # no temporary file left behind
 
 

@@ -175,6 +175,12 @@ def cached_array(label, key, shape, build, dtype=np.float32, prune_prefix=None):
     -------
     numpy.ndarray
         Read-only, identical to ``np.asarray(build(), dtype)``.
+
+    Raises
+    ------
+    SnrkitError
+        ``build()`` returned another shape than ``shape`` (a defect in the
+        caller: such an entry would be rebuilt on every read).
     """
     dtype = np.dtype(dtype)
     shape = tuple(int(n) for n in shape)
@@ -184,6 +190,9 @@ def cached_array(label, key, shape, build, dtype=np.float32, prune_prefix=None):
     if arr is not None:
         return arr
     arr = np.array(build(), dtype=dtype)
+    if arr.shape != shape:
+        from ..errors import SnrkitError
+        raise SnrkitError(f"cache entry {label}: built shape {arr.shape}, expected {shape}")
     try:
         folder.mkdir(parents=True, exist_ok=True)
         _write(path, arr)
