@@ -156,11 +156,11 @@ def _parse_simple_ecsv(text):
     columns = {}
     for j, (name, kind) in enumerate(zip(names, kinds)):
         vals = [r[j] for r in data]
+        if any(v == "" for v in vals):              # astropy may read these as masked
+            raise _NotSimple("missing values")
         if kind == "str":
             arr = np.array(vals, dtype=str) if vals else np.array([], dtype="<U1")
         else:
-            if any(v == "" for v in vals):
-                raise _NotSimple("missing values")
             try:
                 arr = np.array([float(v) for v in vals], dtype=np.float64)
             except ValueError as exc:

@@ -60,6 +60,7 @@ def test_tables_outside_the_subset_are_refused():
 @pytest.mark.parametrize("text, why", [
     ("# %ECSV 1.0\n# ---\n# datatype:\n# - {name: a, datatype: int64}\na\n1\n", "datatype"),
     ("# %ECSV 1.0\n# ---\n# datatype:\n# - {name: a, datatype: float64}\na\n\"\"\n", "missing"),
+    ("# %ECSV 1.0\n# ---\n# datatype:\n# - {name: a, datatype: string}\na\n\"\"\n", "missing"),
     ("# %ECSV 1.0\n# ---\n# datatype:\n# - {name: a, datatype: float64}\nb\n1\n", "names"),
     ("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n# - {name: a, datatype: float64}\na\n1\n",
      "delimiter"),
