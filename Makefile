@@ -35,6 +35,7 @@ bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_stacker.py
 	$(VPY) benchmarks/bench_rank.py
 	$(VPY) benchmarks/bench_framework.py
+	$(VPY) benchmarks/bench_startup.py
 
 clean:
 	rm -rf $(VENV) build dist .pytest_cache snrkit_demo_output

@@ -8,7 +8,7 @@ import numpy as np
 
 from .constants import (K_B, M_U, H_PLANCK, C_LIGHT, SIGMA_SB, L_SUN, AU,
                         R_EARTH, M_EARTH, R_SUN)
-from .tables import read_table
+from .tables import read_columns
 
 __all__ = [
     "equilibrium_temperature", "luminosity", "insolation",
@@ -142,9 +142,9 @@ def emission_spectroscopy_metric(rp_m, rs_m, teq_K, teff_K, mag_k):
 
 
 def _mass_radius_rows():
-    t = read_table("mass_radius.ecsv")
+    t = read_columns("mass_radius.ecsv")
     return [(float(r["radius_min"]), float(r["radius_max"]), float(r["coefficient"]),
-             float(r["exponent"]), float(r["sigma_log10_mass"])) for r in t]
+             float(r["exponent"]), float(r["sigma_log10_mass"])) for r in t.rows()]
 
 
 #: Largest radius [R_earth] at which :func:`mass_from_radius` applies.
@@ -178,9 +178,9 @@ def mass_from_radius(rp_m):
 
 
 def _hz_table():
-    t = read_table("habitable_zone.ecsv")
+    t = read_columns("habitable_zone.ecsv")
     return {str(r["limit"]): (float(r["seff_sun"]), float(r["a"]), float(r["b"]),
-                              float(r["c"]), float(r["d"])) for r in t}
+                              float(r["c"]), float(r["d"])) for r in t.rows()}
 
 
 #: Names of the habitable-zone flux limits, hottest first.

@@ -12,7 +12,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..units import as_float_array
-from ..tables import read_table
+from ..tables import read_columns
 
 __all__ = ["species_molar_masses", "SPECIES", "normalise_mixing_ratios",
            "mean_molecular_weight", "MU_H2_HE_DEFAULT", "SUM_TOLERANCE"]
@@ -27,7 +27,7 @@ SUM_TOLERANCE = 1e-6
 
 def species_molar_masses():
     """Return ``{species: molar mass [g/mol]}`` for every supported species."""
-    t = read_table("species.ecsv")
+    t = read_columns("species.ecsv")
     return {str(s): float(m) for s, m in zip(t["species"], t["molar_mass"])}
 
 

@@ -45,7 +45,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import InputError, UnknownKeyError
-from ..tables import read_table
+from ..tables import read_columns
 from .opacity import OpacityRangeWarning
 
 __all__ = ["RAYLEIGH_SPECIES", "CIA_PAIRS", "rayleigh_cross_section", "cia_coefficient",
@@ -175,9 +175,9 @@ def rayleigh_cross_section(species, wavelength_m):
 
 @lru_cache(maxsize=1)
 def _cia_bands():
-    t = read_table("cia", "cia_bands.ecsv")
+    t = read_columns("cia", "cia_bands.ecsv")
     out = {}
-    for row in t:
+    for row in t.rows():
         out.setdefault(str(row["pair"]), []).append(
             (100.0 * float(row["centre"]), 100.0 * float(row["fwhm_296"]),
              1e-10 * float(row["peak_296"]), float(row["peak_t_exponent"]),

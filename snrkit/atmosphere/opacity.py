@@ -76,7 +76,7 @@ import numpy as np
 
 from ..constants import C_LIGHT, K_B, M_U
 from ..errors import InputError, SnrkitError, SnrkitWarning, UnknownKeyError
-from ..tables import data_path, read_table
+from ..tables import data_path, read_columns
 
 __all__ = [
     "OPACITY_SPECIES", "MOLECULAR_SPECIES", "ATOMIC_SPECIES", "NATIVE_RESOLUTION",
@@ -220,7 +220,19 @@ _LOG10_PHI = np.arange(-9.0, 9.0001, 0.05)
 
 @lru_cache(maxsize=16)
 def _quantile_table(g_nodes):
-    """ln q(g; phi) on the ln-phi grid for the given g nodes (bisection in ln x)."""
+    """ln q(g; phi) on the ln-phi grid for the given g nodes (bisection in ln x).
+
+    Kept in memory and, in float64 (bit-identical to a fresh build), in the
+    per-user disk cache (:mod:`snrkit.atmosphere.kcache`).
+    """
+    from .kcache import array_digest, cached_array, data_key
+    g = np.asarray(g_nodes, dtype=np.float64)
+    label = f"quantiles-{array_digest(g)}-{array_digest(_LOG10_PHI)}"
+    return cached_array(label, data_key(), (_LOG10_PHI.size, g.size),
+                        lambda: _build_quantile_table(g), dtype=np.float64)
+
+
+def _build_quantile_table(g_nodes):
     g = np.asarray(g_nodes)[None, :]
     phi = (10.0 ** _LOG10_PHI)[:, None]
     lo = np.full((phi.size, g.size), -200.0)
@@ -230,9 +242,7 @@ def _quantile_table(g_nodes):
         below = _ig_cdf(np.exp(mid), phi) < g
         lo = np.where(below, mid, lo)
         hi = np.where(below, hi, mid)
-    table = 0.5 * (lo + hi)
-    table.setflags(write=False)
-    return table
+    return 0.5 * (lo + hi)
 
 
 def _std_quantiles(phi, g_nodes):
@@ -305,9 +315,9 @@ def _molecular_table():
 
 @lru_cache(maxsize=1)
 def _band_parameters():
-    t = read_table("opacity", "bands.ecsv")
+    t = read_columns("opacity", "bands.ecsv")
     out = {}
-    for row in t:
+    for row in t.rows():
         out.setdefault(str(row["species"]), (float(row["lorentz_hwhm_1bar_296"]),
                                              float(row["lorentz_t_exponent"])))
     return out
@@ -315,7 +325,7 @@ def _band_parameters():
 
 @lru_cache(maxsize=1)
 def _molar_masses():
-    t = read_table("species.ecsv")
+    t = read_columns("species.ecsv")
     return {str(s): float(m) for s, m in zip(t["species"], t["molar_mass"])}
 
 
@@ -324,9 +334,18 @@ def opacity_provenance():
     return dict(_molecular_table()["provenance"])
 
 
+@lru_cache(maxsize=1)
+def _temperature_grid():
+    # only this member of the archive: the start-up path needs the grid, not the bands
+    with np.load(data_path("opacity", "malkmus_bands.npz"), allow_pickle=False) as z:
+        temps = z["temperature"].astype(np.float64)
+    temps.setflags(write=False)
+    return temps
+
+
 def table_temperatures():
     """Temperatures [K] at which the opacity tables are given."""
-    return _molecular_table()["temperature"].copy()
+    return _temperature_grid().copy()
 
 
 def _native_centres_wavenumber():
@@ -361,9 +380,9 @@ def _molecular_native_quantiles(species, pressure, g_nodes):
 
 @lru_cache(maxsize=1)
 def _alkali_lines():
-    t = read_table("opacity", "alkali_lines.ecsv")
+    t = read_columns("opacity", "alkali_lines.ecsv")
     out = {}
-    for row in t:
+    for row in t.rows():
         out.setdefault(str(row["species"]), []).append((
             1.0 / (float(row["wavelength_vacuum"]) * 1e-9),      # m^-1
             float(row["oscillator_strength"]), float(row["einstein_a"]),
@@ -526,7 +545,8 @@ def _alkali_native_kdist(species, pressure, n_g):
 
 
 #: Data files whose contents key the disk cache of the native k-distributions.
-_KDIST_DATA = ("opacity/malkmus_bands.npz", "opacity/bands.ecsv", "opacity/alkali_lines.ecsv")
+_KDIST_DATA = ("opacity/malkmus_bands.npz", "opacity/bands.ecsv", "opacity/alkali_lines.ecsv",
+               "species.ecsv")
 
 
 @lru_cache(maxsize=16)
@@ -636,7 +656,22 @@ def _overlap(edges):
 
 @lru_cache(maxsize=128)
 def _k_table_cached(species, edges_bytes, n_g, pressure):
+    """ln k (float32) of one species on the bins ``edges_bytes`` [m]: (n_T, n_bins, n_g).
+
+    Kept in memory and in the per-user disk cache
+    (:mod:`snrkit.atmosphere.kcache`; the stored float32 values are the
+    built ones), one entry per species, grid, g points and pressure.
+    """
+    from .kcache import array_digest, cached_array, data_key
     edges = np.frombuffer(edges_bytes, dtype=np.float64)
+    shape = (table_temperatures().size, edges.size - 1, n_g)
+    label = f"ktab-{species}-{pressure:.6g}Pa-g{n_g}-{array_digest(edges)}"
+    return cached_array(label, data_key(*_KDIST_DATA), shape,
+                        lambda: _build_k_table(species, edges, n_g, pressure),
+                        prune_prefix="ktab-")
+
+
+def _build_k_table(species, edges, n_g, pressure):
     g, _ = _gl(n_g)
     tgt, nat_idx, w = _overlap(edges)
     n_t = edges.size - 1
@@ -659,9 +694,7 @@ def _k_table_cached(species, edges_bytes, n_g, pressure):
         grp = np.repeat(t_m, _N_INTERNAL_G)
         res = _grouped_rebin(vals, wts, grp, n_t, n_g)
         out[:, ~single] = res[:, ~single]
-    lnk = np.log(np.maximum(out, np.exp(_LN_K_FLOOR))).astype(np.float32)   # 1e-5 rel. in k
-    lnk.setflags(write=False)
-    return lnk
+    return np.log(np.maximum(out, np.exp(_LN_K_FLOOR))).astype(np.float32)   # 1e-5 rel. in k
 
 
 def _clamp(values, lo, hi, field, unit):

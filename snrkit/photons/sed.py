@@ -38,7 +38,7 @@ import astropy.units as u
 
 from ..constants import H_PLANCK, C_LIGHT, K_B
 from ..errors import InputError, UnitMismatchError, UnknownKeyError
-from ..units import to_si, check_range, as_float_array
+from ..units import to_si, check_range, as_float_array, si_scale
 
 __all__ = [
     "planck_flambda",
@@ -98,12 +98,14 @@ def zero_points():
         Sources: Cohen, Wheaton & Megeath 2003 (AJ 126, 1090) for J, H, Ks;
         Bessell, Castelli & Plez 1998 (A&A 333, 231) for V.
     """
-    from ..tables import read_table
-    t = read_table("photometry", "zero_points.ecsv")
+    from ..tables import read_columns
+    t = read_columns("photometry", "zero_points.ecsv")
+    lam_si = si_scale(u.Unit(t.units["reference_wavelength"]))
+    f0_si = si_scale(u.Unit(t.units["zero_point_flambda"]))
     out = {}
-    for row in t:
-        lam = (row["reference_wavelength"] * t["reference_wavelength"].unit).si.value
-        f0 = (row["zero_point_flambda"] * t["zero_point_flambda"].unit).si.value
+    for row in t.rows():
+        lam = row["reference_wavelength"] * lam_si
+        f0 = row["zero_point_flambda"] * f0_si
         out[str(row["band"])] = (float(lam), float(f0), str(row["source"]))
     return out
 
@@ -216,11 +218,11 @@ def band_response(band):
         102, 1181; provenance in each file's metadata).
     """
     name = _band_name(band)
-    from ..tables import read_table
-    zp = read_table("photometry", "zero_points.ecsv")
+    from ..tables import read_columns
+    zp = read_columns("photometry", "zero_points.ecsv")
     row = list(zp["band"]).index(name)
-    t = read_table("photometry", str(zp["response_file"][row]))
-    lam = t["wavelength"].quantity.to_value(u.m)
+    t = read_columns("photometry", str(zp["response_file"][row]))
+    lam = (t["wavelength"] * u.Unit(t.units["wavelength"])).to_value(u.m)
     return BandResponse(name, lam, np.asarray(t["relative_response"], dtype=np.float64),
                         str(t.meta["weighting"]), str(t.meta["source"]))
 
