@@ -69,7 +69,7 @@ def test_mid_times_follow_linear_ephemeris_exactly(alder):
         hi = Time("2027-01-01", scale="utc").tdb.jd
     assert float(t0 + (int(n[0]) - 1) * p) < lo <= float(tab["mid_bjd_tdb"][0])
     assert float(tab["mid_bjd_tdb"][-1]) <= hi < float(t0 + (int(n[-1]) + 1) * p)
-    assert len(tab) == 104          # 365 d / 3.5245 d = 103.6: 103 or 104 transits
+    assert len(tab) in (77, 78)     # 365 d / 4.7371 d = 77.05: 77 or 78 transits
 
 
 @settings(max_examples=40, deadline=None)
@@ -98,10 +98,10 @@ def test_uncertainty_grows_as_stated(alder):
     expected_min = np.sqrt(25.0 ** 2 + n ** 2 * 0.5 ** 2) / 60.0
     np.testing.assert_allclose(tab["sigma_minutes"], expected_min, rtol=1e-12)
     # Hand computation: 2027-06-01 00:00 UTC = JD 2461557.5 (557 days after
-    # 2025-11-21 00:00 = JD 2461000.5); (2461557.5 - 2461000.3241) / 3.5245 = 158.09,
-    # so the first epoch is n = 159 and sigma = sqrt(25^2 + 159^2 0.5^2) = 83.338 s.
-    assert int(n[0]) == 159
-    assert tab["sigma_minutes"][0] * 60 == pytest.approx(83.338, abs=1e-3)
+    # 2025-11-21 00:00 = JD 2461000.5); (2461557.5 - 2461000.3241) / 4.7371 = 117.62,
+    # so the first epoch is n = 118 and sigma = sqrt(25^2 + 118^2 0.5^2) = 64.078 s.
+    assert int(n[0]) == 118
+    assert tab["sigma_minutes"][0] * 60 == pytest.approx(64.078, abs=1e-3)
 
 
 @settings(max_examples=40, deadline=None)
@@ -118,7 +118,7 @@ def test_timing_sigma_laws(s0, sp, n):
 def test_reference_time_after_range_gives_negative_epochs(alder):
     # T0 (2025-11) after a 2024 range: the ephemeris runs backwards.
     tab = transit_windows(alder, "2024-03-01", "2024-03-15")
-    assert len(tab) == 4 and np.all(tab["epoch"] < 0)
+    assert len(tab) in (2, 3) and np.all(tab["epoch"] < 0)   # 14 d / 4.7371 d = 2.96
     assert np.all(np.diff(tab["sigma_minutes"]) < 0)   # nearer T0, smaller sigma
 
 

@@ -52,7 +52,7 @@ def test_table_and_plot(capsys, tmp_path):
 
 
 def test_too_bright_star_is_flagged(capsys, tmp_path):
-    text = data_path("demo", "alder.toml").read_text().replace("J = 9.05", "J = 5.00")
+    text = data_path("demo", "alder.toml").read_text().replace("J = 10.27", "J = 5.00")
     assert "J = 5.00" in text
     p = tmp_path / "bright.toml"
     p.write_text(text)

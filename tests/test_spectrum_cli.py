@@ -34,9 +34,9 @@ def test_json_single_spectrum(capsys):
         assert key in out
     assert out["scenario"] == "h2-clear-solar"
     assert len(out["wavelength_um"]) == len(out["transit_depth_ppm"])
-    # annulus = 2 H Rp / Rs^2, consistent with the quoted scale height (Alder b: 1.25 R_J,
-    # 1.05 R_sun)
-    rp, rs = 1.25 * 7.1492e7, 1.05 * 6.957e8
+    # annulus = 2 H Rp / Rs^2, consistent with the quoted scale height (Alder b: 1.12 R_J,
+    # 1.28 R_sun)
+    rp, rs = 1.12 * 7.1492e7, 1.28 * 6.957e8
     assert out["annulus_ppm_per_scale_height"] == pytest.approx(
         2 * out["scale_height_km"] * 1e3 * rp / rs**2 * 1e6, rel=1e-6)
 

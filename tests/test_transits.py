@@ -91,8 +91,8 @@ def test_transit_limit_reported(cedar):
 
 
 def test_saturating_mode_is_said_so():
-    text = data_path("demo", "alder.toml").read_text().replace("J = 9.05", "J = 4.0").replace(
-        "H = 8.75", "H = 3.7").replace("Ks = 8.70", "Ks = 3.6").replace("V = 10.20", "V = 5.2")
+    text = data_path("demo", "alder.toml").read_text().replace("J = 10.27", "J = 4.0").replace(
+        "H = 10.02", "H = 3.7").replace("Ks = 9.97", "Ks = 3.6").replace("V = 11.35", "V = 5.2")
     system = read_system_text(text)
     res = transits_for_system(system, PRISM, resolution=30)
     rec = res["planets"][0]
@@ -284,7 +284,7 @@ def test_refit_can_only_lower_delta_chi2_and_finds_the_degeneracy():
                                 resolution=40)["planets"][0]
     free = transits_for_system(alder, "cold6m-grism-2.4-5um", against="h2-cloudy-solar",
                                resolution=40, refit=("cloud_top_pressure",))["planets"][0]
-    assert fixed["transits_needed"] == 1
+    assert 1 <= (fixed["transits_needed"] or 0) <= 3   # clear against a 1 mbar deck: a few transits
     assert free["delta_chi2_per_transit"] < 1e-3 * fixed["delta_chi2_per_transit"]
     assert free["refit"]["cloud_top_pressure_bar"] > 0.1
     with pytest.raises(InputError):
