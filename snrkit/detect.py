@@ -46,6 +46,8 @@ never the default.  Its "expected" statistic is the median of the
 noncentral chi^2 (the value a measurement exceeds half the time).
 """
 
+import functools
+
 import numpy as np
 
 from .errors import InputError
@@ -326,18 +328,64 @@ def significance_from_delta_chi2(delta_chi2, dof=1):
     return np.where(dof == 1, np.sqrt(d), np.clip(z, 0.0, None))
 
 
+def _per_distinct(fn, *args):
+    """``fn`` evaluated once per distinct tuple of the broadcast ``args``, scattered back.
+
+    ``fn`` takes and returns Python floats and is memoised (functools.lru_cache),
+    so a quantity that depends only on a few settings (sigma, probability, dof)
+    is computed once per process for each tuple instead of once per element.
+    """
+    arrs = np.broadcast_arrays(*(np.asarray(a, dtype=np.float64) for a in args))
+    shape = arrs[0].shape
+    if arrs[0].size == 1:
+        return np.full(shape, fn(*(float(a.reshape(-1)[0]) for a in arrs)))
+    cols = np.stack([a.reshape(-1) for a in arrs], axis=-1)
+    uniq, inverse = np.unique(cols, axis=0, return_inverse=True)
+    vals = np.array([fn(*map(float, row)) for row in uniq], dtype=np.float64)
+    return vals[inverse.reshape(-1)].reshape(shape)
+
+
+@functools.lru_cache(maxsize=4096)
+def _critical_one(z, dof):
+    """chi^2_dof quantile at the one-sided tail Phi(-Z) (scipy.special.chdtri), Z^2 at 1 dof."""
+    from scipy import special
+    if dof == 1:
+        return float(np.float64(z) ** 2)
+    with np.errstate(invalid="ignore"):
+        return float(special.chdtri(max(dof, 1.0), special.ndtr(-z)))
+
+
+@functools.lru_cache(maxsize=4096)
+def _noncentrality_one(p, z, dof):
+    """lambda with P(detection) = p: closed form at 1 dof, else scipy.special.chndtrinc."""
+    from scipy import special
+    root = z + special.ndtri(p)
+    if dof == 1:
+        return float(root ** 2) if root > 0 else 0.0
+    with np.errstate(invalid="ignore"):
+        return float(special.chndtrinc(_critical_one(z, dof), max(dof, 1.0), 1.0 - p))
+
+
 def critical_delta_chi2(sigma, dof=1):
     """Delta chi^2 at which a test with ``dof`` degrees of freedom reaches ``sigma``.
 
     Z^2 for one degree of freedom; otherwise the chi^2_dof quantile at the
-    one-sided tail probability Phi(-Z) (scipy.special.chdtri).
+    one-sided tail probability Phi(-Z) (scipy.special.chdtri).  Depends only
+    on (Z, dof): computed once per distinct pair and memoised.
+
+    Parameters
+    ----------
+    sigma : array_like
+        Target significance Z [sigma].
+    dof : array_like
+        Degrees of freedom (broadcasts against ``sigma``).
+
+    Returns
+    -------
+    numpy.ndarray
+        The critical Delta chi^2 (dimensionless).
     """
-    from scipy import special
-    z = np.asarray(sigma, dtype=np.float64)
-    dof = np.asarray(dof, dtype=np.float64)
-    with np.errstate(invalid="ignore"):
-        crit = special.chdtri(np.maximum(dof, 1.0), special.ndtr(-z))
-    return np.where(dof == 1, z ** 2, crit)
+    return _per_distinct(_critical_one, sigma, dof)
 
 
 delta_chi2_for_significance = critical_delta_chi2
@@ -376,7 +424,10 @@ def expected_statistic(noncentrality, dof=1):
         x = lam[sel]
         clipped = np.clip(x, _LAMBDA_GRID[0], _LAMBDA_GRID[-1])
         if x.size <= _DIRECT_MEDIAN_MAX:
-            med = special.chndtrix(0.5, d, clipped)
+            # each distinct value once (repeated values -- zeros, a curve point equal
+            # to the per-transit value -- are common); same values as per element
+            uniq, inverse = np.unique(clipped, return_inverse=True)
+            med = special.chndtrix(0.5, d, uniq)[inverse.reshape(-1)]
         else:
             med = np.exp(np.interp(np.log(clipped), np.log(_LAMBDA_GRID), _median_table(float(d))))
         med = np.where(x < _LAMBDA_GRID[0], special.chdtri(d, 0.5), med)
@@ -410,20 +461,24 @@ def noncentrality_for_probability(probability, sigma, dof=1):
     """The Asimov lambda at which the detection probability equals ``probability``.
 
     One degree of freedom: (Z + Phi^-1(P))^2 (0 when P <= Phi(-Z)); more:
-    scipy.special.chndtrinc at the critical value.
+    scipy.special.chndtrinc at the critical value.  Depends only on
+    (P, Z, dof): computed once per distinct tuple and memoised.
+
+    Parameters
+    ----------
+    probability : array_like
+        Detection probability P in (0, 1).
+    sigma : array_like
+        Target significance Z [sigma].
+    dof : array_like
+        Degrees of freedom.
+
+    Returns
+    -------
+    numpy.ndarray
+        The noncentrality lambda (dimensionless Delta chi^2).
     """
-    from scipy import special
-    p = np.asarray(probability, dtype=np.float64)
-    z = np.asarray(sigma, dtype=np.float64)
-    dof = np.asarray(dof, dtype=np.float64)
-    root = z + special.ndtri(p)
-    one = np.where(root > 0, root, 0.0) ** 2
-    if np.all(dof == 1):
-        return one
-    crit = critical_delta_chi2(z, dof)
-    with np.errstate(invalid="ignore"):
-        many = special.chndtrinc(crit, np.maximum(dof, 1.0), 1.0 - p)
-    return np.where(dof == 1, one, many)
+    return _per_distinct(_noncentrality_one, probability, sigma, dof)
 
 
 def transits_needed(lambda_of_n, target_lambda, n_max):
