@@ -187,3 +187,21 @@ def test_direct_median_dedup_keeps_values():
                    np.where(lam > 1e8, lam + 9, stats.ncx2.median(9, np.clip(lam, 1e-4, None))))
     np.testing.assert_allclose(got, ref, rtol=1e-9)
     assert got[1] == got[2] and got[3] == got[5]
+
+
+def test_answer_does_not_depend_on_the_chunk_size(monkeypatch):
+    # lambda(N) is evaluated in chunks of rows; every row's arithmetic is its own, so
+    # chunks of 1 row or of the whole batch give the same numbers, bit for bit.
+    truth, null, white, floor, kw = _problem(11, 40, "per-bin", "finite", "species", True)
+    args = dict(floor=floor, sigma=3.0, probabilities=(0.5, 0.9), n_max=3000,
+                n_curve=[1, 5, 50], **kw)
+    whole = dt.stack_transits(truth, null, white, **args)
+    monkeypatch.setattr(dt, "_CHUNK_VALUES", 1)
+    rows = dt.stack_transits(truth, null, white, **args)
+    assert np.any(whole["transits_needed"] > 1)
+    for key in ("transits_needed", "delta_chi2_per_transit", "delta_chi2_asymptotic",
+                "curve_significance", "limiting_term"):
+        np.testing.assert_array_equal(rows[key], whole[key])
+    for p in (0.5, 0.9):
+        np.testing.assert_array_equal(rows["transits_for_probability"][p],
+                                      whole["transits_for_probability"][p])
