@@ -201,9 +201,12 @@ def _choose(models, options, floor, floor_averages, sigma, n_max):
             continue
         sub = models.take(differs)
         usable = _usable(white[differs], sat[differs], sub)
-        res = _stack(sub, white[differs], np.broadcast_to(floor, models.data.shape)[differs],
-                     usable, floor_averages, sigma=sigma, probabilities=(), n_max=n_max,
-                     n_curve=[1])
+        m = sub.masked(usable)
+        res = dt.stack_needed(m.data, m.null, np.where(usable, white[differs], np.nan),
+                              floor=np.where(usable, np.broadcast_to(
+                                  floor, models.data.shape)[differs], 0.0),
+                              floor_averages=floor_averages, dof=_dof(sub, usable),
+                              **m.stack_kwargs(), sigma=sigma, n_max=n_max)
         n = res["transits_needed"].astype(np.float64)
         n_need[j][differs] = np.where(n > 0, n, np.inf)
         lam_inf[j][differs] = res["delta_chi2_asymptotic"]
