@@ -46,10 +46,10 @@ def synthetic(n, seed=2):
     t["planet_radius_earth"] = rng.uniform(0.7, 14.0, n)
     t["period_days"] = 10 ** rng.uniform(0.0, 1.7, n)
     t["impact_parameter"] = rng.uniform(0.0, 0.6, n)
-    t["star_teff_K"] = teff
-    t["star_radius_sun"] = rs
-    t["star_mass_sun"] = ms
-    t["star_mag_J"] = rng.uniform(8.5, 14.0, n)       # includes partly saturating hosts
+    t["host_teff_K"] = teff
+    t["host_radius_sun"] = rs
+    t["host_mass_sun"] = ms
+    t["host_mag_J"] = rng.uniform(8.5, 14.0, n)       # includes partly saturating hosts
     return t
 
 

@@ -36,15 +36,15 @@ planet.periastron_argument          deg                ``periastron_argument_deg
 planet.transit_midtime              d (BJD_TDB)        ``transit_midtime_bjd_tdb``
 planet.transit_midtime_uncertainty  d                  ``transit_midtime_uncertainty_days``
 planet.equilibrium_temperature      K                  ``planet_teq_K``
-star.effective_temperature (req.)   K                  ``star_teff_K``
-star.radius (required)              solRad             ``star_radius_sun``
-star.mass (or log_gravity)          solMass            ``star_mass_sun``
-star.log_gravity                    dex (cgs)          ``star_logg_cgs``
-star.metallicity                    dex                ``star_metallicity_dex``
-star.magnitudes.V / J / H / Ks      mag                ``star_mag_V`` ... ``star_mag_Ks``
-star.distance                       pc                 ``star_distance_pc``
-star.right_ascension                deg (ICRS)         ``star_ra_deg``
-star.declination                    deg (ICRS)         ``star_dec_deg``
+star.effective_temperature (req.)   K                  ``host_teff_K``
+star.radius (required)              solRad             ``host_radius_sun``
+star.mass (or log_gravity)          solMass            ``host_mass_sun``
+star.log_gravity                    dex (cgs)          ``host_logg_cgs``
+star.metallicity                    dex                ``host_metallicity_dex``
+star.magnitudes.V / J / H / Ks      mag                ``host_mag_V`` ... ``host_mag_Ks``
+star.distance                       pc                 ``host_distance_pc``
+star.right_ascension                deg (ICRS)         ``host_ra_deg``
+star.declination                    deg (ICRS)         ``host_dec_deg``
 ==================================  =================  =================================
 
 With no mapping the default layout is used: every column above that is
@@ -189,20 +189,20 @@ FIELDS = {
     "planet.equilibrium_temperature": _f("quantity", "K", "planet_teq_K",
                                          "equilibrium temperature",
                                          *LIMITS["planet.equilibrium_temperature"]),
-    "star.effective_temperature": _f("quantity", "K", "star_teff_K",
+    "star.effective_temperature": _f("quantity", "K", "host_teff_K",
                                      "stellar effective temperature", *TEFF_RANGE_K),
-    "star.radius": _f("quantity", "solRad", "star_radius_sun", "stellar radius",
+    "star.radius": _f("quantity", "solRad", "host_radius_sun", "stellar radius",
                       *LIMITS["star.radius"]),
-    "star.mass": _f("quantity", "solMass", "star_mass_sun", "stellar mass", *LIMITS["star.mass"]),
-    "star.log_gravity": _f("dex", None, "star_logg_cgs", "stellar log g (cgs)", 0.0, 9.0),
-    "star.metallicity": _f("dex", None, "star_metallicity_dex", "stellar metallicity [Fe/H]",
+    "star.mass": _f("quantity", "solMass", "host_mass_sun", "stellar mass", *LIMITS["star.mass"]),
+    "star.log_gravity": _f("dex", None, "host_logg_cgs", "stellar log g (cgs)", 0.0, 9.0),
+    "star.metallicity": _f("dex", None, "host_metallicity_dex", "stellar metallicity [Fe/H]",
                            -5.0, 1.5),
-    **{f"star.magnitudes.{b}": _f("mag", None, f"star_mag_{b}", f"{b} magnitude", -2.0, 30.0)
+    **{f"star.magnitudes.{b}": _f("mag", None, f"host_mag_{b}", f"{b} magnitude", -2.0, 30.0)
        for b in BANDS},
-    "star.distance": _f("quantity", "pc", "star_distance_pc", "distance", *LIMITS["star.distance"]),
-    "star.right_ascension": _f("quantity", "deg", "star_ra_deg", "right ascension", 0.0, 360.0,
+    "star.distance": _f("quantity", "pc", "host_distance_pc", "distance", *LIMITS["star.distance"]),
+    "star.right_ascension": _f("quantity", "deg", "host_ra_deg", "right ascension", 0.0, 360.0,
                                high_inc=False),
-    "star.declination": _f("quantity", "deg", "star_dec_deg", "declination", -90.0, 90.0),
+    "star.declination": _f("quantity", "deg", "host_dec_deg", "declination", -90.0, 90.0),
 }
 
 #: field -> column name of the default layout.

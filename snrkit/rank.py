@@ -310,7 +310,7 @@ def _with_magnitudes(catalogue, status, reason):
     system, good = catalogue.system, catalogue.good_index
     if system is None or not len(good):
         return system, good
-    cols = [f"star_mag_{b}" for b in ("V", "J", "H", "Ks") if f"star_mag_{b}" in catalogue.values.colnames]
+    cols = [f"host_mag_{b}" for b in ("V", "J", "H", "Ks") if f"host_mag_{b}" in catalogue.values.colnames]
     have = np.zeros(len(good), dtype=bool)
     for c in cols:
         have |= np.isfinite(np.asarray(catalogue.values[c], dtype=np.float64)[good])
@@ -406,7 +406,7 @@ def _apply_filters(f, catalogue, out, ok):
             keep &= np.isin(out["habitable_zone"].astype(str), ["conservative", "optimistic"])
         if "magnitude_min" in f or "magnitude_max" in f:
             band = f.get("band", "J")
-            col = {"V": "star_mag_V", "J": "star_mag_J", "H": "star_mag_H", "Ks": "star_mag_Ks"}.get(band)
+            col = {"V": "host_mag_V", "J": "host_mag_J", "H": "host_mag_H", "Ks": "host_mag_Ks"}.get(band)
             if col is None:
                 raise InputError("band", band, "V, J, H or Ks")
             mags = np.asarray(catalogue.values[col], dtype=np.float64) if col in catalogue.values.colnames \

@@ -145,8 +145,8 @@ def mode_case(rng, folder):
 
 _CELLS = [np.nan, np.inf, -np.inf, 1e300, -1.0, 0.0, 1e-300, 5e-324, "abc", "", "1e400", "--"]
 _NUMERIC_FIELDS = ("planet_radius_earth", "planet_mass_earth", "period_days", "impact_parameter",
-                   "star_teff_K", "star_radius_sun", "star_mass_sun", "star_mag_J",
-                   "star_distance_pc", "eccentricity", "semi_major_axis_au")
+                   "host_teff_K", "host_radius_sun", "host_mass_sun", "host_mag_J",
+                   "host_distance_pc", "eccentricity", "semi_major_axis_au")
 
 
 def catalogue_case(rng, folder, n_rows=6):
@@ -174,7 +174,7 @@ def catalogue_case(rng, folder, n_rows=6):
             names[i] = rng.choice(["", names[(i + 1) % n_rows], " spaced name ", "ü-name"])
         elif op < 0.25:
             for b in ("V", "J", "H", "Ks"):
-                cols[f"star_mag_{b}"][i] = np.nan
+                cols[f"host_mag_{b}"][i] = np.nan
         else:
             c = rng.choice(_NUMERIC_FIELDS)
             cols[c][i] = rng.choice(_CELLS)

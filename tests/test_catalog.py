@@ -76,7 +76,7 @@ def test_demo_spans_planet_and_host_classes(demo):
     ok = d["status"] == "ok"
     r = d["radius"][ok].to_value(u.R_earth)
     teq = d["equilibrium_temperature"][ok].to_value(u.K)
-    teff = np.asarray(demo.values["star_teff_K"])[ok]
+    teff = np.asarray(demo.values["host_teff_K"])[ok]
     assert (r > 8).sum() >= 20 and (r < 1.6).sum() >= 20          # hot giants ... rocky
     assert teq.max() > 1500 and teq.min() < 300                   # hot ... temperate
     assert np.any(d["hz_position"][ok] == "conservative")
@@ -86,8 +86,8 @@ def test_demo_spans_planet_and_host_classes(demo):
     assert all(n.startswith("Demo-") for n in names)
     # ephemerides with uncertainties, sky positions, distances for every usable row
     for col in ("transit_midtime_bjd_tdb", "transit_midtime_uncertainty_days",
-                "period_uncertainty_days", "star_ra_deg", "star_dec_deg", "star_distance_pc",
-                "star_mag_J", "star_mag_Ks"):
+                "period_uncertainty_days", "host_ra_deg", "host_dec_deg", "host_distance_pc",
+                "host_mag_J", "host_mag_Ks"):
         assert np.all(np.isfinite(np.asarray(demo.values[col])[ok])), col
 
 
@@ -192,7 +192,7 @@ def test_mapping_errors(demo_table):
     with pytest.raises(UnknownKeyError):
         load_mapping({"planets": {}})
     with pytest.raises(UnknownKeyError, match="did you mean 'Ks'"):
-        load_mapping({"star": {"magnitudes": {"K": "star_mag_Ks"}}})
+        load_mapping({"star": {"magnitudes": {"K": "host_mag_Ks"}}})
     with pytest.raises(UnknownKeyError):          # offset only for the mid-time
         load_mapping({"planet": {"period": {"column": "p", "offset": 1.0}}})
     # wrong dimension: whole-file error naming the column
@@ -236,11 +236,11 @@ def test_mapping_file_errors(tmp_path):
 # ----------------------------------------------------------------------------- screening
 
 GOOD = dict(planet_name="T-01 b", host_name="T-01", planet_radius_earth=2.0,
-            planet_mass_earth=5.0, period_days=10.0, star_teff_K=3500.0, star_radius_sun=0.5,
-            star_mass_sun=0.5, star_mag_J=9.0, impact_parameter=0.3)
+            planet_mass_earth=5.0, period_days=10.0, host_teff_K=3500.0, host_radius_sun=0.5,
+            host_mass_sun=0.5, host_mag_J=9.0, impact_parameter=0.3)
 UNITS = {"planet_radius_earth": "earthRad", "planet_mass_earth": "earthMass", "period_days": "d",
-         "semi_major_axis_au": "AU", "star_teff_K": "K", "star_radius_sun": "solRad",
-         "star_mass_sun": "solMass", "inclination_deg": "deg"}
+         "semi_major_axis_au": "AU", "host_teff_K": "K", "host_radius_sun": "solRad",
+         "host_mass_sun": "solMass", "inclination_deg": "deg"}
 
 
 def _table(rows):
@@ -268,22 +268,22 @@ CASES = [
     (dict(planet_name=None), "missing_name", "planet_name"),
     (dict(planet_name="T-00 b"), "duplicate_name", "input row 0"),
     (dict(planet_radius_earth=None), "missing_radius", "planet_radius_earth"),
-    (dict(star_teff_K=None), "missing_star_temperature", "star_teff_K"),
-    (dict(star_radius_sun=None), "missing_star_radius", "star_radius_sun"),
-    (dict(star_mass_sun=None), "missing_star_mass", "star_logg_cgs"),
+    (dict(host_teff_K=None), "missing_star_temperature", "host_teff_K"),
+    (dict(host_radius_sun=None), "missing_star_radius", "host_radius_sun"),
+    (dict(host_mass_sun=None), "missing_star_mass", "host_logg_cgs"),
     (dict(period_days=None), "missing_orbit", "semi_major_axis_au"),
     (dict(planet_radius_earth=-2.0), "bad_value", "= -2 earthRad; allowed [0.1, 60] earthRad"),
     (dict(period_days=0.0), "bad_value", "'period_days' (orbital period) = 0 d; allowed [0.01, 100000] d"),
     (dict(planet_mass_earth=np.inf), "bad_value", "planet_mass_earth"),
-    (dict(star_teff_K=1999.0), "bad_value", "= 1999 K; allowed [2000, 15000] K"),
-    (dict(star_teff_K=15001.0), "bad_value", "star_teff_K"),
+    (dict(host_teff_K=1999.0), "bad_value", "= 1999 K; allowed [2000, 15000] K"),
+    (dict(host_teff_K=15001.0), "bad_value", "host_teff_K"),
     (dict(eccentricity=1.0), "bad_value", "'eccentricity' (eccentricity) = 1; allowed [0, 1)"),
     (dict(eccentricity=-0.1), "bad_value", "eccentricity"),
-    (dict(star_mag_J=45.0), "bad_value", "star_mag_J"),
+    (dict(host_mag_J=45.0), "bad_value", "host_mag_J"),
     (dict(planet_radius_earth=15.0, planet_mass_earth=None), "missing_mass", "14.26"),
     (dict(semi_major_axis_au=0.001, period_days=None), "inside_star", "inside the star"),
     # extremes that used to overflow in SI and fail the whole catalogue
-    (dict(star_distance_pc=1e300), "bad_value", "star_distance_pc"),
+    (dict(host_distance_pc=1e300), "bad_value", "host_distance_pc"),
     (dict(period_days=1e300), "bad_value", "period_days"),
     (dict(planet_radius_earth=1e-300), "bad_value", "planet_radius_earth"),
     (dict(planet_mass_earth=1e-300), "bad_value", "planet_mass_earth"),
@@ -293,7 +293,7 @@ CASES = [
     (dict(impact_parameter=1.02), "ok", ""),                      # grazing, still usable
     (dict(planet_mass_earth=None), "ok", ""),                     # mass estimated
     (dict(period_days=None, semi_major_axis_au=0.05), "ok", ""),  # period estimated
-    (dict(star_mass_sun=None, star_logg_cgs=4.74), "ok", ""),     # mass from log g
+    (dict(host_mass_sun=None, host_logg_cgs=4.74), "ok", ""),     # mass from log g
     (dict(impact_parameter=None), "ok", ""),                      # b = 0 assumed
 ]
 
@@ -327,7 +327,7 @@ def test_estimate_flags(screened):
         assert bool(t["mass_estimated"][i]) == ("planet_mass_earth" in ch)
         assert bool(t["period_estimated"][i]) == ("semi_major_axis_au" in ch)
         assert bool(t["semi_major_axis_estimated"][i]) == ("semi_major_axis_au" not in ch)
-        assert bool(t["star_mass_from_log_gravity"][i]) == ("star_logg_cgs" in ch)
+        assert bool(t["star_mass_from_log_gravity"][i]) == ("host_logg_cgs" in ch)
         assert bool(t["impact_parameter_assumed"][i]) == (ch.get("impact_parameter", 0.3) is None)
         assert bool(t["grazing"][i]) == (ch.get("impact_parameter") == 1.02)
         assert t["equilibrium_temperature_estimated"][i]
@@ -350,7 +350,7 @@ def test_period_from_kepler_and_mass_from_log_gravity(screened):
     assert p.to_value(u.d) == pytest.approx(p_ref.value, rel=1e-12)
     assert d["semi_major_axis"][i].to_value(u.au) == pytest.approx(0.05, rel=1e-12)
     # log g 4.74 with R = 0.5 R_sun: M = g R^2 / G
-    j = [k for k, c in enumerate(CASES) if "star_logg_cgs" in c[0]][0]
+    j = [k for k, c in enumerate(CASES) if "host_logg_cgs" in c[0]][0]
     sys_row = int(np.flatnonzero(screened.good_index == j)[0])
     m_ref = (10 ** 4.74 * u.cm / u.s ** 2 * (0.5 * const.R_sun) ** 2 / const.G).to(u.M_sun)
     assert screened.system.star.mass[sys_row].value == pytest.approx(m_ref.value, rel=1e-12)
@@ -359,7 +359,7 @@ def test_period_from_kepler_and_mass_from_log_gravity(screened):
 def test_text_that_is_not_a_number_is_a_bad_row(tmp_path):
     path = tmp_path / "dirty.csv"
     path.write_text("planet_name,planet_radius_earth,planet_mass_earth,period_days,"
-                    "star_teff_K,star_radius_sun,star_mass_sun\n"
+                    "host_teff_K,host_radius_sun,host_mass_sun\n"
                     "A b,2.0,5,10,3500,0.5,0.5\n"
                     "B b,two,5,10,3500,0.5,0.5\n"
                     "C b,,5,10,3500,0.5,0.5\n"
@@ -381,7 +381,7 @@ def test_reason_quotes_the_users_column_and_unit():
 
 
 def test_no_usable_rows_gives_no_system():
-    cat = catalogue_from_table(_table([_row(0, star_teff_K=100.0)]))
+    cat = catalogue_from_table(_table([_row(0, host_teff_K=100.0)]))
     assert cat.system is None and cat.good_index.size == 0
     assert cat.summary()["ok"] == 0
     assert len(cat.derived()) == 1
@@ -410,13 +410,13 @@ def test_vectorized_path_equals_per_planet_path(demo):
         return None if np.isnan(x) else x
 
     for i in demo.good_index:
-        mass, logg = num("star_mass_sun", i), num("star_logg_cgs", i)
-        star = Star(num("star_teff_K", i), num("star_radius_sun", i),
+        mass, logg = num("host_mass_sun", i), num("host_logg_cgs", i)
+        star = Star(num("host_teff_K", i), num("host_radius_sun", i),
                     mass=mass, logg=None if mass is not None else logg,
-                    metallicity=num("star_metallicity_dex", i) or 0.0,
-                    magnitudes={b: num(f"star_mag_{b}", i) for b in ("V", "J", "H", "Ks")},
-                    distance=num("star_distance_pc", i), ra=num("star_ra_deg", i),
-                    dec=num("star_dec_deg", i))
+                    metallicity=num("host_metallicity_dex", i) or 0.0,
+                    magnitudes={b: num(f"host_mag_{b}", i) for b in ("V", "J", "H", "Ks")},
+                    distance=num("host_distance_pc", i), ra=num("host_ra_deg", i),
+                    dec=num("host_dec_deg", i))
         b = num("impact_parameter", i)
         ecc = num("eccentricity", i)
         w = num("periastron_argument_deg", i)
@@ -456,10 +456,10 @@ def test_tsm_reproduces_kempton_2018_eq1_for_hand_computed_rows():
       10^(-10/5) = 0.01  ->  TSM = 2.25935e6 / 300 x 0.01 = 75.31
     """
     rows = [dict(GOOD, planet_name="A b", planet_radius_earth=2.0, planet_mass_earth=5.0,
-                 star_radius_sun=0.5, star_teff_K=3500.0, semi_major_axis_au=0.05, star_mag_J=9.0),
+                 host_radius_sun=0.5, host_teff_K=3500.0, semi_major_axis_au=0.05, host_mag_J=9.0),
             dict(GOOD, planet_name="B b", planet_radius_earth=11.2, planet_mass_earth=300.0,
-                 star_radius_sun=1.0, star_mass_sun=1.0, star_teff_K=5800.0,
-                 semi_major_axis_au=0.04, star_mag_J=10.0)]
+                 host_radius_sun=1.0, host_mass_sun=1.0, host_teff_K=5800.0,
+                 semi_major_axis_au=0.04, host_mag_J=10.0)]
     cat = catalogue_from_table(_table(rows))
     d = cat.derived()
     assert list(cat.status) == ["ok", "ok"]
@@ -505,8 +505,8 @@ def test_kepler_mismatch_is_flagged_per_row():
     from snrkit.catalog import catalogue_from_table
     t = Table({"planet_name": ["a", "b"], "planet_radius_earth": [2.0, 2.0],
                "period_days": [10.0, 10.0], "semi_major_axis_au": [np.nan, 0.25],
-               "impact_parameter": [0.1, 0.1], "star_teff_K": [4500.0, 4500.0],
-               "star_radius_sun": [0.7, 0.7], "star_mass_sun": [0.7, 0.7]})
+               "impact_parameter": [0.1, 0.1], "host_teff_K": [4500.0, 4500.0],
+               "host_radius_sun": [0.7, 0.7], "host_mass_sun": [0.7, 0.7]})
     cat = catalogue_from_table(t)
     assert list(cat.status) == ["ok", "ok"]
     assert list(np.asarray(cat.table["kepler_mismatch"])) == [False, True]
@@ -520,8 +520,8 @@ def test_geometry_the_system_model_rejects_is_screened_per_row():
     t = Table({"planet_name": ["ok", "ecc", "big"], "planet_radius_earth": [2.0, 2.0, 2.0],
                "planet_mass_earth": [5.0, 5.0, 5.0], "period_days": [10.0, 1.0, 10.0],
                "eccentricity": [0.0, 0.9, 0.0], "impact_parameter": [0.1, 0.1, 0.1],
-               "star_teff_K": [4500.0, 4500.0, 4500.0], "star_radius_sun": [0.7, 0.7, 0.01],
-               "star_mass_sun": [0.7, 0.7, 0.7]})
+               "host_teff_K": [4500.0, 4500.0, 4500.0], "host_radius_sun": [0.7, 0.7, 0.01],
+               "host_mass_sun": [0.7, 0.7, 0.7]})
     cat = catalogue_from_table(t)
     assert list(cat.status) == ["ok", "inside_star", "bad_value"]
     assert "periastron" in cat.reason[1] and "not smaller" in cat.reason[2]

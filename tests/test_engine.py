@@ -35,10 +35,10 @@ def _synthetic(n, seed):
     t["planet_radius_earth"] = rng.uniform(0.8, 13.0, n)
     t["period_days"] = 10 ** rng.uniform(0.0, 1.6, n)
     t["impact_parameter"] = rng.uniform(0.0, 0.7, n)
-    t["star_teff_K"] = teff
-    t["star_radius_sun"] = ms ** 0.85
-    t["star_mass_sun"] = ms
-    t["star_mag_J"] = rng.uniform(7.0, 13.5, n)
+    t["host_teff_K"] = teff
+    t["host_radius_sun"] = ms ** 0.85
+    t["host_mass_sun"] = ms
+    t["host_mag_J"] = rng.uniform(7.0, 13.5, n)
     return catalogue_from_table(t, source="synthetic")
 
 

@@ -49,13 +49,13 @@ def _rank_json(path, *extra):
 
 
 @pytest.mark.parametrize("column,value", [
-    ("star_distance_pc", 1e300), ("period_days", 1e300), ("planet_radius_earth", 1e-300),
-    ("star_mag_all", np.nan)])
+    ("host_distance_pc", 1e300), ("period_days", 1e300), ("planet_radius_earth", 1e-300),
+    ("host_mag_all", np.nan)])
 def test_class1_one_bad_row_never_fails_the_catalogue(tmp_path, column, value):
     t = _demo_rows()
-    if column == "star_mag_all":
+    if column == "host_mag_all":
         for b in ("V", "J", "H", "Ks"):
-            t[f"star_mag_{b}"][2] = value
+            t[f"host_mag_{b}"][2] = value
     else:
         t[column][2] = value
     path = tmp_path / "cat.ecsv"
@@ -314,7 +314,7 @@ def test_class16_argparse_errors_are_one_line():
 def test_class16_messages_stay_short(tmp_path):
     t = _demo_rows()
     for b in ("V", "J", "H", "Ks"):
-        t[f"star_mag_{b}"] = np.nan
+        t[f"host_mag_{b}"] = np.nan
     path = tmp_path / "cat.ecsv"
     t.write(path)
     rc, out, err = run_cli(["rank", str(path), "--mode", MODE, "--scenario", "flat", "--json"])

@@ -122,9 +122,9 @@ def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat, temperate):
     t = cat.table.copy()
     base = rank_catalogue(cat, PRISM, temperate, resolution=20, sort_by="esm")
     ok_rows = np.flatnonzero(np.asarray(base["status"]) == "ok")[:3]
-    col = t["star_mag_Ks"].astype(float)
+    col = t["host_mag_Ks"].astype(float)
     col[ok_rows] = np.nan
-    t["star_mag_Ks"] = col
+    t["host_mag_Ks"] = col
     c2 = catalogue_from_table(t)
     r = rank_catalogue(c2, PRISM, temperate, resolution=20, sort_by="esm")
     status = np.asarray(r["status"])

@@ -124,12 +124,12 @@ COLUMNS = [  # (name, unit or None, dtype)
     ("inclination_deg", "deg", float), ("eccentricity", None, float),
     ("periastron_argument_deg", "deg", float), ("transit_midtime_bjd_tdb", "d", float),
     ("transit_midtime_uncertainty_days", "d", float),
-    ("star_teff_K", "K", float), ("star_radius_sun", "solRad", float),
-    ("star_mass_sun", "solMass", float), ("star_logg_cgs", None, float),
-    ("star_metallicity_dex", None, float),
-    ("star_mag_V", None, float), ("star_mag_J", None, float), ("star_mag_H", None, float),
-    ("star_mag_Ks", None, float), ("star_distance_pc", "pc", float),
-    ("star_ra_deg", "deg", float), ("star_dec_deg", "deg", float),
+    ("host_teff_K", "K", float), ("host_radius_sun", "solRad", float),
+    ("host_mass_sun", "solMass", float), ("host_logg_cgs", None, float),
+    ("host_metallicity_dex", None, float),
+    ("host_mag_V", None, float), ("host_mag_J", None, float), ("host_mag_H", None, float),
+    ("host_mag_Ks", None, float), ("host_distance_pc", "pc", float),
+    ("host_ra_deg", "deg", float), ("host_dec_deg", "deg", float),
 ]
 
 
@@ -158,16 +158,16 @@ def make_hosts(rng):
         logg = np.log10(G * mass * M_SUN / (rad * R_SUN) ** 2 * 100.0)
         hosts.append({
             "host_name": f"Demo-{i + 1:04d}", "class": cls,
-            "star_teff_K": round(teff, 0), "star_radius_sun": round(rad, 4),
-            "star_mass_sun": None if use_logg else round(mass, 4),
-            "star_logg_cgs": round(logg, 3) if use_logg else None,
+            "host_teff_K": round(teff, 0), "host_radius_sun": round(rad, 4),
+            "host_mass_sun": None if use_logg else round(mass, 4),
+            "host_logg_cgs": round(logg, 3) if use_logg else None,
             "_mass": mass, "_rad": rad,
-            "star_metallicity_dex": round(float(np.clip(rng.normal(0.0, 0.2), -0.8, 0.5)), 2),
-            "star_mag_V": round(mv + mu, 3), "star_mag_J": round(mj + mu, 3),
-            "star_mag_H": round(mh + mu, 3), "star_mag_Ks": round(mks + mu, 3),
-            "star_distance_pc": round(dist, 2),
-            "star_ra_deg": round(rng.uniform(0.0, 360.0), 5),
-            "star_dec_deg": round(float(np.degrees(np.arcsin(rng.uniform(-1.0, 1.0)))), 5),
+            "host_metallicity_dex": round(float(np.clip(rng.normal(0.0, 0.2), -0.8, 0.5)), 2),
+            "host_mag_V": round(mv + mu, 3), "host_mag_J": round(mj + mu, 3),
+            "host_mag_H": round(mh + mu, 3), "host_mag_Ks": round(mks + mu, 3),
+            "host_distance_pc": round(dist, 2),
+            "host_ra_deg": round(rng.uniform(0.0, 360.0), 5),
+            "host_dec_deg": round(float(np.degrees(np.arcsin(rng.uniform(-1.0, 1.0)))), 5),
         })
     return hosts
 
@@ -185,7 +185,7 @@ def make_planet(rng, host, cls):
         m_given = rng.random() > 0.30
     mtot = ms_kg + m * M_EARTH
     if cls == "temperate_rocky":
-        lum = 4 * np.pi * rs_m ** 2 * SIGMA_SB * host["star_teff_K"] ** 4 / L_SUN
+        lum = 4 * np.pi * rs_m ** 2 * SIGMA_SB * host["host_teff_K"] ** 4 / L_SUN
         s = rng.uniform(0.3, 1.6)
         a = np.sqrt(lum / s) * AU
         p = 2 * np.pi * np.sqrt(a ** 3 / (G * mtot)) / DAY
@@ -264,7 +264,7 @@ def add_bad_rows(rows):
         elif what.startswith("period of"):
             src["period_days"] = -3.2
         elif what.startswith("stellar Teff"):
-            src["star_teff_K"] = 1500.0
+            src["host_teff_K"] = 1500.0
         elif what.startswith("impact parameter"):
             src["impact_parameter"], src["inclination_deg"] = 1.8, None
         elif what.startswith("eccentricity"):
@@ -275,7 +275,7 @@ def add_bad_rows(rows):
         elif what.startswith("neither"):
             src["period_days"], src["semi_major_axis_au"] = None, None
         elif what.startswith("stellar radius"):
-            src["star_radius_sun"] = 0.0
+            src["host_radius_sun"] = 0.0
         rows.insert(int(pos), src)
         bad_meta.append([what, status, src["planet_name"]])
     # input indices after all insertions
