@@ -47,24 +47,30 @@ def test_planet_alone_equals_planet_in_catalogue(scenario, monkeypatch):
         assert np.max(diff) < 1e-3 * h, (i, np.max(diff) / h)
 
 
-@pytest.mark.parametrize("scenario", SCENARIOS[:3], ids=IDS[:3])
-def test_lattice_close_to_opacity_at_each_temperature(scenario):
-    # the kernel with the lattice's opacity against the kernel with the mixture at the
-    # planet's own temperature (the former per-planet path), same radii otherwise
+def _kernel_setup(scenario, n, seed):
+    """Scenario, source, bins, line-shape nodes, planets, temperatures and lattice opacity."""
     from snrkit.atmosphere.scenarios import load_scenario
     sc = load_scenario(scenario)
     src = spm._default_opacity_source()
     edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
     nodes = spm._line_shape_pressures(src)
-    p = _planets(12, seed=3)
-    t = sc.temperature(p["teq"]) * np.ones(12)
+    p = _planets(n, seed=seed)
+    t = sc.temperature(p["teq"]) * np.ones(n)
     lat = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
                              8, None, nodes, t)
+    r0 = p["rp"] * 6.371e6
+    g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
+    return sc, src, edges, nodes, t, lat, r0, g0
+
+
+@pytest.mark.parametrize("scenario", SCENARIOS[:3], ids=IDS[:3])
+def test_lattice_close_to_opacity_at_each_temperature(scenario):
+    # the kernel with the lattice's opacity against the kernel with the mixture at the
+    # planet's own temperature (the former per-planet path), same radii otherwise
+    sc, src, edges, nodes, t, lat, r0, g0 = _kernel_setup(scenario, 12, 3)
     exact = spm.mixture_opacity(src, sc.mixing_ratios, edges, np.broadcast_to(t[:, None], (12, nodes.size)),
                                 8, sc.haze_enhancement, sc.haze_slope, None,
                                 pressure_Pa=np.broadcast_to(nodes, (12, nodes.size)))
-    r0 = p["rp"] * 6.371e6
-    g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
     floor = np.full(12, sc.cloud_top_pressure_Pa or 1e3 * sc.reference_pressure_Pa)
     args = (t, np.full(12, sc.mean_molecular_weight), r0, np.full(12, sc.reference_pressure_Pa),
             g0, floor, np.full(12, 1e-6))
@@ -127,19 +133,9 @@ def test_thread_setting_is_checked(monkeypatch):
 @pytest.mark.parametrize("shift_km", [-300.0, -40.0, 25.0, 500.0])
 def test_shifted_resolve_equals_fresh_solve(shift_km):
     # the calibration's second solve by translation (G M fixed) against a solve from
-    # scratch at the new reference radius: 1e-4 scale heights (one Newton step from
+    # scratch at the new reference radius: 1e-4 scale heights (two Newton steps from
     # the translated root; the H/R terms are evaluated afresh)
-    from snrkit.atmosphere.scenarios import load_scenario
-    sc = load_scenario("h2-clear-solar")
-    src = spm._default_opacity_source()
-    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
-    nodes = spm._line_shape_pressures(src)
-    p = _planets(6, seed=11)
-    t = sc.temperature(p["teq"]) * np.ones(6)
-    op = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
-                            8, None, nodes, t)
-    r0 = p["rp"] * 6.371e6
-    g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
+    sc, src, edges, nodes, t, op, r0, g0 = _kernel_setup("h2-clear-solar", 6, 11)
     mu = np.full(6, sc.mean_molecular_weight)
     rest = (np.full(6, sc.reference_pressure_Pa),)
     tail = (np.full(6, 1e3 * sc.reference_pressure_Pa), np.full(6, 1e-6))
