@@ -120,7 +120,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``escape_warning``; ``meta`` holds the settings and
         the status counts.
     """
-    from astropy.table import Table
+    from astropy.table import Table, MaskedColumn
     from .engine import parse_test
     from .atmosphere.scenarios import load_scenario
     from . import detect as dt
@@ -234,13 +234,18 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     t["name"] = names.astype(str)
     t["status"] = status.astype(str)
     t["reason"] = reason.astype(str)
-    t["rank"] = rank
+    # unranked rows and unreached targets are masked (null in ECSV, None in JSON), never 0
+    t["rank"] = MaskedColumn(rank, mask=rank == 0)
     for c in ("mode", "scenario"):
         t[c] = out[c].astype(str)
     for c in _OUTPUT_ORDER:
         t[c] = out[c] if out[c].dtype != object else out[c].astype(str)
+    t["transits_needed"] = MaskedColumn(out["transits_needed"], mask=out["transits_needed"] == 0)
+    t["hours_total"] = MaskedColumn(out["hours_total"], mask=~np.isfinite(out["hours_total"]))
     for c, unit in _UNITS.items():
         t[c].unit = unit
+    for c, text in _DESCRIPTIONS.items():
+        t[c].description = text
     counts = {str(s): int(np.sum(status == s)) for s in np.unique(status)}
     t.meta.update({"test": kind if arg is None else f"{kind}:{arg}", "target_sigma": sigma,
                    "modes": list(modes), "scenarios": [s.name for s in scs],
@@ -262,7 +267,33 @@ _OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_te
                  "escape_warning")
 _OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
 _UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
-          "quick_feature_ppm": "", "hours_per_transit": "h", "hours_total": "h"}
+          "hours_per_transit": "h", "hours_total": "h"}
+#: What each column holds (every column has a unit or a description).
+_DESCRIPTIONS = {
+    "input_index": "row of the input catalogue (0-based)",
+    "name": "planet name from the catalogue",
+    "radius_earth": "planet radius", "mass_earth": "planet mass",
+    "equilibrium_temperature_K": "equilibrium temperature (zero albedo, full redistribution)",
+    "hours_per_transit": "hours of one visit (transit, baseline and overhead)",
+    "status": "ok, or why the row is not ranked (see reason)",
+    "reason": "why the row is not ranked (empty when ok)",
+    "rank": "1 = best by the sort key among rows with status ok; null when not ranked",
+    "mode": "instrument mode of the best combination", "scenario": "atmosphere scenario of it",
+    "mass_estimated": "true when the mass comes from the mass-radius relation",
+    "tsm": "transmission spectroscopy metric (Kempton et al. 2018, eq. 1), dimensionless",
+    "esm": "emission spectroscopy metric (Kempton et al. 2018, eq. 4), dimensionless",
+    "habitable_zone": "position against the habitable zone (Kopparapu et al. 2014)",
+    "quick_feature_ppm": "quick estimate N_H x 2 H Rp / Rs^2 of the band amplitude, ppm",
+    "significance_per_transit": "significance of the test after one transit, sigma",
+    "transits_needed": "transits to reach the target significance; null when not reached",
+    "hours_total": "programme hours for those transits; null when not reached",
+    "limiting_term": "what limits the test (white noise, noise floor, ...)",
+    "groups_per_integration": "detector readout chosen for the test",
+    "duty_cycle": "fraction of the exposure time that collects light",
+    "bins_saturated": "wavelength bins left out because they saturate",
+    "jeans_parameter": "restricted Jeans escape parameter (Fossati et al. 2017), dimensionless",
+    "escape_warning": "true for hydrogen-rich scenarios with a Jeans parameter below 20",
+}
 
 
 _STATUS_CLASS = {"ok": 0, "not_reachable": 1, "stellar_contamination": 1, "no_signal": 2,

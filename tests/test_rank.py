@@ -47,6 +47,21 @@ def ranked(cat):
     return rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20, chunk=97)
 
 
+def test_unranked_rows_are_masked_not_zero(cat, ranked, tmp_path):
+    from astropy.table import Table
+    path = tmp_path / "ranked.ecsv"
+    ranked.write(path, format="ascii.ecsv")
+    back = Table.read(path, format="ascii.ecsv")
+    not_ok = np.asarray(back["status"]) != "ok"
+    assert not_ok.any()
+    assert np.all(np.ma.getmaskarray(back["rank"])[not_ok])
+    assert not np.any(np.ma.getmaskarray(back["rank"])[~not_ok])
+    reached = ~np.ma.getmaskarray(back["transits_needed"])
+    assert np.all(np.asarray(back["transits_needed"])[reached] > 0)
+    for c in back.colnames:              # every column has a unit or a description
+        assert back[c].unit is not None or back[c].description, c
+
+
 def test_every_input_row_appears_in_order(cat, ranked):
     assert len(ranked) == len(cat.table)
     np.testing.assert_array_equal(ranked["input_index"], np.arange(len(cat.table)))
@@ -77,7 +92,7 @@ def test_ranking_agrees_with_per_planet_path(cat, ranked):
         one = transits_for_system(cat.system.take([j]), PRISM, "h2-clear-solar", resolution=20,
                                   probabilities=())["planets"][0]
         row = ranked[gi]
-        assert (one["transits_needed"] or 0) == int(row["transits_needed"])
+        assert (one["transits_needed"] or 0) == int(np.ma.filled(row["transits_needed"], 0))
         if one["hours_total"] is not None:
             assert one["hours_total"] == pytest.approx(float(row["hours_total"]), rel=1e-9)
         # rel 1e-8 (was 1e-9): the two paths differ only by rounding (sums over

@@ -107,7 +107,7 @@ def run(args):
         for r in table:
             rows.append({"input_index": int(r["input_index"]), "name": str(r["name"]),
                          "status": str(r["status"]), "reason": str(r["reason"]),
-                         "rank": int(r["rank"]) if r["rank"] > 0 else None,
+                         "rank": _or_none(r["rank"], int),
                          "mode": str(r["mode"]) or None, "scenario": str(r["scenario"]) or None,
                          "tsm": float(r["tsm"]), "esm": float(r["esm"]),
                          "radius_earth": float(r["radius_earth"]),
@@ -115,8 +115,8 @@ def run(args):
                          "habitable_zone": str(r["habitable_zone"]) or None,
                          "quick_feature_ppm": float(r["quick_feature_ppm"]),
                          "significance_per_transit_sigma": float(r["significance_per_transit"]),
-                         "transits_needed": int(r["transits_needed"]) or None,
-                         "hours_total": float(r["hours_total"]),
+                         "transits_needed": _or_none(r["transits_needed"], int),
+                         "hours_total": _or_none(r["hours_total"], float),
                          "limiting_term": str(r["limiting_term"]) or None,
                          "groups_per_integration": int(r["groups_per_integration"]) or None,
                          "duty_cycle": float(r["duty_cycle"]),
@@ -151,3 +151,9 @@ def run(args):
     print_notes(table.meta.get("notes", []))
     print("planning estimate; official observatory tools govern real proposals")
     return 0
+
+
+def _or_none(value, kind):
+    """``kind(value)``, or None for a masked (not ranked, not reached) entry."""
+    import numpy as np
+    return None if value is np.ma.masked or np.ma.is_masked(value) else kind(value)
