@@ -227,11 +227,12 @@ def test_expected_statistic_table_matches_scipy_median():
     lam = np.array([1e-3, 0.5, 7.0, 120.0, 3.3e4])
     for nu in (3, 40):
         ref = stats.ncx2.median(nu, lam)
-        np.testing.assert_allclose(dt.expected_statistic(lam, nu), ref, rtol=1e-9)   # direct
-        many = np.concatenate([lam, np.geomspace(1e-2, 1e5, 3000)])               # table path
+        np.testing.assert_allclose(dt.expected_statistic(lam, nu), ref, rtol=1e-4)
+        many = np.concatenate([lam, np.geomspace(1e-2, 1e5, 3000)])
         got = dt.expected_statistic(many, nu)
-        np.testing.assert_allclose(got[:5], ref, rtol=2e-4)
-        np.testing.assert_allclose(got[5::300], stats.ncx2.median(nu, many[5::300]), rtol=2e-4)
+        np.testing.assert_allclose(got[5::300], stats.ncx2.median(nu, many[5::300]), rtol=1e-4)
+        # one engine: a value does not depend on the size of its batch
+        np.testing.assert_array_equal(got[:5], dt.expected_statistic(lam, nu))
 
 
 def test_asymptote_is_per_planet():
