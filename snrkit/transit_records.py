@@ -161,7 +161,7 @@ def columns(ctx):
     res, used, hours = ctx["res"], ctx["used"], ctx["hours"]
     n = st["transits_needed"]
     npl = n.shape[0]
-    mode_name = str(ctx["obs"]["precision"].attrs.get("mode", ctx["mode"]))
+    mode_name = str(ctx["obs"]["precision"].attrs.get("instrument_mode", ctx["mode"]))
     return {
         "status": st["status"], "reason": _reasons(ctx, st),
         "mode": np.full(npl, mode_name, dtype=object),
@@ -200,7 +200,7 @@ def planet_records(ctx):
     t14_h = d["t14_s"] / HOUR
     base_h = np.asarray(obs["precision"]["baseline_time"].values, dtype=np.float64)
     t_in_h = np.asarray(obs["precision"]["in_transit_time"].values, dtype=np.float64)
-    mode_name = str(obs["precision"].attrs.get("mode", ctx["mode"]))
+    mode_name = str(obs["precision"].attrs.get("instrument_mode", ctx["mode"]))
     planets, notes = [], []
     for i, name in enumerate(names):
         status, reason = str(st["status"][i]), str(reasons[i])
@@ -295,5 +295,5 @@ def result_dataset(ctx, planets):
         attrs={"scenario": ctx["sc"].name, "test": planets[0]["test"] if planets else ctx["kind"],
                "null_model": ctx["label"], "target_sigma": ctx["sigma"],
                "floor_averages_down": int(obs["floor_averages"]),
-               "mode": str(obs["precision"].attrs.get("mode", ctx["mode"]))},
+               "instrument_mode": str(obs["precision"].attrs.get("instrument_mode", ctx["mode"]))},
     )

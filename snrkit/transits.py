@@ -262,4 +262,4 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
                         "bins_used": int(used["usable"][:, i].sum(axis=-1).max())})
     return {"scenarios": names, "planets": planets, "notes": obs["notes"], "target_sigma": sigma,
             "test_statistic": TEST_STATISTICS["nested"], "degrees_of_freedom": 1,
-            "binning": obs["binning"], "mode": str(obs["precision"].attrs.get("mode", mode))}
+            "binning": obs["binning"], "mode": str(obs["precision"].attrs.get("instrument_mode", mode))}

@@ -309,7 +309,7 @@ def test_dataset_layout():
                                                       "floor"]
     assert ds["photon_rate"].dims == ("planet", "wavelength")
     assert list(ds["planet"].values) == ["x b", "y b"]
-    assert ds.attrs["mode"] == "cold6m-prism-lowres"
+    assert ds.attrs["instrument_mode"] == "cold6m-prism-lowres"
 
 
 @pytest.mark.parametrize("name", mode_names())

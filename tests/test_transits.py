@@ -291,3 +291,22 @@ def test_refit_can_only_lower_delta_chi2_and_finds_the_degeneracy():
         transits_for_system(alder, "cold6m-grism-2.4-5um", refit=("temperature",))
     with pytest.raises(InputError):
         transits_for_system(alder, "cold6m-grism-2.4-5um", against="flat", refit=("albedo",))
+
+
+def test_datasets_round_trip_through_netcdf(tmp_path):
+    # The result and precision Datasets are plain netCDF: no attribute clashes with
+    # the writer (a global "mode" attribute did, with the scipy engine, the one a
+    # plain install has)
+    import xarray as xr
+    from snrkit.photons.precision import system_precision
+    system = load_system(ALDER)
+    grism = "cold6m-grism-2.4-5um"
+    for name, ds in (("result", transits_for_system(system, grism, resolution=30)["dataset"]),
+                     ("precision", system_precision(system, grism, resolution=30))):
+        path = tmp_path / f"{name}.nc"
+        ds.to_netcdf(path, engine="scipy")
+        with xr.open_dataset(path, engine="scipy") as back:
+            assert back.attrs["instrument_mode"] == grism
+            for v in ("transit_depth_ppm", "model_ppm", "noise_budget_ppm"):
+                if v in ds:
+                    np.testing.assert_allclose(back[v].values, ds[v].values)

@@ -30,7 +30,7 @@ def precision_json(ds):
         p = ds.isel(planet=i)
         planets.append({
             "name": str(name),
-            "mode": ds.attrs["mode"],
+            "mode": ds.attrs["instrument_mode"],
             "saturated": bool(p["saturated"].values.any()),
             "star_too_bright": bool(p["star_too_bright"].values),
             "saturation_limit_mag": float(p["saturation_limit_mag"].values),
@@ -53,7 +53,7 @@ def precision_json(ds):
             "saturated_bins": p["saturated"].values,
         })
     return {
-        "mode": ds.attrs["mode"],
+        "mode": ds.attrs["instrument_mode"],
         "mode_description": ds.attrs["mode_description"],
         "readout_scheme": ds.attrs["readout_scheme"],
         "band": ds.attrs["band"],
