@@ -102,7 +102,7 @@ def plot_transits(result, path, seed=0):
         ax2.set_xlabel("wavelength [um]")
         ax2.set_ylabel("transit depth [ppm]")
         ax2.legend(fontsize=7)
-    fig.suptitle(f"mode {ds.attrs.get('mode', '')} - planning estimate", fontsize=10)
+    fig.suptitle(f"mode {ds.attrs.get('instrument_mode', '')} - planning estimate", fontsize=10)
     fig.tight_layout()
     with atomic_path(path) as tmp:
         fig.savefig(tmp, format=_format(path), dpi=100)

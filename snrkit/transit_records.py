@@ -53,7 +53,7 @@ def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_
     n_sat, n_all = int(used["bins_saturated"][i]), used["usable"].shape[-1]
     if saturated_all[i]:
         sat_limit = float(np.asarray(prec["saturation_limit_mag"].values).ravel()[i])
-        return "saturated", (f"mode {prec.attrs.get('mode', ctx['mode'])} saturates on this star "
+        return "saturated", (f"mode {prec.attrs.get('instrument_mode', ctx['mode'])} saturates on this star "
                              f"in {n_sat} of {n_all} bins at the readout that serves the test "
                              f"best (brightest usable magnitude {sat_limit:.2f})")
     if unbound[i]:

@@ -64,7 +64,7 @@ def parse_quantity(value, field, default_unit):
         except (TypeError, ValueError) as exc:
             raise UnitMismatchError(
                 field, value, f"a number or '<number> <unit>' convertible to {unit}",
-                detail=f"could not read it: {exc}") from None
+                detail=f"could not read it: {_first_sentence(exc)}") from None
         value = q
     if isinstance(value, u.Quantity):
         try:
@@ -300,3 +300,10 @@ def scalar_si(value, field, default_unit, low=None, high=None, *, low_inclusive=
     if arr.ndim != 0:
         raise InputError(field, value, f"one number in {u.Unit(default_unit)}")
     return float(arr)
+
+
+def _first_sentence(exc):
+    """The first sentence of a library's message, without its advice and links."""
+    text = " ".join(str(exc).split())
+    cut = text.find(". ")
+    return text if cut < 0 else text[:cut + 1]

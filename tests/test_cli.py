@@ -162,3 +162,19 @@ def test_transits_reads_its_tables_without_astropy_table():
             "print('RC', rc, 'HEAVY', bad)")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert "RC 0 HEAVY []" in r.stdout, r.stdout + r.stderr
+
+
+def test_unknown_unit_message_has_no_library_advice(capsys, tmp_path):
+    text = data_path("demo", "alder.toml").read_text()
+    assert 'radius = "1.12 jupiterRad"' in text
+    bad = tmp_path / "bad_unit.toml"
+    bad.write_text(text.replace('radius = "1.12 jupiterRad"', 'radius = "1.12 furlong"'))
+    rc, _, err = run_cli(capsys, "transits", str(bad))
+    assert rc == 2 and len(err.strip().splitlines()) == 1
+    assert "furlong" in err and "planet.radius" in err
+    assert "http" not in err and "def_unit" not in err
+
+
+def test_catalogue_given_to_a_system_command_points_to_rank(capsys):
+    rc, _, err = run_cli(capsys, "transits", str(data_path("demo", "catalogue.ecsv")))
+    assert rc == 2 and "snrkit rank" in err

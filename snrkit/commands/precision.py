@@ -73,7 +73,7 @@ def format_precision(ds):
     """Readable text: per planet a readout/budget summary and the per-bin table."""
     import numpy as np
     n_tr = int(ds.attrs["n_transits"])
-    lines = [f"mode {ds.attrs['mode']}: {ds.attrs['mode_description']}",
+    lines = [f"mode {ds.attrs['instrument_mode']}: {ds.attrs['mode_description']}",
              f"  floor {ds.attrs['floor_ppm']:.1f} ppm per bin per transit "
              f"({'averages down' if ds.attrs['floor_averages_down'] else 'does not average down'}"
              f" over transits); band {ds.attrs['band']}"]
@@ -146,7 +146,7 @@ def plot_precision(ds, path):
     ax.set_yscale("log")
     ax.set_xlabel("wavelength [um]")
     ax.set_ylabel("transit-depth precision per bin [ppm]")
-    ax.set_title(f"{ds.attrs['mode']} (shaded: saturated bins)", fontsize=9)
+    ax.set_title(f"{ds.attrs['instrument_mode']} (shaded: saturated bins)", fontsize=9)
     ax.legend(fontsize=8)
     fig.tight_layout()
     with atomic_path(path) as tmp:

@@ -156,7 +156,10 @@ def loads_toml(text, field, source="<text>"):
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(field, source, "a valid TOML file", detail=str(exc)) from None
+        hint = ""
+        if str(source).lower().endswith((".ecsv", ".csv", ".vot", ".xml", ".fits")):
+            hint = "; this looks like a catalogue table: rank it with `snrkit rank`"
+        raise InputError(field, source, "a valid TOML file", detail=f"{exc}{hint}") from None
     except (ValueError, RecursionError, MemoryError) as exc:
         # ValueError: an integer beyond the interpreter's digit limit
         raise InputError(field, source, "a valid TOML file",
