@@ -178,3 +178,17 @@ def test_unknown_unit_message_has_no_library_advice(capsys, tmp_path):
 def test_catalogue_given_to_a_system_command_points_to_rank(capsys):
     rc, _, err = run_cli(capsys, "transits", str(data_path("demo", "catalogue.ecsv")))
     assert rc == 2 and "snrkit rank" in err
+
+
+def test_presets_show_prints_a_preset_and_its_path(capsys):
+    from snrkit.io.tomlfile import loads_toml
+    rc, out, _ = run_cli(capsys, "presets", "--show", "steam")
+    assert rc == 0
+    first, _, body = out.partition("\n")
+    assert first.startswith("# ") and first.endswith("steam.toml")
+    assert loads_toml(body, "shown")["name"] == "steam"     # the file itself, ready to copy
+    rc, out, _ = run_cli(capsys, "presets", "--show", "cold6m-prism-lowres")
+    assert rc == 0 and "cold6m-prism-lowres.toml" in out.splitlines()[0]
+    for bad in ("no-such-preset", "../demo/alder"):
+        rc, _, err = run_cli(capsys, "presets", "--show", bad)
+        assert rc == 2 and "preset" in err

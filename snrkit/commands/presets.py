@@ -2,11 +2,14 @@
 
 from ._common import print_json
 
-__all__ = ["add_parser", "run", "collect_presets"]
+__all__ = ["add_parser", "run", "collect_presets", "preset_file"]
 
 
 def add_parser(p):
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--show", metavar="NAME",
+                   help="print one preset's file (scenario, mode or demo system) and its path, "
+                        "to copy and edit")
 
 
 def collect_presets():
@@ -15,12 +18,12 @@ def collect_presets():
     Each entry is ``{"name": ..., "description": ...}``.  Kinds whose layer
     is not installed yet are empty lists.
     """
-    import tomllib
+    from ..io.tomlfile import read_toml
     from .demo import demo_files
     out = {"scenarios": [], "modes": [], "demo_systems": []}
     for path in demo_files():
         out["demo_systems"].append({"name": path.stem,
-                                    "description": tomllib.loads(path.read_text()).get("title", "")})
+                                    "description": read_toml(path, "demo system").get("title", "")})
     try:
         from ..atmosphere.scenarios import list_scenarios
     except ImportError:
@@ -36,7 +39,29 @@ def collect_presets():
     return out
 
 
+def preset_file(name):
+    """Path of the shipped preset file called ``name`` (scenario, mode or demo system)."""
+    from ..errors import InputError
+    from ..tables import data_path
+    from .demo import demo_files
+    import re
+    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9._-]{0,100}", str(name)) or ".." in str(name):
+        raise InputError("preset", name, "a preset name (letters, digits, '.', '_', '-')")
+    candidates = [data_path("scenarios", f"{name}.toml"), data_path("instruments", f"{name}.toml")]
+    candidates += [p for p in demo_files() if p.stem == name]
+    for path in candidates:
+        if path.is_file():
+            return path
+    names = [it["name"] for items in collect_presets().values() for it in items]
+    raise InputError("preset", name, "one of " + ", ".join(names))
+
+
 def run(args):
+    if args.show:
+        path = preset_file(args.show)
+        print(f"# {path}")
+        print(path.read_text(encoding="utf-8"), end="")
+        return 0
     presets = collect_presets()
     if args.json:
         print_json(presets)
