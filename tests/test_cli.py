@@ -192,3 +192,10 @@ def test_presets_show_prints_a_preset_and_its_path(capsys):
     for bad in ("no-such-preset", "../demo/alder"):
         rc, _, err = run_cli(capsys, "presets", "--show", bad)
         assert rc == 2 and "preset" in err
+
+
+def test_describe_words_the_habitable_zone(capsys):
+    # Alder b receives hundreds of times Earth's instellation: inside the inner edge
+    rc, out, _ = run_cli(capsys, "describe", str(data_path("demo", "alder.toml")))
+    line = next(x for x in out.splitlines() if x.strip().startswith("habitable zone"))
+    assert rc == 0 and "inside the inner edge" in line

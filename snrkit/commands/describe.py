@@ -2,12 +2,22 @@
 
 from ._common import add_system_args, print_json
 
-__all__ = ["add_parser", "run", "format_description"]
+__all__ = ["add_parser", "run", "format_description", "HABITABLE_ZONE_WORDS"]
 
 
 def add_parser(p):
     add_system_args(p)
     p.add_argument("--json", action="store_true", help="print one JSON object instead of a table")
+
+
+#: Plain words for the habitable-zone codes (Kopparapu et al. 2014 limits).
+HABITABLE_ZONE_WORDS = {
+    "inner": "inside the inner edge (hotter than recent Venus)",
+    "optimistic": "optimistic zone only",
+    "conservative": "conservative zone",
+    "outer": "beyond the outer edge (colder than early Mars)",
+    "undefined": "undefined (Teff outside 2600-7200 K)",
+}
 
 
 def _fmt(value, fmt):
@@ -38,6 +48,9 @@ def format_description(desc, title=None):
             ("radius [R_earth]", [_fmt(pl["radius_earth"], "{:.3f}") for pl in planets]),
             ("period [d]", [_fmt(pl["period_days"], "{:.5f}") for pl in planets])]
     for key, (label, fmt) in PLANET_DERIVED_KEYS.items():
+        if key == "habitable_zone":
+            rows.append((label, [HABITABLE_ZONE_WORDS.get(pl[key], str(pl[key])) for pl in planets]))
+            continue
         rows.append((label, [_fmt(pl[key], fmt) for pl in planets]))
     width = max(len(r[0]) for r in rows)
     colw = [max(len(str(r[1][j])) for r in rows) for j in range(len(planets))]
