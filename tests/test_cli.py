@@ -199,3 +199,29 @@ def test_describe_words_the_habitable_zone(capsys):
     rc, out, _ = run_cli(capsys, "describe", str(data_path("demo", "alder.toml")))
     line = next(x for x in out.splitlines() if x.strip().startswith("habitable zone"))
     assert rc == 0 and "inside the inner edge" in line
+
+
+def test_calendar_observable_only_keeps_the_observable_windows(capsys):
+    cedar = str(data_path("demo", "cedar.toml"))
+    args = ("calendar", cedar, "--from", "2027-01-01", "--to", "2027-06-30", "--json")
+    rc, out, _ = run_cli(capsys, *args)
+    every = [w for p in json.loads(out)["planets"] for w in p["windows"]]
+    rc2, out2, _ = run_cli(capsys, *args, "--observable-only")
+    kept = [w for p in json.loads(out2)["planets"] for w in p["windows"]]
+    assert rc == rc2 == 0
+    assert any(not w["observable"] for w in every)            # the range has both kinds
+    assert kept == [w for w in every if w["observable"]] and kept
+
+
+def test_plan_starts_today_by_default(capsys, monkeypatch):
+    import datetime
+    from snrkit.commands import plan as plan_cmd
+    today = datetime.datetime.now(datetime.timezone.utc).date().isoformat()
+    assert plan_cmd._today_utc() == today
+    # the default start is that date: moved to 2031, the windows follow
+    monkeypatch.setattr(plan_cmd, "_today_utc", lambda: "2031-03-01")
+    cedar = str(data_path("demo", "cedar.toml"))
+    rc, out, _ = run_cli(capsys, "plan", cedar, "--planet", "Cedar b", "--mode",
+                         "cold6m-prism-lowres", "--years", "1", "--json")
+    first = min(w["start_utc"] for p in json.loads(out)["planets"] for w in p["windows"])
+    assert rc == 0 and "2031-03-01" <= first[:10] < "2032-03-02"

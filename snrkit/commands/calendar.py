@@ -28,6 +28,8 @@ def add_parser(p):
                         "of T14 (default 1.0) or a duration such as '3h'")
     p.add_argument("--padding-sigma", type=float, default=3.0, metavar="K",
                    help="pad each side of a window by K times the timing uncertainty (default 3)")
+    p.add_argument("--observable-only", action="store_true",
+                   help="keep only the windows that can be observed")
     p.add_argument("--out", metavar="FILE", help="write the windows to FILE (.csv or .ecsv)")
     p.add_argument("--plot", metavar="FILE", help="draw a timeline of the windows (.png, .pdf, .svg)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of a table")
@@ -116,6 +118,8 @@ def run(args):
     system = load_system(args.system, planet=args.planet)
     table = transit_windows(system, args.from_date, args.to_date, observatory=observatory,
                             baseline=args.baseline, padding_sigma=args.padding_sigma)
+    if args.observable_only:
+        table = table[table["observable"]]
     if args.out:
         _write_table(table, args.out)
     if args.plot:

@@ -18,8 +18,8 @@ def add_parser(p):
     p.add_argument("--max-transits", type=int, default=500, metavar="N")
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100)")
-    p.add_argument("--from", dest="start", default="2027-01-01", metavar="DATE",
-                   help="first date searched (UTC, default 2027-01-01)")
+    p.add_argument("--from", dest="start", default=None, metavar="DATE",
+                   help="first date searched (UTC, YYYY-MM-DD; default today)")
     p.add_argument("--years", type=float, default=5.0, help="years of calendar searched (default 5)")
     p.add_argument("--observatory", default="space", metavar="WHERE",
                    help="space (default), site:LON,LAT[,ELEV_M] or none")
@@ -48,7 +48,7 @@ def run(args):
         seen.add(key)
         system = load_system(path, planet=args.planet)
         res = programme_plan(system, args.mode, args.scenario, test=args.test, sigma=args.sigma,
-                             start=args.start, years=args.years, observatory=args.observatory,
+                             start=args.start or _today_utc(), years=args.years, observatory=args.observatory,
                              n_max=args.max_transits, resolution=resolution_value(args.resolution),
                              overhead_hours=args.overhead)
         results.append(res)
@@ -99,3 +99,9 @@ def run(args):
           f"{total:.1f} h, longest span {ls}")
     print("planning estimate; official observatory tools govern real proposals")
     return 0
+
+
+def _today_utc():
+    """Today's date in UTC (YYYY-MM-DD), the default start of the search."""
+    import datetime
+    return datetime.datetime.now(datetime.timezone.utc).date().isoformat()
