@@ -77,6 +77,10 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
         chosen = obs_rows[:n] if n else obs_rows[:0]
         hours = float(np.sum(np.asarray(chosen["duration_hours"], dtype=np.float64)) + overhead * len(chosen)) \
             if n else None
+        # the windows carry k sigma_n of timing padding on each side; transits_for_system's
+        # hours (T14 + baseline + overhead per visit) do not
+        k_pad = float(table.meta.get("padding_sigma", cal.DEFAULT_PADDING_SIGMA))
+        padding = float(np.sum(2.0 * k_pad * np.asarray(chosen["sigma_minutes"], dtype=np.float64)) / 60.0)
         if len(chosen):
             with cal.offline_time():   # dates past the bundled leap-second table
                 a = Time(str(chosen["start_utc"][0]), scale="utc")
@@ -99,6 +103,7 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
             "observable_windows": int(len(obs_rows)),
             "observable_fraction": float(len(obs_rows) / len(rows)) if len(rows) else 0.0,
             "enough_windows": enough, "hours_total": hours if enough else None,
+            "timing_padding_hours": padding if enough else None, "padding_sigma": k_pad,
             "span_days": span if enough else None,
             "span_years": (span / 365.25) if (span is not None and enough) else None,
             "windows": [{"epoch": int(r["epoch"]), "mid_utc": str(r["mid_utc"]),

@@ -270,3 +270,18 @@ def test_escape_screening_informs_instead_of_deleting():
     assert np.all(np.isin(t["status"][nep], ["ok", "not_reachable"]))
     assert np.sum(t["rank"][nep] > 0) >= 3
     assert np.all(strict["status"][nep] == "escaping_atmosphere")
+
+
+@pytest.mark.filterwarnings("ignore::snrkit.errors.SnrkitWarning")
+def test_plan_hours_are_transit_hours_plus_timing_padding():
+    # Consistency of the two commands: for the same transits, the plan's hours are those of
+    # snrkit transits (T14 + baseline + overhead per visit) plus each window's
+    # 2 k sigma_n of timing padding, nothing else.
+    system = load_system(str(data_path("demo", "cedar.toml")))
+    plan = programme_plan(system, PRISM, start="2027-01-01", years=2)
+    alone = transits_for_system(system, PRISM, probabilities=())
+    for p, q in zip(plan["planets"], alone["planets"]):
+        assert p["enough_windows"] and p["transits_needed"] == q["transits_needed"]
+        assert p["timing_padding_hours"] > 0
+        assert p["hours_total"] == pytest.approx(q["hours_total"] + p["timing_padding_hours"],
+                                                 rel=1e-12)

@@ -88,15 +88,20 @@ def run(args):
         print(f"{head}: {n} transits, {p['observable_windows']} of {p['windows_found']} windows "
               f"observable ({p['observable_fraction']:.0%})")
         if p["enough_windows"]:
-            w = p["windows"]
-            print(f"  first {w[0]['start_utc']} UTC, last {w[-1]['end_utc']} UTC: "
-                  f"{p['span_years']:.2f} years, {p['hours_total']:.1f} h with overheads")
+            print(f"  {p['span_years']:.2f} years, {p['hours_total']:.1f} h: the windows "
+                  f"(T14 + baseline + {p['padding_sigma']:g} sigma timing padding on each side, "
+                  f"{p['timing_padding_hours']:.1f} h of padding in all) plus the overhead per visit")
+            for w in p["windows"]:
+                print(f"    epoch {w['epoch']:>6}  {w['start_utc'][:16]} to {w['end_utc'][:16]} UTC"
+                      f"  (timing sigma {w['sigma_minutes']:.1f} min)")
         else:
             print(f"  {p['reason']}")
     ls = f"{summary['longest_span_years']:.2f} years" if summary["longest_span_years"] else "-"
     print_notes(notes)
     print(f"programme: {summary['planets_complete']} of {summary['planets']} planets complete, "
           f"{total:.1f} h, longest span {ls}")
+    print("hours: `snrkit transits` quotes T14 + baseline + overhead per visit; the plan adds "
+          "the timing padding of each window")
     print("planning estimate; official observatory tools govern real proposals")
     return 0
 
