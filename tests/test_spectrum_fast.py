@@ -149,3 +149,50 @@ def test_shifted_resolve_equals_fresh_solve(shift_km):
     assert np.array_equal(s_sat, f_sat)
     err = np.abs(shifted - fresh) / h[:, None, None]
     assert np.max(err) < 1e-4, (np.max(err), np.unravel_index(np.argmax(err), err.shape), h, r1 / h)
+
+
+def test_opacity_under_the_floor_is_never_read():
+    # A cloud deck at 100 Pa, between the 10 Pa and 1e3 Pa line-shape nodes: the radii
+    # (including roots "below" the deck, which stand for the floor term H E1(tau_f))
+    # must not change when the opacity at the deeper nodes (1e5, 1e7 Pa) changes.
+    sc, src, edges, nodes, t, op, r0, g0 = _kernel_setup("h2-warm-solar", 6, 5)
+    mu = np.full(6, sc.mean_molecular_weight)
+    args = (t, mu, r0, np.full(6, sc.reference_pressure_Pa), g0, np.full(6, 100.0),
+            np.full(6, 1e-6))
+    lin = (np.log(nodes), op["ln_continuum"], op["ln_cia"])
+    base, _ = ak.root_radius(op["lnk"], *lin, *args)
+    deep = np.log(nodes) > np.log(1e3) + 1e-9
+    changed = op["lnk"].copy()
+    changed[:, deep] += 9.0                     # 8000 times the opacity under the deck
+    other, _ = ak.root_radius(changed, *lin, *args)
+    np.testing.assert_array_equal(base, other)
+
+
+def test_range_note_on_every_call():
+    # temperatures outside the tables' range are noted each time, with the planets' own values
+    from snrkit.atmosphere.opacity import OpacityRangeWarning
+    from snrkit.atmosphere.scenarios import load_scenario
+    sc = load_scenario("h2-clear-solar")
+    src = spm._default_opacity_source()
+    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
+    for _ in range(2):
+        with pytest.warns(OpacityRangeWarning, match="3500"):
+            ak.lattice_opacity(src, sc.mixing_ratios, (0.0, -4.0), edges, 8, None, None,
+                               np.array([3500.0]))
+
+
+def test_moved_floor_is_solved_afresh():
+    # a refraction floor moves with R0 and g0: the translation does not apply and the
+    # answer equals a fresh solve
+    sc, src, edges, nodes, t, op, r0, g0 = _kernel_setup("h2-clear-solar", 4, 2)
+    mu = np.full(4, sc.mean_molecular_weight)
+    p0 = np.full(4, sc.reference_pressure_Pa)
+    lin = (op["lnk"], np.log(nodes), op["ln_continuum"], op["ln_cia"])
+    _, _, state = ak.root_radius(*lin, t, mu, r0, p0, g0, np.full(4, 1e4), np.full(4, 1e-6),
+                                 return_state=True)
+    r1 = r0 + 50e3
+    g1 = g0 * (r0 / r1) ** 2
+    moved = (np.full(4, 3e3), np.full(4, 1e-6))
+    again, _ = ak.root_radius(*lin, t, mu, r1, p0, g1, *moved, previous=state)
+    fresh, _ = ak.root_radius(*lin, t, mu, r1, p0, g1, *moved)
+    np.testing.assert_array_equal(again, fresh)

@@ -59,6 +59,10 @@ _LN_TAU_THIN = math.log(0.05)
 #: Newton steps at most; convergence is |dr| < 1e-7 H.
 _MAX_STEPS = 40
 _SLOPE_RANGE = (-0.9, 2.0)
+#: e-folds of pressure (about one scale height, the reach of a chord above its
+#: tangent point) over which the line exponent turns from the segment above a
+#: node to the segment below it.
+EXPONENT_BLEND = 1.0
 
 _CACHE = OrderedDict()
 _CACHE_SIZE = [0]
@@ -165,9 +169,20 @@ def lattice_opacity(source, mixing_ratios, haze, edges, n_g, exclude, p_nodes, t
     k_hi = np.where(w > 0, k_lo + 1, k_lo)
     need = np.unique(np.concatenate([k_lo, k_hi]))
     missing = [int(k) for k in need if (key, int(k)) not in store]
+    if shared is not None:
+        # the planets' own temperatures against the tables' range, on every call (a
+        # node's build would warn once per process, and with the node's temperature)
+        from .opacity import table_temperatures, _clamp
+        tab = table_temperatures()
+        _clamp(temperature_K, tab[0], tab[-1], "temperature_K", "K")
     if missing:
-        lnk, lc, li, gw = _build_nodes(source, mixing_ratios, haze, edges, n_g, exclude, p_nodes,
-                                       np.array(missing))
+        import warnings
+        with warnings.catch_warnings():
+            if shared is not None:
+                from .opacity import OpacityRangeWarning
+                warnings.simplefilter("ignore", OpacityRangeWarning)
+            lnk, lc, li, gw = _build_nodes(source, mixing_ratios, haze, edges, n_g, exclude,
+                                           p_nodes, np.array(missing))
         for i, k in enumerate(missing):
             entry = (lnk[i], lc[i], li[i], gw)
             store[(key, k)] = entry
@@ -210,6 +225,7 @@ class _Planets:
         self.ut = np.maximum(ut, 3.0 / self.B)
         self.capped = ~(ut >= 3.0 / self.B)
         self.r0 = r0
+        self.lnpf = np.log(pf)
 
 
 def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
@@ -222,17 +238,7 @@ def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
     B = el["B"]
     bu = B * u
     lnn = el["lnn0"] + bu
-    pos = (lnn + el["lnkT"] - x0) * (1.0 / dx)
-    m = np.clip(pos.astype(np.intp), 0, n_p - 2)      # floor for pos >= 0; clipped below
-    rows = el["row"] + m
-    la, lb = el["lnk"].take(rows), el["lnk"].take(rows + 1)
-    ea, eb = el["e"].take(rows), el["e"].take(rows + 1)
-    t = pos - m
-    lk = la + t * (lb - la)
-    # exponent of the line extinction ~ n**e: continuous in ln P (node values from
-    # the adjacent segments' slopes, linear between nodes), so tau(u) has no jumps
-    tc = np.clip(t, 0.0, 1.0)
-    e1 = ea + tc * (eb - ea)
+    lk, e1, dlk, de = _line((lnn + el["lnkT"] - x0) * (1.0 / dx), el, dx, n_p)
     # absent absorbers carry ln values of about -1e4 (never -inf), so exp() gives 0
     l1 = lk + lnn + el["base"] - 0.5 * np.log(e1)
     l2 = el["a2"] + bu
@@ -247,22 +253,52 @@ def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
     f = top + np.log(tot) - 1.5 * np.log(u) + EULER_GAMMA
     if not exact_slope:
         return f, B * (w1 * e1 + w2 + 2.0 * w3) - 1.5 / u, (w1, w2, w3), e1
-    # the exact derivative of this f (segment slope of ln k, change of e along it), for Newton
-    de = np.where(tc == t, (eb - ea) * (1.0 / dx), 0.0)
-    dl1 = 1.0 + (lb - la) * (1.0 / dx) - 0.5 * de / e1
+    # the exact derivative of this f (slope of ln k, change of e along it), for Newton
+    dl1 = 1.0 + dlk - 0.5 * de / e1
     return f, B * (w1 * dl1 + w2 + 2.0 * w3) - 1.5 / u, (w1, w2, w3), e1
 
 
-def _node_exponents(lnk_nodes, dx):
-    """Line-extinction exponent 1 + s at each pressure node (last axis).
+def _line(pos, el, dx, n_p):
+    """ln k, the exponent e and d(ln k)/d(ln P), de/d(ln P) at ``pos`` (node units).
 
-    s is the mean of the slopes d ln k / d ln P of the segments on either
-    side (the end segment's at the ends), clipped to a physical range.
+    Between nodes ln k is linear in ln P.  The chord through a tangent point
+    crosses only lower pressures, so just below a node e is the exponent of
+    the segment above; it turns linearly to the segment's own over
+    :data:`EXPONENT_BLEND` e-folds of pressure (continuous, so tau(u) has no
+    jumps, and no deeper segment is ever read).  Below the opaque floor
+    (a root there stands for the floor term H E1(tau_floor)) the line keeps
+    the floor's own power law, k ~ P**(e_floor - 1): the opacity hidden under
+    a cloud deck or surface is never read.
+    """
+    pc = np.minimum(pos, el["posf"])
+    m = np.clip(pc.astype(np.intp), 0, n_p - 2)      # floor for pos >= 0; clipped below
+    rows = el["row"] + m
+    la, lb = el["lnk"].take(rows), el["lnk"].take(rows + 1)
+    ea, eb = el["e"].take(rows), el["e"].take(rows + 1)
+    t = pc - m
+    # ea: the segment above this one; eb: this segment's own exponent
+    blend = t * (dx / EXPONENT_BLEND)
+    tc = np.clip(blend, 0.0, 1.0)
+    e1 = ea + tc * (eb - ea)
+    below = pos - pc
+    lk = la + t * (lb - la) + (e1 - 1.0) * below * dx
+    dlk = np.where(below > 0, e1 - 1.0, (lb - la) * (1.0 / dx))
+    de = np.where((tc == blend) & (below <= 0), (eb - ea) * (1.0 / EXPONENT_BLEND), 0.0)
+    return lk, e1, dlk, de
+
+
+def _node_exponents(lnk_nodes, dx):
+    """Line-extinction exponent 1 + s seen from each pressure node (last axis).
+
+    A chord with its tangent point at a node crosses only lower pressures, so
+    the exponent there is that of the segment above the node (the first
+    segment's at the top node); within a segment it turns to the segment's own
+    slope over :data:`EXPONENT_BLEND` e-folds of pressure (about one scale
+    height, the chord's reach), see :func:`_line`.  Slopes are clipped to a
+    physical range.
     """
     seg = np.clip(np.diff(lnk_nodes, axis=-1) / dx, *_SLOPE_RANGE)
-    left = np.concatenate([seg[..., :1], seg], axis=-1)
-    right = np.concatenate([seg, seg[..., -1:]], axis=-1)
-    return 1.0 + 0.5 * (left + right)
+    return 1.0 + np.concatenate([seg[..., :1], seg], axis=-1)
 
 
 def _take(el, idx):
@@ -282,13 +318,7 @@ def _dominant_start(u, el, x0, dx, n_p):
     """
     B = el["B"]
     lnn = el["lnn0"] + B * u
-    pos = (lnn + el["lnkT"] - x0) / dx
-    m = np.clip(pos.astype(np.intp), 0, n_p - 2)
-    rows = el["row"] + m
-    la, lb = el["lnk"].take(rows), el["lnk"].take(rows + 1)
-    frac = np.clip(pos - m, 0.0, 1.0)
-    lk = la + (pos - m) * (lb - la)
-    e1 = el["e"].take(rows) + frac * (el["e"].take(rows + 1) - el["e"].take(rows))
+    lk, e1, _, _ = _line((lnn + el["lnkT"] - x0) / dx, el, dx, n_p)
     c = EULER_GAMMA - 1.5 * np.log(u)
     u1 = u - (lk + lnn + el["base"] - 0.5 * np.log(e1) + c) / (e1 * B)
     u2 = u - (el["a2"] + B * u + c) / B
@@ -440,7 +470,11 @@ def _shifted_chunk(el, prev, du, x0, dx, n_p):
         ur = u_s - 1.5 * np.log(u_old / u_s) / slope
         sub = _take(el, easy)
         f, slope, _, _ = _ln_tau(ur, sub, x0, dx, n_p, exact_slope=True)
-        ur = ur - f / slope                            # a second step: ~1e-8 H
+        step = f / slope
+        ur = ur - step                                 # a second step: ~1e-8 H
+        slow = np.flatnonzero(np.abs(step * sub["B"]) > 1e-3)
+        if slow.size:                                  # not yet quadratic (near the r/H = 3 cap)
+            ur[slow], slope[slow] = _newton(ur[slow], _take(sub, slow), x0, dx, n_p)
         state["u"][easy], state["d"][easy] = ur, slope
         out[easy] = 1.0 / ur + _corrections(ur, sub, ln_tf[easy], x0, dx, n_p)
     hard = np.flatnonzero(thick & ~np.isfinite(prev["u"]))
@@ -519,7 +553,9 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
     step = int(chunk or CHUNK_ELEMENTS)
     du = None
     if previous is not None and previous["u"].size == n_el and np.allclose(
-            previous["B"], pl.B, rtol=1e-9, atol=0.0):
+            previous["B"], pl.B, rtol=1e-9, atol=0.0) and np.array_equal(previous["lnpf"], pl.lnpf):
+        # only R0 moved, with G M and the floor pressure fixed (a refraction floor
+        # moves with R0 and g0: then a full solve)
         du = 1.0 / pl.r0 - 1.0 / previous["r0"]
 
     def run(s0):
@@ -527,7 +563,8 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
         ip = e // (nw * ng)
         iw = (e // ng) % nw
         el = {"B": pl.B[ip], "lnn0": pl.lnn0[ip], "lnkT": pl.lnkT[ip], "base": pl.base[ip],
-              "uf": pl.uf[ip], "ut": pl.ut[ip], "capped": pl.capped[ip], "lnk": lnk_e, "e": e_e,
+              "uf": pl.uf[ip], "ut": pl.ut[ip], "capped": pl.capped[ip],
+              "posf": (pl.lnpf[ip] - x0) / dx, "lnk": lnk_e, "e": e_e,
               "row": e * n_p}
         el["a2"] = np.maximum(lc[ip, iw], _LN_ABSENT) + el["lnn0"] + el["base"]
         el["a3"] = (np.maximum(li[ip, iw], _LN_ABSENT) + 2.0 * el["lnn0"] + el["base"]
@@ -558,7 +595,7 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
     if not return_state:
         return radius, saturated
     ip_all = np.arange(n_el) // (nw * ng)
-    state.update(r0=pl.r0, B=pl.B, capped=pl.capped[ip_all])
+    state.update(r0=pl.r0, B=pl.B, lnpf=pl.lnpf, capped=pl.capped[ip_all])
     return radius, saturated, state
 
 
