@@ -225,3 +225,14 @@ def test_plan_starts_today_by_default(capsys, monkeypatch):
                          "cold6m-prism-lowres", "--years", "1", "--json")
     first = min(w["start_utc"] for p in json.loads(out)["planets"] for w in p["windows"])
     assert rc == 0 and "2031-03-01" <= first[:10] < "2032-03-02"
+
+
+def test_every_option_has_help_text():
+    from snrkit.cli import _build_parser, COMMANDS
+    missing = []
+    for name in COMMANDS:
+        parser = _build_parser(name)
+        sub = next(a for a in parser._actions if a.dest == "command").choices[name]
+        missing += [(name, a.option_strings[-1]) for a in sub._actions
+                    if a.option_strings and a.dest != "help" and not a.help]
+    assert not missing

@@ -14,8 +14,9 @@ def add_parser(p):
                    help="scenario assumed true (default: each planet's [planet.atmosphere])")
     p.add_argument("--test", default="atmosphere",
                    help="atmosphere (default), species:GAS or against:SCENARIO")
-    p.add_argument("--sigma", type=float, default=5.0)
-    p.add_argument("--max-transits", type=int, default=500, metavar="N")
+    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
+    p.add_argument("--max-transits", type=int, default=500, metavar="N",
+                   help="largest number of transits considered (default 500)")
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100)")
     p.add_argument("--from", dest="start", default=None, metavar="DATE",

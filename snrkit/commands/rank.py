@@ -22,7 +22,8 @@ def add_parser(p):
                    help="atmosphere (default), species:GAS, against:SCENARIO, or goodness-of-fit "
                         "(a flat line rejected at bins - 1 degrees of freedom)")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--max-transits", type=int, default=500, metavar="N")
+    p.add_argument("--max-transits", type=int, default=500, metavar="N",
+                   help="largest number of transits considered (default 500)")
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100, as for transits; "
                         "bins narrower than a resolution element are merged)")
@@ -34,10 +35,14 @@ def add_parser(p):
                    help="hours (default), transits, tsm, esm, significance, or a numeric column; "
                         "append :asc or :desc to choose the direction")
     p.add_argument("--top", type=int, metavar="N", help="print only the first N ranked rows")
-    p.add_argument("--radius-min", type=float, metavar="R_EARTH")
-    p.add_argument("--radius-max", type=float, metavar="R_EARTH")
-    p.add_argument("--teq-min", type=float, metavar="K")
-    p.add_argument("--teq-max", type=float, metavar="K")
+    p.add_argument("--radius-min", type=float, metavar="R_EARTH",
+                   help="keep planets at least this large [Earth radii]")
+    p.add_argument("--radius-max", type=float, metavar="R_EARTH",
+                   help="keep planets at most this large [Earth radii]")
+    p.add_argument("--teq-min", type=float, metavar="K",
+                   help="keep planets at least this warm (equilibrium temperature, K)")
+    p.add_argument("--teq-max", type=float, metavar="K",
+                   help="keep planets at most this warm (equilibrium temperature, K)")
     p.add_argument("--habitable-zone", action="store_true", help="keep only planets in the habitable zone")
     p.add_argument("--band", default="J", help="band of the magnitude limits (default J)")
     p.add_argument("--brighter-than", type=float, metavar="MAG", help="keep stars brighter than this")

@@ -27,7 +27,9 @@ def add_observation_args(p):
                    help="whether the floor averages down over transits (default: the mode's)")
     p.add_argument("--overhead", type=float, metavar="HOURS",
                    help="per-visit overhead in hours (default 1)")
-    p.add_argument("--solver", choices=("analytic", "layers"), default="analytic")
+    p.add_argument("--solver", choices=("analytic", "layers"), default="analytic",
+                   help="spectrum solver: the analytic isothermal formula (default) or chord "
+                        "integration through layers (slower; vertical composition, T profiles)")
 
 
 def resolution_value(text):
