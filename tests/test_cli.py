@@ -236,3 +236,15 @@ def test_every_option_has_help_text():
         missing += [(name, a.option_strings[-1]) for a in sub._actions
                     if a.option_strings and a.dest != "help" and not a.help]
     assert not missing
+
+
+def test_demo_writes_a_readable_summary(capsys, tmp_path):
+    # the whole `make demo` job, end to end: every demo system, the ranked catalogue
+    # and the plans, summed up in plain sentences (no Python objects printed)
+    rc, out, _ = run_cli(capsys, "demo", "--out", str(tmp_path / "demo"))
+    text = (tmp_path / "demo" / "summary.txt").read_text()
+    assert rc == 0
+    for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c"):
+        assert name in text, name
+    assert "{" not in text and "}" not in text
+    assert "1 transits" not in text

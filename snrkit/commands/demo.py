@@ -155,7 +155,8 @@ def _catalogue_and_plan(files, out, summary):
     top = table[np.asarray(table["rank"]) > 0]
     top.sort("rank")
     summary.append(f"demo catalogue ({len(table)} invented rows), atmosphere test, h2-clear-solar, "
-                   f"{DEFAULT_MODE}: {table.meta['status_counts']}")
+                   f"{DEFAULT_MODE}: "
+                   + ", ".join(f"{k} {v}" for k, v in sorted(table.meta["status_counts"].items())))
     for r in top[:5]:
         summary.append(f"  {int(r['rank']):>2}. {r['name']:<14} {plural(int(r['transits_needed']), 'transit')}, "
                        f"{float(r['hours_total']):.1f} h (TSM {float(r['tsm']):.1f})")
