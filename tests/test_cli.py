@@ -248,3 +248,22 @@ def test_demo_writes_a_readable_summary(capsys, tmp_path):
         assert name in text, name
     assert "{" not in text and "}" not in text
     assert "1 transits" not in text
+
+
+def test_several_modes_side_by_side_and_one_mode_elsewhere(capsys):
+    modes = ("cold6m-prism-lowres", "cold6m-grism-2.4-5um")
+    rc, out, _ = run_cli(capsys, "transits", CEDAR, "--mode", modes[0], "--mode", modes[1],
+                         "--json")
+    doc = json.loads(out)
+    assert rc == 0 and [m["mode"] for m in doc["comparison"][0]["modes"]] == list(modes)
+    # each mode's answer is the one that mode gives alone
+    for k, mode in enumerate(modes):
+        rc, alone, _ = run_cli(capsys, "transits", CEDAR, "--mode", mode, "--json")
+        n_alone = [p["transits_needed"] for p in json.loads(alone)["planets"]]
+        assert [row["modes"][k]["transits_needed"] for row in doc["comparison"]] == n_alone
+    rc, out, _ = run_cli(capsys, "transits", CEDAR, "--mode", modes[0], "--mode", modes[1])
+    assert rc == 0 and "side by side" in out
+    for command in ("precision", "contrast", "plan"):
+        extra = ("--scenarios", "steam,flat") if command == "contrast" else ()
+        rc, _, err = run_cli(capsys, command, CEDAR, "--mode", modes[0], "--mode", modes[1], *extra)
+        assert rc == 2 and "one mode" in err, command

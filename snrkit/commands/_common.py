@@ -6,7 +6,7 @@ import sys
 
 import numpy as np
 
-__all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path",
+__all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path", "one_mode",
            "check_writable", "write_table"]
 
 
@@ -122,3 +122,14 @@ def write_table(table, path):
         out.meta = {}
     with atomic_path(path) as tmp:
         out.write(tmp, format=fmt, overwrite=True)
+
+
+def one_mode(args, command):
+    """The single --mode of a command that takes one (None: the system file's)."""
+    modes = list(dict.fromkeys(getattr(args, "mode", None) or []))
+    if len(modes) > 1:
+        from ..errors import InputError
+        raise InputError("--mode", ", ".join(modes),
+                         f"one mode for `snrkit {command}` (`snrkit transits` and `snrkit rank` "
+                         "compare several)")
+    return modes[0] if modes else None

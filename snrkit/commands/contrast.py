@@ -1,6 +1,6 @@
 """``snrkit contrast SYSTEM.toml --mode M --scenarios A,B,C``: transits to tell scenarios apart."""
 
-from ._common import add_system_args, print_json, print_notes
+from ._common import one_mode, add_system_args, print_json, print_notes
 from .transits import add_observation_args, resolution_value
 
 __all__ = ["add_parser", "run"]
@@ -19,7 +19,7 @@ def run(args):
     from ..transits import contrast_for_system
     system = load_system(args.system, planet=args.planet)
     fa = None if args.floor_averages is None else args.floor_averages == "yes"
-    res = contrast_for_system(system, args.mode, args.scenarios, sigma=args.sigma,
+    res = contrast_for_system(system, one_mode(args, "contrast"), args.scenarios, sigma=args.sigma,
                               n_max=args.max_transits, resolution=resolution_value(args.resolution),
                               floor_ppm=args.floor, floor_averages_down=fa,
                               overhead_hours=args.overhead, solver=args.solver)

@@ -1,6 +1,6 @@
 """``snrkit plan SYSTEM.toml ... --mode M``: the observing programme for a target list."""
 
-from ._common import print_json, print_notes, check_output_path, write_table
+from ._common import one_mode, print_json, print_notes, check_output_path, write_table
 from .transits import resolution_value
 
 __all__ = ["add_parser", "run"]
@@ -9,7 +9,8 @@ __all__ = ["add_parser", "run"]
 def add_parser(p):
     p.add_argument("targets", nargs="+", metavar="SYSTEM.toml", help="system files of the targets")
     p.add_argument("--planet", metavar="NAME", help="only this planet")
-    p.add_argument("--mode", metavar="PRESET_OR_FILE", help="instrument mode (default: observation.mode)")
+    p.add_argument("--mode", metavar="PRESET_OR_FILE", action="append",
+                   help="instrument mode (default: observation.mode in the file)")
     p.add_argument("--scenario", metavar="NAME_OR_FILE",
                    help="scenario assumed true (default: each planet's [planet.atmosphere])")
     p.add_argument("--test", default="atmosphere",
@@ -48,7 +49,7 @@ def run(args):
             continue
         seen.add(key)
         system = load_system(path, planet=args.planet)
-        res = programme_plan(system, args.mode, args.scenario, test=args.test, sigma=args.sigma,
+        res = programme_plan(system, one_mode(args, "plan"), args.scenario, test=args.test, sigma=args.sigma,
                              start=args.start or _today_utc(), years=args.years, observatory=args.observatory,
                              n_max=args.max_transits, resolution=resolution_value(args.resolution),
                              overhead_hours=args.overhead)

@@ -1,13 +1,13 @@
 """``snrkit precision SYSTEM.toml --mode MODE``: per-bin transit-depth precision."""
 
-from ._common import add_system_args, print_json
+from ._common import one_mode, add_system_args, print_json
 
 __all__ = ["add_parser", "run", "precision_json", "format_precision", "plot_precision"]
 
 
 def add_parser(p):
     add_system_args(p)
-    p.add_argument("--mode", metavar="PRESET_OR_FILE",
+    p.add_argument("--mode", metavar="PRESET_OR_FILE", action="append",
                    help="instrument mode preset (see `snrkit presets`) or mode file (.toml); "
                         "default: observation.mode in the system file")
     p.add_argument("--resolution", type=float, metavar="R",
@@ -163,7 +163,7 @@ def run(args):
     if args.plot is not None and not str(args.plot).lower().endswith(".png"):
         raise InputError("--plot", args.plot, "a file name ending in .png")
     system = load_system(args.system, planet=args.planet)
-    ds = system_precision(system, args.mode, band=args.band, n_transits=args.transits,
+    ds = system_precision(system, one_mode(args, "precision"), band=args.band, n_transits=args.transits,
                           resolution=args.resolution)
     if args.plot:
         plot_precision(ds, args.plot)

@@ -3,13 +3,14 @@
 from ._common import add_system_args, print_json, print_notes, check_output_path
 
 __all__ = ["add_parser", "run", "add_observation_args", "parse_contamination", "resolution_value",
-           "format_result", "plural"]
+           "format_result", "plural", "compare_modes"]
 
 
 def add_observation_args(p):
     """Options shared by the commands that stack transits."""
-    p.add_argument("--mode", metavar="PRESET_OR_FILE",
-                   help="instrument mode preset or file (default: observation.mode in the file)")
+    p.add_argument("--mode", metavar="PRESET_OR_FILE", action="append",
+                   help="instrument mode preset or file (default: observation.mode in the file); "
+                        "`transits` takes it several times and compares the modes side by side")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
     p.add_argument("--max-transits", type=int, default=500, metavar="N",
                    help="largest number of transits considered (default 500)")
@@ -188,8 +189,12 @@ def run(args):
         check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     system = load_system(args.system, planet=args.planet)
     fa = None if args.floor_averages is None else args.floor_averages == "yes"
-    res = transits_for_system(
-        system, args.mode, args.scenario, species=args.species, against=args.against,
+    modes = list(dict.fromkeys(args.mode)) if args.mode else [None]
+    if args.plot and len(modes) > 1:
+        from ..errors import InputError
+        raise InputError("--plot", args.plot, "one --mode (the figure shows one mode)")
+    results = [transits_for_system(
+        system, mode, args.scenario, species=args.species, against=args.against,
         test="goodness-of-fit" if args.goodness_of_fit else None, readout=args.readout,
         min_jeans=args.min_jeans,
         sigma=args.sigma, probabilities=tuple(args.probability or (0.5, 0.9)),
@@ -198,7 +203,10 @@ def run(args):
         contamination=parse_contamination(args), uncertainty_draws=args.uncertainty_draws,
         seed=args.seed, fisher=args.fisher, solver=args.solver,
         against_wavelength_unit=args.against_unit, against_depth_kind=args.against_kind,
-        refit=tuple(x for x in (args.refit or "").split(",") if x))
+        refit=tuple(x for x in (args.refit or "").split(",") if x)) for mode in modes]
+    if len(results) > 1:
+        return _run_several(results, args)
+    res = results[0]
     if args.plot:
         from ..plots import plot_transits
         plot_transits(res, args.plot, seed=args.seed)
@@ -208,4 +216,42 @@ def run(args):
         print(format_result(res))
         print("planning estimate; official observatory tools govern real proposals")
     print_notes(res["notes"])
+    return 0
+
+
+def compare_modes(results):
+    """Rows of a side-by-side comparison: per planet, each mode's transits and hours."""
+    rows = []
+    for i, first in enumerate(results[0]["planets"]):
+        rows.append({"name": first["name"], "modes": [
+            {"mode": r["planets"][i]["mode"], "status": r["planets"][i]["status"],
+             "transits_needed": r["planets"][i]["transits_needed"],
+             "hours_total": r["planets"][i]["hours_total"],
+             "significance_per_transit_sigma": r["planets"][i]["significance_per_transit_sigma"]}
+            for r in results]})
+    return rows
+
+
+def _run_several(results, args):
+    """Several modes: each mode's answer, then the modes side by side."""
+    notes = list(dict.fromkeys(n for r in results for n in r["notes"]))
+    rows = compare_modes(results)
+    if args.json:
+        print_json({"planets": [p for r in results for p in r["planets"]], "comparison": rows,
+                    "notes": notes})
+        print_notes(notes)
+        return 0
+    for r in results:
+        print(format_result(r))
+        print()
+    names = [m["mode"] for m in rows[0]["modes"]] if rows else []
+    width = max([len(n) for n in names] + [24])
+    print("modes side by side: transits needed (hours)")
+    print(f"  {'planet':<16} " + " ".join(f"{n:>{width}}" for n in names))
+    for row in rows:
+        cells = [(f"{plural(m['transits_needed'], 'transit')} ({m['hours_total']:.1f} h)"
+                  if m["transits_needed"] else m["status"].replace("_", " ")) for m in row["modes"]]
+        print(f"  {row['name']:<16} " + " ".join(f"{c:>{width}}" for c in cells))
+    print("planning estimate; official observatory tools govern real proposals")
+    print_notes(notes)
     return 0
