@@ -176,8 +176,11 @@ def test_class8_extreme_sizes_are_refused_not_nan(tmp_path):
 
 def _slow_rank_child(tmp_path):
     """A child that holds its temporary output open until it is signalled."""
+    # Ctrl-C as in a terminal: a process started in the background of a non-interactive
+    # shell (as some CI runners do) inherits SIGINT ignored, and Python then leaves it so
     code = (
-        "import sys, time\n"
+        "import signal, sys, time\n"
+        "signal.signal(signal.SIGINT, signal.default_int_handler)\n"
         "import snrkit.commands._common as c\n"
         "from snrkit.io.atomic import atomic_path\n"
         "def slow(table, path):\n"

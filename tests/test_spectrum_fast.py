@@ -196,3 +196,23 @@ def test_moved_floor_is_solved_afresh():
     again, _ = ak.root_radius(*lin, t, mu, r1, p0, g1, *moved, previous=state)
     fresh, _ = ak.root_radius(*lin, t, mu, r1, p0, g1, *moved)
     np.testing.assert_array_equal(again, fresh)
+
+
+def test_no_raw_slope_outside_the_nodes():
+    # A g-point with its ln k at the tables' floor (1e-300) at every node but the top one
+    # (a far wing listed only at the lowest pressure): above the top node the line must
+    # continue with a physical exponent, not the raw node-to-node slope (which would
+    # make the atmosphere opaque at 1e-6 Pa and put the radius 28 H up).
+    sc, src, edges, nodes, t, op, r0, g0 = _kernel_setup("co2-thick", 3, 6)
+    mu = np.full(3, sc.mean_molecular_weight)
+    args = (t, mu, r0, np.full(3, sc.reference_pressure_Pa), g0,
+            np.full(3, 1e3 * sc.reference_pressure_Pa), np.full(3, 1e-6))
+    lin = (np.log(nodes), op["ln_continuum"], op["ln_cia"])
+    absent = np.full_like(op["lnk"], np.log(1e-300))
+    wing = absent.copy()
+    wing[:, 0] = -318.0
+    r_absent, s_absent = ak.root_radius(absent, *lin, *args)
+    r_wing, s_wing = ak.root_radius(wing, *lin, *args)
+    h = 1.380649e-23 * t / (mu * 1.66054e-27 * g0)
+    assert not s_wing.any()
+    assert np.max(np.abs(r_wing - r_absent) / h[:, None, None]) < 1e-3

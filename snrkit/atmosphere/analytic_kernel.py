@@ -281,9 +281,16 @@ def _line(pos, el, dx, n_p):
     tc = np.clip(blend, 0.0, 1.0)
     e1 = ea + tc * (eb - ea)
     below = pos - pc
-    lk = la + t * (lb - la) + (e1 - 1.0) * below * dx
-    dlk = np.where(below > 0, e1 - 1.0, (lb - la) * (1.0 / dx))
-    de = np.where((tc == blend) & (below <= 0), (eb - ea) * (1.0 / EXPONENT_BLEND), 0.0)
+    # outside the nodes (above the top one, below the deepest) the power law of the
+    # end segment continues with its clipped exponent, never a raw slope (a g-point
+    # absent at one node has ln k at the tables' floor there, and its raw slope is
+    # not a line shape)
+    inside = np.clip(t, 0.0, 1.0)
+    outside = (t - inside) * dx
+    lk = la + inside * (lb - la) + (e1 - 1.0) * (outside + below * dx)
+    dlk = np.where((below > 0) | (outside != 0), e1 - 1.0, (lb - la) * (1.0 / dx))
+    de = np.where((tc == blend) & (below <= 0) & (outside == 0),
+                  (eb - ea) * (1.0 / EXPONENT_BLEND), 0.0)
     return lk, e1, dlk, de
 
 

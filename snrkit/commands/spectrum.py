@@ -110,6 +110,7 @@ def _flat_spectra(ds):
 
 
 def _summary_rows(ds):
+    import numpy as np
     rows = []
     for planet, scen, one in _flat_spectra(ds):
         depth = one["transit_depth_ppm"].values
@@ -124,6 +125,11 @@ def _summary_rows(ds):
             "min_depth_ppm": float(depth.min()), "max_depth_ppm": float(depth.max()),
             "observed_depth_ppm": float(one["observed_depth_ppm"]),
         })
+        if "depth_without_species_ppm" in one:
+            w = one["depth_without_species_ppm"]
+            rows[-1]["depth_without_species_ppm"] = {
+                str(sp): w.sel(species=sp).values for sp in w["species"].values
+                if np.all(np.isfinite(w.sel(species=sp).values))}
     return rows
 
 
@@ -172,6 +178,13 @@ def write_spectrum(ds, path):
     t["transit_depth_ppm"].description = "transit depth in ppm (bin average)"
     t = t[["planet", "scenario", "wavelength", "wavelength_lower", "wavelength_upper",
            "transit_depth_ppm", "effective_height"]]
+    if "depth_without_species_ppm" in ds:
+        for sp in ds["depth_without_species_ppm"]["species"].values:
+            col = f"depth_without_{sp}_ppm"
+            t[col] = np.concatenate([one["depth_without_species_ppm"].sel(species=sp).values
+                                     for _, _, one in _flat_spectra(ds)])
+            t[col].description = (f"transit depth in ppm with {sp}'s opacity removed (mean "
+                                  "molecular weight unchanged; NaN where the scenario lacks it)")
     t.meta["source"] = "snrkit spectrum"
     t.meta["method"] = ds.attrs.get("method", "")
     t.meta["solver"] = ds.attrs.get("solver", "")
@@ -184,6 +197,7 @@ def write_spectrum(ds, path):
 def plot_spectrum(ds, path, scenario_species=None):
     """Plot transit depth against wavelength, marking the main bands."""
     from pathlib import Path
+    import numpy as np
     import matplotlib
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
@@ -201,6 +215,13 @@ def plot_spectrum(ds, path, scenario_species=None):
                         label=f"{planet} - {scen}")
         ax.axhline(float(one["observed_depth_ppm"]), color=line.get_color(), ls=":", lw=0.8,
                    label=f"{planet}: observed depth")
+        if "depth_without_species_ppm" in one:
+            w = one["depth_without_species_ppm"]
+            for k, sp in enumerate(w["species"].values):
+                vals = w.sel(species=sp).values
+                if np.all(np.isfinite(vals)):
+                    ax.step(lam, vals, where="mid", lw=0.7, ls=("--", "-.", ":")[k % 3],
+                            color=line.get_color(), alpha=0.6, label=f"{planet} - {scen} without {sp}")
     ax.set_xscale("log")
     ax.set_xlabel("wavelength [um]")
     ax.set_ylabel("transit depth [ppm]")
@@ -326,6 +347,12 @@ def run(args):
     depth = np.array([r["transit_depth_ppm"] for r in rows])
     for j, lam in enumerate(ds["wavelength"].values):
         print(f"{lam:13.5f}  " + "  ".join(f"{v:24.2f}" for v in depth[:, j]))
+    for r in rows:
+        for sp, without in r.get("depth_without_species_ppm", {}).items():
+            signal = np.asarray(r["transit_depth_ppm"]) - np.asarray(without)
+            print(f"{r['planet']} | {r['scenario']}: {sp} adds up to {np.max(signal):.1f} ppm "
+                  f"(at {ds['wavelength'].values[int(np.argmax(signal))]:.3f} um; "
+                  f"mean {np.mean(signal):.1f} ppm over the bins)")
     if args.out:
         print(f"\nwrote {args.out}")
     if args.plot:
