@@ -27,6 +27,7 @@ demo: $(DSTAMP)
 	$(VENV)/bin/snrkit demo
 
 test: $(STAMP)
+	$(VENV)/bin/ruff check snrkit tests benchmarks data_tables/scripts
 	$(VPY) -m pytest
 
 bench: $(DSTAMP)

@@ -13,7 +13,6 @@ import time
 import warnings
 
 import numpy as np
-import astropy.units as u
 
 from snrkit.system import Star, Planet, System
 

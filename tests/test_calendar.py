@@ -5,10 +5,8 @@ with the network blocked (autouse fixture), so the suite proves that nothing
 is downloaded.  Sources are given beside each check.
 """
 
-import argparse
 import json
 import socket
-import warnings
 from fractions import Fraction
 
 import numpy as np
@@ -20,7 +18,7 @@ from snrkit import calendar as cal
 from snrkit.calendar import (GroundSite, SpaceObservatory, offline_time, transit_windows,
                              predict_transits, bjd_to_utc, epoch_grid, timing_sigma)
 from snrkit.constants import DAY, AU, C_LIGHT
-from snrkit.errors import InputError, SnrkitError
+from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system, read_system_text
 from snrkit.tables import data_path
 

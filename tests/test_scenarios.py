@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from snrkit.atmosphere.scenarios import (load_scenario, list_scenarios, preset_names,
-                                         SCENARIO_KEYS, Scenario)
+                                         Scenario)
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.tables import data_path
 

@@ -7,7 +7,6 @@ chi^2 quantities against scipy.stats.ncx2 / scipy.special.
 """
 
 import numpy as np
-import pytest
 from hypothesis import given, strategies as st
 from scipy import special, stats
 
