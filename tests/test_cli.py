@@ -268,3 +268,18 @@ def test_several_modes_side_by_side_and_one_mode_elsewhere(capsys):
         extra = ("--scenarios", "steam,flat") if command == "contrast" else ()
         rc, _, err = run_cli(capsys, command, CEDAR, "--mode", modes[0], "--mode", modes[1], *extra)
         assert rc == 2 and "one mode" in err, command
+
+
+def test_presets_show_writes_every_kind_of_starting_point(capsys, tmp_path):
+    # a system file, a scenario, a mode and a catalogue mapping, each readable by the
+    # reader of its kind after the header line
+    from snrkit.io.tomlfile import read_toml
+    from snrkit.catalog import load_mapping
+    for name in ("cedar", "steam", "cold6m-prism-lowres", "example-renamed"):
+        out = tmp_path / f"{name}.toml"
+        rc, printed, _ = run_cli(capsys, "presets", "--show", name, "--out", str(out))
+        assert rc == 0 and str(out) in printed
+        assert out.read_text().startswith("# from ") and read_toml(out, name)
+    assert load_mapping(str(tmp_path / "example-renamed.toml"))
+    rc, _, err = run_cli(capsys, "presets", "--out", str(tmp_path / "x.toml"))
+    assert rc == 2 and "--show" in err

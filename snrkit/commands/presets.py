@@ -8,19 +8,25 @@ __all__ = ["add_parser", "run", "collect_presets", "preset_file"]
 def add_parser(p):
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--show", metavar="NAME",
-                   help="print one preset's file (scenario, mode or demo system) and its path, "
-                        "to copy and edit")
+                   help="print one preset's file (scenario, mode, demo system or catalogue "
+                        "mapping) and its path: a commented starting point to edit")
+    p.add_argument("--out", metavar="FILE.toml",
+                   help="with --show: write the file there instead of printing it")
 
 
 def collect_presets():
-    """Presets by kind: ``{"scenarios": [...], "modes": [...], "demo_systems": [...]}``.
+    """Presets by kind: scenarios, modes, demo systems and catalogue mappings.
 
     Each entry is ``{"name": ..., "description": ...}``.  Kinds whose layer
     is not installed yet are empty lists.
     """
     from ..io.tomlfile import read_toml
     from .demo import demo_files
-    out = {"scenarios": [], "modes": [], "demo_systems": []}
+    from ..tables import data_path
+    out = {"scenarios": [], "modes": [], "demo_systems": [], "catalogue_mappings": []}
+    for path in sorted(data_path("catalogue_mappings").glob("*.toml")):
+        out["catalogue_mappings"].append({"name": path.stem, "description": read_toml(
+            path, "catalogue mapping").get("title", "")})
     for path in demo_files():
         out["demo_systems"].append({"name": path.stem,
                                     "description": read_toml(path, "demo system").get("title", "")})
@@ -47,7 +53,8 @@ def preset_file(name):
     import re
     if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9._-]{0,100}", str(name)) or ".." in str(name):
         raise InputError("preset", name, "a preset name (letters, digits, '.', '_', '-')")
-    candidates = [data_path("scenarios", f"{name}.toml"), data_path("instruments", f"{name}.toml")]
+    candidates = [data_path(folder, f"{name}.toml")
+                  for folder in ("scenarios", "instruments", "catalogue_mappings")]
     candidates += [p for p in demo_files() if p.stem == name]
     for path in candidates:
         if path.is_file():
@@ -57,10 +64,18 @@ def preset_file(name):
 
 
 def run(args):
+    if args.out and not args.show:
+        from ..errors import InputError
+        raise InputError("--out", args.out, "only with --show NAME")
     if args.show:
         path = preset_file(args.show)
-        print(f"# {path}")
-        print(path.read_text(encoding="utf-8"), end="")
+        text = f"# from {path}\n" + path.read_text(encoding="utf-8")
+        if args.out:
+            from ..io.atomic import atomic_write_text
+            atomic_write_text(args.out, text)
+            print(f"wrote {args.out} (from {path.name})")
+        else:
+            print(text, end="")
         return 0
     presets = collect_presets()
     if args.json:
