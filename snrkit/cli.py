@@ -86,6 +86,10 @@ def _build_parser(selected=None):
     parser.add_argument("--version", action="version", version=f"snrkit {__version__}")
     parser.add_argument("--debug", action="store_true",
                         help="show a full traceback on internal errors")
+    parser.add_argument("--allow-unusual", action="store_true",
+                        help="accept planet and star values outside the usual ranges (radius "
+                             "0.1 R_earth-3 R_jup, mass up to 13 M_jup, gravity 0.5-1000 m/s2, "
+                             "host 0.08-100 R_sun and 0.07-150 M_sun)")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for name, (modname, helptext) in COMMANDS.items():
         if selected is not None and name != selected:
@@ -140,7 +144,9 @@ def main(argv=None):
         return 2
     from .errors import SnrkitError, InputError, SnrkitWarning
     import numpy as np
-    with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise():
+    from .system import allow_unusual
+    with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise(), \
+            allow_unusual(getattr(args, "allow_unusual", False)):
         # snrkit's own warnings are messages for the user: always print them
         # on stderr, whatever filters the host process has set.  Floating-point
         # events and library warnings are not messages for the user: every

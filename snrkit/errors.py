@@ -11,6 +11,7 @@ __all__ = [
     "UnitMismatchError",
     "UnknownKeyError",
     "NoTransitError",
+    "UnusualValueError",
     "SnrkitWarning",
     "GrazingTransitWarning",
     "EstimatedValueWarning",
@@ -76,6 +77,11 @@ class UnknownKeyError(InputError):
 
 class NoTransitError(InputError):
     """The geometry gives no transit (impact parameter >= 1 + Rp/Rs)."""
+
+
+class UnusualValueError(InputError):
+    """A physically possible value outside the range expected of a planet or its host
+    (most often a unit mistake); ``--allow-unusual`` lets it through."""
 
 
 class SnrkitWarning(UserWarning):

@@ -11,6 +11,8 @@ height, TSM/ESM, habitable zone) and returns an astropy Table.
 
 import warnings
 
+import contextvars
+
 import numpy as np
 import astropy.units as u
 
@@ -21,7 +23,8 @@ from .errors import InputError, NoTransitError, GrazingTransitWarning, SnrkitWar
 from .units import to_si, as_float_array, check_range
 
 __all__ = ["Star", "Planet", "System", "TEFF_RANGE_K", "BANDS",
-           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "LIMITS", "KEPLER_TOLERANCE",
+           "DEFAULT_MEAN_MOLECULAR_WEIGHT", "PLANET_RADIUS_MAX_EARTH", "LIMITS", "PLAUSIBLE",
+           "allow_unusual", "check_plausible", "KEPLER_TOLERANCE",
            "derive"]
 
 #: Supported stellar effective temperatures [K] (the Planck/photometry layer
@@ -59,6 +62,70 @@ LIMITS = {
     "star.mass": (0.005, 300.0),                                # M_sun
     "star.distance": (1e-3, 1e6),                               # pc
 }
+
+
+#: Ranges expected of a transiting planet and its host (common practice, no source):
+#: a value outside is most often a unit mistake ("2.4 m" for a radius), so a system
+#: file with one is refused unless unusual values are allowed (``--allow-unusual``,
+#: :func:`allow_unusual`).  Radius 0.1 R_earth to 3 R_jup; mass up to 13 M_jup (the
+#: deuterium-burning limit); surface gravity 0.5-1000 m s-2; hosts 0.08-100 R_sun
+#: and 0.07-150 M_sun (the hydrogen-burning limit upwards).
+PLAUSIBLE = {
+    "planet.radius": (0.1, 33.6, "earthRad"),
+    "planet.mass": (1e-3, 4130.0, "earthMass"),
+    "planet.surface_gravity": (0.5, 1000.0, "m/s2"),
+    "star.radius": (0.08, 100.0, "solRad"),
+    "star.mass": (0.07, 150.0, "solMass"),
+}
+
+_ALLOW_UNUSUAL = contextvars.ContextVar("snrkit_allow_unusual", default=False)
+
+
+def allow_unusual(allowed=True):
+    """Context manager: accept values outside :data:`PLAUSIBLE` while it is active."""
+    import contextlib
+
+    @contextlib.contextmanager
+    def ctx():
+        token = _ALLOW_UNUSUAL.set(bool(allowed))
+        try:
+            yield
+        finally:
+            _ALLOW_UNUSUAL.reset(token)
+    return ctx()
+
+
+def check_plausible(system):
+    """Refuse a system with a value outside :data:`PLAUSIBLE`, unless allowed.
+
+    Raises
+    ------
+    snrkit.errors.UnusualValueError
+        Naming the field and planet, the value and the expected range.
+    """
+    from .errors import UnusualValueError
+    if _ALLOW_UNUSUAL.get():
+        return
+    from .constants import R_EARTH, M_EARTH, R_SUN, M_SUN
+    d = system.derived_arrays()
+    names = [str(x) for x in system.names]
+    measured = ~np.asarray(system.planet.mass_estimated, dtype=bool)
+    values = {
+        "planet.radius": d["radius_m"] / R_EARTH,
+        "planet.mass": np.where(measured, d["mass_kg"] / M_EARTH, np.nan),
+        "planet.surface_gravity": np.where(measured, d["surface_gravity_m_s2"], np.nan),
+        "star.radius": np.broadcast_to(system.star.radius_m / R_SUN, (len(names),)),
+        "star.mass": np.broadcast_to(system.star.mass_kg / M_SUN, (len(names),)),
+    }
+    for field, v in values.items():
+        lo, hi, unit = PLAUSIBLE[field]
+        bad = np.flatnonzero(np.isfinite(v) & ((v < lo) | (v > hi)))
+        if bad.size:
+            i = int(bad[0])
+            raise UnusualValueError(f"{field} ({names[i]})", f"{float(v[i]):.4g} {unit}",
+                                    f"[{lo:g}, {hi:g}] {unit}",
+                                    detail="an unusual value, often a unit mistake; "
+                                           "--allow-unusual lets it through")
 
 
 def _readonly(a):

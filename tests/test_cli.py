@@ -283,3 +283,22 @@ def test_presets_show_writes_every_kind_of_starting_point(capsys, tmp_path):
     assert load_mapping(str(tmp_path / "example-renamed.toml"))
     rc, _, err = run_cli(capsys, "presets", "--out", str(tmp_path / "x.toml"))
     assert rc == 2 and "--show" in err
+
+
+@pytest.mark.parametrize("old,new,field", [
+    ('radius = "1.12 jupiterRad"', 'radius = "4.5 jupiterRad"', "planet.radius"),
+    ('mass = "1.45 jupiterMass"', 'mass = "20 jupiterMass"', "planet.mass"),
+    ("mass = 1.18                           # solar masses", "mass = 0.05", "star.mass"),
+    ('radius = "1.12 jupiterRad"', 'radius = "0.5 earthRad"', "planet.surface_gravity"),
+])
+def test_unusual_values_need_allow_unusual(capsys, tmp_path, old, new, field):
+    # a value outside the usual range of a planet or host (most often a unit mistake) is
+    # refused with one line naming it; --allow-unusual lets an expert through
+    text = data_path("demo", "alder.toml").read_text()
+    assert old in text
+    f = tmp_path / "unusual.toml"
+    f.write_text(text.replace(old, new, 1))
+    rc, _, err = run_cli(capsys, "describe", str(f))
+    assert rc == 2 and field in err and "--allow-unusual" in err and len(err.strip().splitlines()) == 1
+    rc, out, _ = run_cli(capsys, "--allow-unusual", "describe", str(f))
+    assert rc == 0 and "Alder b" in out

@@ -305,10 +305,13 @@ def _system_from_doc(doc, source):
         except InputError as exc:
             raise type(exc)(f"{exc.field} ({name})", exc.value, exc.allowed, exc.detail) from None
     planet = _stack_planets(singles)
-    return System(star, planet, mean_molecular_weight=np.array(mus),
-                  atmosphere_temperature=np.array(temps),
-                  atmosphere_temperature_factor=np.array(factors),
-                  atmospheres=atms, observations=obs, warn_kepler=True)
+    system = System(star, planet, mean_molecular_weight=np.array(mus),
+                    atmosphere_temperature=np.array(temps),
+                    atmosphere_temperature_factor=np.array(factors),
+                    atmospheres=atms, observations=obs, warn_kepler=True)
+    from ..system import check_plausible
+    check_plausible(system)            # unusual values (often a unit mistake) refused
+    return system
 
 
 def _stack_planets(singles):
