@@ -462,3 +462,39 @@ def test_bad_source_arguments(tmp_path):
         src.species_k_coefficients("H2O", [1.9e-6, 2.0e-6], np.nan)
     with pytest.raises(InputError, match="n_g"):
         src.species_k_coefficients("H2O", [1.9e-6, 2.0e-6], 300.0, n_g=0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(rows=st.integers(1, 40), cols=st.integers(2, 4), header=st.booleans(),
+       commas=st.booleans(), comments=st.booleans(), seed=st.integers(0, 2**31 - 1))
+def test_fast_text_reader_equals_the_line_reader(tmp_path_factory, rows, cols, header, commas,
+                                                  comments, seed):
+    # np.loadtxt (the fast path for large files) and the line-by-line reader read the
+    # same numbers, names and units from every well-formed text file
+    from snrkit.atmosphere import user_opacity as uo
+    rng = np.random.default_rng(seed)
+    data = rng.uniform(-1e3, 1e3, (rows, cols)) * 10.0 ** rng.integers(-30, 5, (rows, cols))
+    sep = ", " if commas else "  "
+    lines = []
+    if comments:
+        lines.append("# a comment line")
+    if header:
+        lines.append(sep.join(["wavelength [um]", "sigma [cm2/molecule]", "t [K]", "p [bar]"][:cols]))
+    for r in data:
+        lines.append(sep.join(repr(float(x)) for x in r) + ("  # note" if comments else ""))
+    path = tmp_path_factory.mktemp("xs") / "table.txt"
+    path.write_text("\n".join(lines) + "\n")
+    fast = uo._read_text_fast(path.read_text())
+    slow = uo._read_text_lines(path.read_text().splitlines(), path, "f")
+    assert fast is not None
+    assert fast[0] == slow[0] and fast[1] == slow[1]
+    for a, b in zip(fast[2], slow[2]):
+        np.testing.assert_array_equal(a, b)
+
+
+def test_malformed_text_still_names_its_line(tmp_path):
+    from snrkit.atmosphere import user_opacity as uo
+    path = tmp_path / "bad.txt"
+    path.write_text("1.0 2.0\n3.0 x\n")
+    with pytest.raises(InputError, match="line 2"):
+        uo._read_text(path, "f")

@@ -109,8 +109,52 @@ _PER_MOLECULE = re.compile(r"\s*(/\s*molec(ule)?s?|molec(ule)?s?\s*(\^|\*\*)?\s*
 # --------------------------------------------------------------------------
 
 def _read_text(path, field):
-    """Plain text: returns (names, units, 2-D float array, first data line numbers)."""
-    lines = path.read_text().splitlines()
+    """Plain text: returns (names, units, list of float columns).
+
+    Large files go through numpy's compiled reader (``np.loadtxt``); a file
+    it refuses is read again line by line, which names the offending line.
+    """
+    text = path.read_text()
+    fast = _read_text_fast(text)
+    if fast is not None:
+        return fast
+    return _read_text_lines(text.splitlines(), path, field)
+
+
+def _read_text_fast(text):
+    """``np.loadtxt`` after the optional header line; None when anything is unusual."""
+    import io
+    header, skip = None, 0
+    for n, ln in enumerate(text.splitlines()):
+        s = ln.split("#", 1)[0].strip()
+        if not s:
+            continue
+        try:
+            [float(x) for x in s.replace(",", " ").split()]
+        except ValueError:
+            header, skip = _HEADER_TOKEN.findall(s), n + 1
+        break
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")          # e.g. "input contained no data"
+            data = np.loadtxt(io.StringIO(text.replace(",", " ")), comments="#", skiprows=skip,
+                              dtype=np.float64, ndmin=2)
+    except (ValueError, UserWarning):
+        return None
+    width = data.shape[1]
+    if data.shape[0] == 0 or (header is not None and len(header) != width):
+        return None
+    if header is not None:
+        names = [h[0] for h in header]
+        units = [h[1].strip() or None for h in header]
+    else:
+        names = [f"col{i + 1}" for i in range(width)]
+        units = [None] * width
+    return names, units, [np.ascontiguousarray(data[:, i]) for i in range(width)]
+
+
+def _read_text_lines(lines, path, field):
+    """The line-by-line reader (exact messages for malformed files)."""
     rows, numbers, header = [], [], None
     for n, ln in enumerate(lines, start=1):
         s = ln.split("#", 1)[0].strip()
