@@ -302,3 +302,26 @@ def test_unusual_values_need_allow_unusual(capsys, tmp_path, old, new, field):
     assert rc == 2 and field in err and "--allow-unusual" in err and len(err.strip().splitlines()) == 1
     rc, out, _ = run_cli(capsys, "--allow-unusual", "describe", str(f))
     assert rc == 0 and "Alder b" in out
+
+
+def test_tables_write_to_fits_and_read_back_without_warnings(capsys, tmp_path):
+    # rank and calendar tables as FITS: units FITS does not name (earthRad) move to the
+    # description, the settings to one JSON header value; read back with warnings as errors
+    import warnings
+    from astropy.table import Table
+    cat = str(data_path("demo", "catalogue.ecsv"))
+    rank_fits, cal_fits = tmp_path / "rank.fits", tmp_path / "windows.fits"
+    rc, _, _ = run_cli(capsys, "rank", cat, "--mode", "cold6m-prism-lowres", "--scenario",
+                       "h2-clear-solar", "--resolution", "20", "--out", str(rank_fits), "--json")
+    assert rc == 0
+    rc, _, _ = run_cli(capsys, "calendar", CEDAR, "--from", "2027-01-01", "--to", "2027-02-01",
+                       "--out", str(cal_fits))
+    assert rc == 0
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        ranked = Table.read(rank_fits)
+        windows = Table.read(cal_fits)
+    assert len(ranked) == 269 and "[earthRad]" in ranked["radius_earth"].description
+    assert str(ranked["hours_total"].unit) == "h"
+    assert json.loads(ranked.meta["SNRKIT"])["test"] == "atmosphere"
+    assert len(windows) > 0 and "mid_utc" in windows.colnames

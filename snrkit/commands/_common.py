@@ -7,7 +7,7 @@ import sys
 import numpy as np
 
 __all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path", "one_mode",
-           "check_writable", "write_table"]
+           "check_writable", "write_table", "TABLE_FORMATS"]
 
 
 def add_system_args(p):
@@ -112,14 +112,34 @@ def check_writable(path, option):
     return p
 
 
+#: Table formats of ``--out`` by file suffix.
+TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits"}
+
+
 def write_table(table, path):
-    """Write an astropy Table as .ecsv (with metadata) or .csv, atomically."""
+    """Write an astropy Table as .ecsv (with metadata), .csv or .fits, atomically.
+
+    FITS: units that the FITS standard does not name (``earthRad``, ``earthMass``)
+    go into the column description and the table's settings into one JSON
+    header value (``SNRKIT``), so the file reads back without warnings.
+    """
+    import json
     from pathlib import Path
     from ..io.atomic import atomic_path
-    fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}[Path(path).suffix.lower()]
+    fmt = TABLE_FORMATS[Path(path).suffix.lower()]
     out = table.copy()
     if fmt == "ascii.csv":
         out.meta = {}
+    if fmt == "fits":
+        for name in out.colnames:
+            col = out[name]
+            if col.unit is not None:
+                try:
+                    col.unit.to_string("fits")
+                except ValueError:
+                    col.description = f"{col.description or name} [{col.unit.to_string()}]"
+                    col.unit = None
+        out.meta = {"SNRKIT": json.dumps(jsonable(dict(table.meta)), separators=(",", ":"))}
     with atomic_path(path) as tmp:
         out.write(tmp, format=fmt, overwrite=True)
 

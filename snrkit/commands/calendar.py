@@ -1,6 +1,6 @@
 """``snrkit calendar SYSTEM.toml --from DATE --to DATE``: transit windows and observability."""
 
-from ._common import add_system_args, print_json
+from ._common import add_system_args, print_json, write_table, TABLE_FORMATS
 
 __all__ = ["add_parser", "run", "format_windows", "windows_json"]
 
@@ -30,7 +30,7 @@ def add_parser(p):
                    help="pad each side of a window by K times the timing uncertainty (default 3)")
     p.add_argument("--observable-only", action="store_true",
                    help="keep only the windows that can be observed")
-    p.add_argument("--out", metavar="FILE", help="write the windows to FILE (.csv or .ecsv)")
+    p.add_argument("--out", metavar="FILE", help="write the windows to FILE (.csv, .ecsv or .fits)")
     p.add_argument("--plot", metavar="FILE", help="draw a timeline of the windows (.png, .pdf, .svg)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of a table")
 
@@ -88,18 +88,12 @@ def format_windows(table):
 def _write_table(table, path):
     from pathlib import Path
     from ..errors import InputError
-    from ..io.atomic import atomic_path
     path = Path(path)
-    fmt = {".csv": "ascii.csv", ".ecsv": "ascii.ecsv"}.get(path.suffix.lower())
-    if fmt is None:
-        raise InputError("--out", str(path), "a .csv or .ecsv file name")
+    if path.suffix.lower() not in TABLE_FORMATS:
+        raise InputError("--out", str(path), "a .csv, .ecsv or .fits file name")
     if not path.parent.is_dir():
         raise InputError("--out", str(path), "a file in an existing folder")
-    out = table.copy(copy_data=False)
-    if fmt == "ascii.csv":
-        out.meta.clear()
-    with atomic_path(path) as tmp:
-        out.write(tmp, format=fmt, overwrite=True)
+    write_table(table, path)
 
 
 def run(args):
@@ -109,8 +103,8 @@ def run(args):
     from pathlib import Path
     if args.plot and Path(args.plot).suffix.lower() not in (".png", ".pdf", ".svg"):
         raise InputError("--plot", args.plot, "a .png, .pdf or .svg file name")
-    if args.out and Path(args.out).suffix.lower() not in (".csv", ".ecsv"):
-        raise InputError("--out", args.out, "a .csv or .ecsv file name")
+    if args.out and Path(args.out).suffix.lower() not in TABLE_FORMATS:
+        raise InputError("--out", args.out, "a .csv, .ecsv or .fits file name")
     observatory = parse_observatory(args.observatory, elongation=args.elongation,
                                     min_altitude=args.min_altitude,
                                     sun_altitude=args.sun_altitude,

@@ -26,7 +26,7 @@ def add_parser(p):
     p.add_argument("--observatory", default="space", metavar="WHERE",
                    help="space (default), site:LON,LAT[,ELEV_M] or none")
     p.add_argument("--overhead", type=float, metavar="HOURS", help="per-visit overhead (default 1 h)")
-    p.add_argument("--out", metavar="FILE", help="write the chosen windows (.csv or .ecsv)")
+    p.add_argument("--out", metavar="FILE", help="write the chosen windows (.csv, .ecsv or .fits)")
     p.add_argument("--plot", metavar="FILE.png", help="timeline of the chosen windows")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -37,7 +37,7 @@ def run(args):
     from ..io.systemfile import load_system
     from ..plan import programme_plan
     if args.out:
-        check_output_path(args.out, (".ecsv", ".csv"), "--out")
+        check_output_path(args.out, (".ecsv", ".csv", ".fits"), "--out")
     if args.plot:
         check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     results, tables = [], []

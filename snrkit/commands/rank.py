@@ -47,7 +47,7 @@ def add_parser(p):
     p.add_argument("--band", default="J", help="band of the magnitude limits (default J)")
     p.add_argument("--brighter-than", type=float, metavar="MAG", help="keep stars brighter than this")
     p.add_argument("--fainter-than", type=float, metavar="MAG", help="keep stars fainter than this")
-    p.add_argument("--out", metavar="FILE", help="write every row to FILE (.ecsv or .csv)")
+    p.add_argument("--out", metavar="FILE", help="write every row to FILE (.ecsv, .csv or .fits)")
     p.add_argument("--plot", metavar="FILE.png", help="hours to the target against TSM")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -93,7 +93,7 @@ def run(args):
     if args.top is not None and args.top < 1:
         raise InputError("--top", args.top, "an integer >= 1")
     if args.out:
-        check_output_path(args.out, (".ecsv", ".csv"), "--out")
+        check_output_path(args.out, (".ecsv", ".csv", ".fits"), "--out")
     if args.plot:
         check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     cat = read_catalogue(args.catalogue, mapping=args.mapping)
