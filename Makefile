@@ -7,7 +7,7 @@ VPY    := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-test
 DSTAMP := $(VENV)/.installed
 
-.PHONY: demo test bench clean venv
+.PHONY: demo test test-oldest bench clean venv
 
 $(VPY):
 	$(PYTHON) -m venv $(VENV)
@@ -30,6 +30,16 @@ test: $(STAMP)
 	$(VENV)/bin/ruff check snrkit tests benchmarks data_tables/scripts
 	$(VPY) -m pytest
 
+# The suite at the dependency floors of pyproject.toml, in its own venv
+# (.venv-oldest): each floor pinned to its oldest release series.
+OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.*
+test-oldest:
+	$(PYTHON) -m venv .venv-oldest
+	.venv-oldest/bin/python -m pip install --quiet --upgrade pip
+	.venv-oldest/bin/python -m pip install --quiet $(OLDEST) "pytest>=7.4" "hypothesis>=6.80" "hatchling>=1.27" "ruff>=0.5"
+	.venv-oldest/bin/python -m pip install --quiet --no-deps -e .
+	.venv-oldest/bin/python -m pytest
+
 bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_derived.py
 	$(VPY) benchmarks/bench_spectrum.py
@@ -39,4 +49,4 @@ bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_startup.py
 
 clean:
-	rm -rf $(VENV) build dist .pytest_cache snrkit_demo_output
+	rm -rf $(VENV) .venv-oldest build dist .pytest_cache snrkit_demo_output

@@ -402,6 +402,10 @@ def offline_time():
     with contextlib.ExitStack() as stack:
         stack.enter_context(iers.conf.set_temp("auto_download", False))
         stack.enter_context(iers.conf.set_temp("auto_max_age", None))
+        if hasattr(iers.conf, "iers_degraded_accuracy"):
+            # beyond the bundled IERS table: some astropy versions raise instead of
+            # assuming UT1-UTC = 0 and mean polar motion; ask for the same assumption
+            stack.enter_context(iers.conf.set_temp("iers_degraded_accuracy", "warn"))
         stack.enter_context(solar_system_ephemeris.set("builtin"))
         stack.enter_context(warnings.catch_warnings())
         # beyond the leap-second table's expiry: UTC assumes no new leap second
@@ -411,6 +415,8 @@ def offline_time():
                                 category=AstropyWarning)
         # beyond the IERS table: UT1-UTC = 0 (< 0.9 s)
         warnings.filterwarnings("ignore", message=r".*Assuming UT1-UTC=0",
+                                category=AstropyWarning)
+        warnings.filterwarnings("ignore", message=r".*outside of range covered by IERS table",
                                 category=AstropyWarning)
         yield
 
