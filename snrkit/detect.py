@@ -770,7 +770,8 @@ class _Stack:
 
         def rows(a, extra=()):
             return None if a is None else np.broadcast_to(
-                np.asarray(a, dtype=np.float64), self.d.shape + extra).reshape((-1, n_wl) + extra)
+                np.asarray(a, dtype=np.float64), self.d.shape + extra).reshape(
+                    (self.size, n_wl) + extra)
         kw = dict(self.kw)
         for name in ("alt", "shape"):
             kw[name] = rows(kw[name])
@@ -794,7 +795,7 @@ class _Stack:
         self.evaluations += idx.size
         k = sum(np.shape(self.kw[name])[-1] for name in ("null_templates", "alt_templates")
                 if self.kw[name] is not None)
-        rows = max(1, _CHUNK_VALUES // (self.d.shape[-1] * (1 + k)))
+        rows = max(1, _CHUNK_VALUES // (max(self.d.shape[-1], 1) * (1 + k)))
         if idx.size <= rows:
             return self._at(idx, n)
         return np.concatenate([self._at(idx[i:i + rows], n[i:i + rows])

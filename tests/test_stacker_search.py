@@ -205,3 +205,15 @@ def test_answer_does_not_depend_on_the_chunk_size(monkeypatch):
     for p in (0.5, 0.9):
         np.testing.assert_array_equal(rows["transits_for_probability"][p],
                                       whole["transits_for_probability"][p])
+
+
+def test_empty_batches_and_grids():
+    # No elements, or no bins (nothing to detect: "no signal"), go through the chunked
+    # evaluation without error.
+    r = dt.stack_transits(np.ones((0, 5)), np.zeros((0, 5)), np.ones((0, 5)), floor=1.0,
+                          n_curve=[1, 2])
+    assert r["transits_needed"].shape == (0,)
+    r = dt.stack_transits(np.ones((3, 0)), np.zeros((3, 0)), np.ones((3, 0)), floor=1.0,
+                          n_curve=[1, 2])
+    np.testing.assert_array_equal(r["transits_needed"], [0, 0, 0])
+    assert list(r["limiting_term"]) == ["no signal"] * 3
