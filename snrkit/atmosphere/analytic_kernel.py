@@ -36,12 +36,14 @@ from functools import lru_cache
 import numpy as np
 
 from ..constants import K_B, M_U
+# the reference solver's constants and floor function (spectrum imports this module
+# only inside functions, so there is no import cycle)
+from .spectrum import EULER_GAMMA, _TAU_THIN, _f_plane
 
 __all__ = ["root_radius", "lattice_opacity", "lattice_bracket", "LATTICE_NODES_PER_OCTAVE",
            "CHUNK_ELEMENTS", "clear_lattice_cache", "lattice_temperatures", "worker_threads",
            "LATTICE_SUBDIVISIONS"]
 
-EULER_GAMMA = 0.5772156649015329
 #: Lattice steps (equal in 1/T) between two temperatures of the opacity tables.
 LATTICE_SUBDIVISIONS = 8
 #: Lattice nodes per doubling of T outside the tables' temperature range.
@@ -55,7 +57,7 @@ LATTICE_CACHE_BYTES = 256 * 2**20
 _LN_ABSENT = -1e4
 #: Below this chord optical depth at the floor the radius comes from the floor
 #: (see snrkit.atmosphere.spectrum._TAU_THIN).
-_LN_TAU_THIN = math.log(0.05)
+_LN_TAU_THIN = math.log(_TAU_THIN)
 #: Newton steps at most; convergence is |dr| < 1e-7 H.
 _MAX_STEPS = 40
 _SLOPE_RANGE = (-0.9, 2.0)
@@ -393,15 +395,6 @@ def _corrections(ur, el, ln_tf, x0, dx, n_p):
     if np.any(near):
         corr[near] += h_a[near] * exp1(np.exp(ln_tf[near]))
     return corr
-
-
-def _f_plane(tau):
-    """Int_0^inf (1 - exp(-tau e^-x)) dx = E1(tau) + gamma + ln(tau)."""
-    from scipy.special import exp1
-    t = np.where(tau > 0, tau, 1.0)
-    small = t < 1e-6
-    val = np.where(small, t - 0.25 * t * t, exp1(t) + EULER_GAMMA + np.log(t))
-    return np.where(tau > 0, val, 0.0)
 
 
 def _thin_radius(el, it, ln_tf, dfu):
