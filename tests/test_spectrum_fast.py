@@ -216,3 +216,15 @@ def test_no_raw_slope_outside_the_nodes():
     h = 1.380649e-23 * t / (mu * 1.66054e-27 * g0)
     assert not s_wing.any()
     assert np.max(np.abs(r_wing - r_absent) / h[:, None, None]) < 1e-3
+
+
+def test_floor_above_the_bound_atmosphere_is_noted():
+    # a floor where r/H(r) < 3: the isothermal atmosphere is unbound there, and the
+    # analytic radii are not meaningful -- said, as the layered solver says it
+    from snrkit.errors import SnrkitWarning
+    sc, src, edges, nodes, t, op, r0, g0 = _kernel_setup("h2-clear-solar", 2, 3)
+    mu = np.full(2, 2.3)
+    weak = g0 * np.array([1.0, 1e-3])              # the second planet barely holds its gas
+    args = (np.full(2, 3000.0), mu, r0, np.full(2, 1e5), weak, np.full(2, 1e2), np.full(2, 1e-6))
+    with pytest.warns(SnrkitWarning, match="1 planet"):
+        ak.root_radius(op["lnk"], np.log(nodes), op["ln_continuum"], op["ln_cia"], *args)

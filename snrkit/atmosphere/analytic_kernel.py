@@ -538,6 +538,13 @@ def root_radius(lnk, x_nodes, ln_continuum, ln_cia, temperature_K, mu_g_mol,
     pl = _Planets(*(np.broadcast_to(np.asarray(v, dtype=np.float64), (npl,)) for v in (
         temperature_K, mu_g_mol, reference_radius_m, reference_pressure_Pa,
         reference_gravity_m_s2, floor_pressure_Pa, top_pressure_Pa)))
+    unbound = ~(pl.uf * pl.B >= 3.0)
+    if np.any(unbound):
+        import warnings
+        from ..errors import SnrkitWarning
+        warnings.warn(f"{int(unbound.sum())} planet(s): the isothermal atmosphere is unbound "
+                      "already at its opaque floor (r/H < 3 there); their analytic spectra are "
+                      "not meaningful", SnrkitWarning, stacklevel=3)
     # element order (planet, bin, g); line nodes contiguous per element
     lnk_n = np.ascontiguousarray(np.moveaxis(lnk, 1, -1))
     lnk_e = lnk_n.reshape(-1)
