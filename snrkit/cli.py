@@ -144,9 +144,12 @@ def main(argv=None):
         return 2
     from .errors import SnrkitError, InputError, SnrkitWarning
     import numpy as np
-    from .system import allow_unusual
-    with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise(), \
-            allow_unusual(getattr(args, "allow_unusual", False)):
+    import contextlib
+    unusual = contextlib.nullcontext()
+    if getattr(args, "allow_unusual", False):       # system.py only when asked for
+        from .system import allow_unusual
+        unusual = allow_unusual()
+    with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise(), unusual:
         # snrkit's own warnings are messages for the user: always print them
         # on stderr, whatever filters the host process has set.  Floating-point
         # events and library warnings are not messages for the user: every
