@@ -137,8 +137,7 @@ def _f_plane(tau):
 
 def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K, mu_g_mol,
                     reference_radius_m, reference_pressure_Pa, reference_gravity_m_s2,
-                    floor_pressure_Pa, top_pressure_Pa, max_iter=60, line_slope=None,
-                    line_pressure_Pa=None, radius_start_m=None):
+                    floor_pressure_Pa, top_pressure_Pa, max_iter=60):
     """Effective radius of an isothermal, well-mixed atmosphere (analytic solver).
 
     See the module docstring for the method (Heng & Kitzmann 2017 applied at
@@ -164,17 +163,6 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
         Top of the model atmosphere; the radius is capped there.
     max_iter : int
         Newton iterations at most (convergence is typically 3-6).
-    line_slope, line_pressure_Pa : numpy.ndarray, shape (n_planet, n_wave, n_g), optional
-        Pressure dependence of the line cross-section: ``line_sigma`` holds
-        its value at ``line_pressure_Pa`` and it varies locally as
-        ``(P / line_pressure_Pa)**line_slope`` (pressure broadening), so the
-        line extinction scales as n**(1 + slope) with scale height
-        H / (1 + slope) -- the chord formula then carries that exponent, as
-        it does 2 for collision-induced absorption.  Default: no pressure
-        dependence.
-    radius_start_m : numpy.ndarray, shape (n_planet, n_wave, n_g), optional
-        Starting radii of the Newton iteration (e.g. the previous pass's
-        roots); default the floor.
 
     Returns
     -------
@@ -215,16 +203,10 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
     half_lnb = 0.5 * np.log(bb)
     # Three absorbers, each with extinction ~ n**e: lines (e = 1 + slope), the smooth
     # continuum (e = 1) and CIA (e = 2).  Chord depth of each: sigma n sqrt(2 pi r H / e).
-    if line_slope is None:
-        e_line = np.ones(ls.size)
-        ln_line = _log_or_minf(ls).ravel()
-    else:
-        slope = np.clip(np.asarray(line_slope, dtype=np.float64), -0.9, 2.0)
-        e_line = 1.0 + np.broadcast_to(slope, shape).ravel()
-        # sigma(n) n = sigma_ref n_ref^-slope n^(1 + slope), n_ref = P_ref / k T
-        ln_nref = np.log(np.broadcast_to(np.asarray(line_pressure_Pa, dtype=np.float64), shape)
-                         / (K_B * T[:, None, None])).ravel()
-        ln_line = _log_or_minf(ls).ravel() - (e_line - 1.0) * ln_nref
+    # (the production kernel, snrkit.atmosphere.analytic_kernel, gives the lines a
+    # pressure-dependent exponent; here they have e = 1)
+    e_line = np.ones(ls.size)
+    ln_line = _log_or_minf(ls).ravel()
     base = 0.5 * math.log(2.0 * np.pi) - half_lnb
     c1 = ln_line + e_line * lnn0[ip] + base - 0.5 * np.log(e_line)
     c2 = np.broadcast_to(_log_or_minf(cs)[:, :, None], shape).ravel() + lnn0[ip] + base
@@ -277,10 +259,6 @@ def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K,
     u_root = np.ones(ls.size)
     d_root = np.ones(ls.size)
     u = uf[sel].copy()
-    if radius_start_m is not None:
-        # a nearby start: Newton on the convex ln tau(u) overshoots at most once
-        us = 1.0 / np.asarray(radius_start_m, dtype=np.float64).ravel()[sel]
-        u = np.where(np.isfinite(us), np.clip(us, ut[sel], uf[sel]), u)
     d = np.ones(sel.size)
     for _ in range(int(max_iter)):
         if sel.size == 0:
@@ -597,9 +575,10 @@ def _analytic_for(mixing_ratios, tag, *, source, sc, edges, t_iso, n_g, exclude,
 
     The opacity comes from the process-wide temperature lattice
     (:mod:`snrkit.atmosphere.analytic_kernel`), so it does not depend on which
-    planets are solved together.  ``memo`` carries the roots of the previous
-    solve of the same planets (the calibration's first solve), shifted to the
-    new reference radius, as starting points.
+    planets are solved together.  ``memo`` keeps the state of the previous
+    solve of the same planets (the calibration's first solve): the second
+    solve of the same composition is its exact translation, and a solve with
+    one species left out starts from its roots.
     """
     from .analytic_kernel import lattice_opacity, root_radius
     grid_p = _line_shape_pressures(source) if pressure_broadening else None
