@@ -14,7 +14,7 @@ import warnings
 
 import numpy as np
 
-from snrkit.system import Star, Planet, System
+from snrkit.bodies.system import Star, Planet, System
 
 
 def make_catalogue(n, seed=1):

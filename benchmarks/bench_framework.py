@@ -19,8 +19,8 @@ import argparse
 import time
 import warnings
 
-from snrkit.catalog import catalogue_from_table
-from snrkit.rank import rank_catalogue
+from snrkit.planning.catalog import catalogue_from_table
+from snrkit.planning.rank import rank_catalogue
 
 from bench_rank import synthetic, SCENARIOS
 

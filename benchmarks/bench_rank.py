@@ -2,7 +2,7 @@
 
 Builds an invented catalogue (default 10^5 planets; F to M hosts, 0.7-14
 R_earth, hosts from J = 8.5, partly saturating the prism, to 14) and ranks it
-for 4 scenarios through the engine (:func:`snrkit.rank.rank_catalogue`) at
+for 4 scenarios through the engine (:func:`snrkit.planning.rank.rank_catalogue`) at
 R = 30 and R = 100 with 8 g-points.  Prints, on separate lines, all measured
 in this one process:
 
@@ -11,7 +11,7 @@ in this one process:
   (planets x scenarios x bins x g-points);
 * the engine's time at each resolving power, as a multiple of that floor;
 * the per-planet path, like for like (the same outputs: one planet at a
-  time through :func:`snrkit.transits.transits_for_system` with no curves
+  time through :func:`snrkit.engine.transits.transits_for_system` with no curves
   and no probabilities, which is what a rank row holds) on a sample, and the
   ratio of planets per second;
 * the peak resident memory of the process.
@@ -27,9 +27,9 @@ import warnings
 import numpy as np
 from astropy.table import Table
 
-from snrkit.catalog import catalogue_from_table
-from snrkit.rank import rank_catalogue
-from snrkit.transits import transits_for_system
+from snrkit.planning.catalog import catalogue_from_table
+from snrkit.planning.rank import rank_catalogue
+from snrkit.engine.transits import transits_for_system
 
 SCENARIOS = ("h2-clear-solar", "h2-metal-rich", "steam", "co2-thick")
 N_G = 8
@@ -68,7 +68,7 @@ def streaming_ns_per_element(n=20_000_000, repeats=5):
 
 
 def n_bins(mode, resolution):
-    from snrkit.transits import observe
+    from snrkit.engine.transits import observe
     one = catalogue_from_table(synthetic(1, seed=9), source="synthetic")
     return int(observe(one.system, mode, resolution)["wl"].size)
 

@@ -2,7 +2,7 @@
 
 Builds invented spectra (a Gaussian band of random amplitude per planet and
 scenario on 100 bins) and per-transit noise, then times
-:func:`snrkit.detect.stack_transits` on the whole (planet, scenario) array,
+:func:`snrkit.stats.detect.stack_transits` on the whole (planet, scenario) array,
 once with white noise only and once with a 20 ppm floor that does not
 average down; it also times a per-row loop on a sample and prints the ratio,
 all measured in this one run.  For the floor case it then compares the
@@ -21,8 +21,8 @@ from pathlib import Path
 
 import numpy as np
 
-from snrkit import detect as dt
-from snrkit.detect import stack_transits
+from snrkit.stats import detect as dt
+from snrkit.stats.detect import stack_transits
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 from stacker_reference import bisection_transits_needed, lambda_of_n  # noqa: E402

@@ -12,9 +12,9 @@ __all__ = ["__version__", "Star", "Planet", "System", "load_system",
            "mean_molecular_weight"]
 
 _LAZY = {
-    "Star": "snrkit.system",
-    "Planet": "snrkit.system",
-    "System": "snrkit.system",
+    "Star": "snrkit.bodies.system",
+    "Planet": "snrkit.bodies.system",
+    "System": "snrkit.bodies.system",
     "load_system": "snrkit.io.systemfile",
     "mean_molecular_weight": "snrkit.atmosphere.composition",
 }

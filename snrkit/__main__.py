@@ -2,7 +2,7 @@
 
 import sys
 
-from .cli import main
+from .cli.entry import main
 
 __all__ = []
 

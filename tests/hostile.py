@@ -24,7 +24,7 @@ from pathlib import Path
 
 import numpy as np
 
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 __all__ = ["HOSTILE_NUMBERS", "mutate_toml", "system_case", "scenario_case", "mode_case",
            "catalogue_case", "option_case", "check_system", "check_scenario", "check_mode",
@@ -188,7 +188,7 @@ def catalogue_case(rng, folder, n_rows=6):
             out[c] = np.array(vals, dtype=np.float64)
     mapping = None
     if rng.random() < 0.5:                     # renamed columns, a decoy name column
-        from snrkit.catalog import DEFAULT_COLUMNS
+        from snrkit.planning.catalog import DEFAULT_COLUMNS
         parts = {"planet": [], "star": [], "mags": []}
         for k, c in DEFAULT_COLUMNS.items():
             if c not in out.colnames:
@@ -241,8 +241,8 @@ def option_case(rng, folder):
 # ----------------------------------------------------------------------------- checks
 
 def run_cli(argv, cwd=None):
-    """Run ``snrkit.cli.main(argv)`` in process; return (status, stdout, stderr)."""
-    from snrkit.cli import main
+    """Run ``snrkit.cli.entry.main(argv)`` in process; return (status, stdout, stderr)."""
+    from snrkit.cli.entry import main
     out, err = io.StringIO(), io.StringIO()
     old = os.getcwd()
     try:
@@ -343,7 +343,7 @@ def check_mode(path):
 
 def check_catalogue(path, mapping, names, rank=False, folder=None):
     """Screen (and maybe rank) a hostile catalogue: every row once, with its own name."""
-    from snrkit.catalog import read_catalogue
+    from snrkit.planning.catalog import read_catalogue
     probs = []
     holder = {}
     probs += _api(lambda: holder.setdefault("cat", read_catalogue(path, mapping=mapping)))

@@ -1,11 +1,11 @@
 """Slow reference for the stacker's transits needed: the bisection it replaced.
 
 Kept out of the package on purpose.  ``tests/test_stacker_search.py`` checks
-that :func:`snrkit.detect.stack_transits` gives the same integers, and
+that :func:`snrkit.stats.detect.stack_transits` gives the same integers, and
 ``benchmarks/bench_stacker.py`` times it against the secant search.
 
-The reference evaluates lambda(N) = :func:`snrkit.detect.nested_delta_chi2`
-with the per-bin noise of :func:`snrkit.detect.noise_per_bin` on the whole
+The reference evaluates lambda(N) = :func:`snrkit.stats.detect.nested_delta_chi2`
+with the per-bin noise of :func:`snrkit.stats.detect.noise_per_bin` on the whole
 batch at every step, and finds the smallest N in [1, n_max] with
 lambda(N) >= target by bisection over the integers (about log2(n_max) + 1
 evaluations per element); where lambda(N) = N lambda(1) it uses the closed
@@ -14,7 +14,7 @@ form, as the stacker always has.
 
 import numpy as np
 
-from snrkit import detect as dt
+from snrkit.stats import detect as dt
 
 __all__ = ["bisection_transits_needed", "lambda_of_n", "reference_transits_needed",
            "scipy_noncentrality"]

@@ -11,7 +11,7 @@ Integrals are compared as ratios: pytest.approx's default absolute tolerance
 import numpy as np
 import pytest
 
-from snrkit.tables import read_table
+from snrkit.io.tables import read_table
 from snrkit.atmosphere import opacity as op
 
 TABULATED = ("H2O", "CO2", "CO", "CH4")

@@ -14,13 +14,13 @@ import pytest
 import astropy.units as u
 from hypothesis import given, settings, strategies as st
 
-from snrkit import calendar as cal
-from snrkit.calendar import (GroundSite, SpaceObservatory, offline_time, transit_windows,
+from snrkit.planning import calendar as cal
+from snrkit.planning.calendar import (GroundSite, SpaceObservatory, offline_time, transit_windows,
                              predict_transits, bjd_to_utc, epoch_grid, timing_sigma)
 from snrkit.constants import DAY, AU, C_LIGHT
 from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system, read_system_text
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 ALDER = str(data_path("demo", "alder.toml"))
 BIRCH = str(data_path("demo", "birch.toml"))
@@ -123,7 +123,7 @@ def test_reference_time_after_range_gives_negative_epochs(alder):
 def test_range_without_transits(alder, capsys):
     # A range shorter than the period between two transits: an empty table, and
     # the JSON still lists the planet with no windows.
-    from snrkit.commands.calendar import windows_json
+    from snrkit.cli.calendar import windows_json
     tab = transit_windows(alder, "2026-01-01T00:00", "2026-01-01T06:00", observatory=SITE)
     assert len(tab) == 0 and "max_sun_altitude_deg" in tab.colnames
     assert windows_json(tab)["planets"] == [{"name": "Alder b", "windows": []}]
@@ -414,7 +414,7 @@ def test_bad_elongation():
 
 def _cli(capsys, *argv):
     """Run ``snrkit calendar ...`` through the real command line entry point."""
-    from snrkit.cli import main
+    from snrkit.cli.entry import main
     rc = main(["calendar", *argv])
     out, err = capsys.readouterr()
     return rc, out, err

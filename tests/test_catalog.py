@@ -1,4 +1,4 @@
-"""Catalogue import (snrkit.catalog): formats, mappings, row screening, and the
+"""Catalogue import (snrkit.planning.catalog): formats, mappings, row screening, and the
 vectorized path against the per-planet path."""
 
 import tomllib
@@ -11,11 +11,11 @@ import astropy.constants as const
 from astropy.table import Table, MaskedColumn
 from hypothesis import given, settings, strategies as st
 
-from snrkit.catalog import (read_catalogue, catalogue_from_table, load_mapping, DEFAULT_COLUMNS,
+from snrkit.planning.catalog import (read_catalogue, catalogue_from_table, load_mapping, DEFAULT_COLUMNS,
                             FIELDS, FLAG_COLUMNS, STATUS_CODES)
 from snrkit.errors import InputError, UnitMismatchError, UnknownKeyError, GrazingTransitWarning
-from snrkit.system import Star, Planet, System
-from snrkit.tables import data_path
+from snrkit.bodies.system import Star, Planet, System
+from snrkit.io.tables import data_path
 
 DEMO = data_path("demo", "catalogue.ecsv")
 EXAMPLE_MAPPING = data_path("catalogue_mappings", "example-renamed.toml")
@@ -502,7 +502,7 @@ def test_kepler_mismatch_is_flagged_per_row():
     # A given semi-major axis 3x Kepler's value for its period is flagged, not rejected
     # (Kepler's third law with astropy constants; 10% tolerance: common practice, no source).
     from astropy.table import Table
-    from snrkit.catalog import catalogue_from_table
+    from snrkit.planning.catalog import catalogue_from_table
     t = Table({"planet_name": ["a", "b"], "planet_radius_earth": [2.0, 2.0],
                "period_days": [10.0, 10.0], "semi_major_axis_au": [np.nan, 0.25],
                "impact_parameter": [0.1, 0.1], "host_teff_K": [4500.0, 4500.0],
@@ -513,10 +513,10 @@ def test_kepler_mismatch_is_flagged_per_row():
 
 
 def test_geometry_the_system_model_rejects_is_screened_per_row():
-    # Rows that snrkit.system.System would refuse (periastron inside the star; a planet
+    # Rows that snrkit.bodies.system.System would refuse (periastron inside the star; a planet
     # larger than its star) get a status here, without the slow one-by-one path.
     from astropy.table import Table
-    from snrkit.catalog import catalogue_from_table
+    from snrkit.planning.catalog import catalogue_from_table
     t = Table({"planet_name": ["ok", "ecc", "big"], "planet_radius_earth": [2.0, 2.0, 2.0],
                "planet_mass_earth": [5.0, 5.0, 5.0], "period_days": [10.0, 1.0, 10.0],
                "eccentricity": [0.0, 0.9, 0.0], "impact_parameter": [0.1, 0.1, 0.1],

@@ -6,8 +6,8 @@ import sys
 
 import pytest
 
-from snrkit.cli import main
-from snrkit.tables import data_path
+from snrkit.cli.entry import main
+from snrkit.io.tables import data_path
 
 CEDAR = str(data_path("demo", "cedar.toml"))
 REQUIRED_KEYS = {"name", "surface_gravity_m_s2", "equilibrium_temperature_K", "scale_height_km",
@@ -143,7 +143,7 @@ def test_console_entry_point_subprocess():
 
 
 def test_help_does_not_import_heavy_modules():
-    code = ("import sys; from snrkit.cli import main; main(['--help']); "
+    code = ("import sys; from snrkit.cli.entry import main; main(['--help']); "
             "bad = [m for m in ('matplotlib', 'scipy', 'dask', 'astropy', 'numpy', 'xarray', "
             "'pandas', 'yaml') if m in sys.modules]; "
             "print('HEAVY', bad)")
@@ -152,9 +152,9 @@ def test_help_does_not_import_heavy_modules():
 
 
 def test_transits_reads_its_tables_without_astropy_table():
-    # the shipped tables on the start-up path go through snrkit.tables.read_columns
+    # the shipped tables on the start-up path go through snrkit.io.tables.read_columns
     alder = str(data_path("demo", "alder.toml"))
-    code = ("import sys, io, contextlib; from snrkit.cli import main\n"
+    code = ("import sys, io, contextlib; from snrkit.cli.entry import main\n"
             "with contextlib.redirect_stdout(io.StringIO()):\n"
             f"    rc = main(['transits', {alder!r}])\n"
             "bad = [m for m in ('astropy.table', 'astropy.io.ascii', 'matplotlib', 'scipy.stats') "
@@ -215,7 +215,7 @@ def test_calendar_observable_only_keeps_the_observable_windows(capsys):
 
 def test_plan_starts_today_by_default(capsys, monkeypatch):
     import datetime
-    from snrkit.commands import plan as plan_cmd
+    from snrkit.cli import plan as plan_cmd
     today = datetime.datetime.now(datetime.timezone.utc).date().isoformat()
     assert plan_cmd._today_utc() == today
     # the default start is that date: moved to 2031, the windows follow
@@ -228,7 +228,7 @@ def test_plan_starts_today_by_default(capsys, monkeypatch):
 
 
 def test_every_option_has_help_text():
-    from snrkit.cli import _build_parser, COMMANDS
+    from snrkit.cli.entry import _build_parser, COMMANDS
     missing = []
     for name in COMMANDS:
         parser = _build_parser(name)
@@ -274,7 +274,7 @@ def test_presets_show_writes_every_kind_of_starting_point(capsys, tmp_path):
     # a system file, a scenario, a mode and a catalogue mapping, each readable by the
     # reader of its kind after the header line
     from snrkit.io.tomlfile import read_toml
-    from snrkit.catalog import load_mapping
+    from snrkit.planning.catalog import load_mapping
     for name in ("cedar", "steam", "cold6m-prism-lowres", "example-renamed"):
         out = tmp_path / f"{name}.toml"
         rc, printed, _ = run_cli(capsys, "presets", "--show", name, "--out", str(out))

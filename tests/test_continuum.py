@@ -11,7 +11,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from snrkit.errors import InputError, UnknownKeyError
-from snrkit.tables import read_table
+from snrkit.io.tables import read_table
 from snrkit.atmosphere import continuum as co
 from snrkit.atmosphere.opacity import OpacityRangeWarning
 

@@ -5,7 +5,7 @@ import pytest
 from hypothesis import given, strategies as st
 from scipy import stats
 
-from snrkit import detect as dt
+from snrkit.stats import detect as dt
 from snrkit.errors import InputError
 
 WL = np.linspace(0.6, 5.0, 40)

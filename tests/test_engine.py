@@ -2,7 +2,7 @@
 
 Checks required by the one-engine issue: the catalogue path (the engine over
 chunks of planets, several modes and scenarios) and the per-planet path (one
-planet at a time through snrkit.transits) give identical statuses and
+planet at a time through snrkit.engine.transits) give identical statuses and
 transits needed for every row of an invented synthetic catalogue, whatever
 the chunk size; the statuses computed for all planets at once equal the
 per-planet wording of the same rules.  (Spectra to 1e-3 scale heights alone
@@ -15,11 +15,11 @@ import numpy as np
 import pytest
 from astropy.table import Table
 
-from snrkit.catalog import catalogue_from_table
-from snrkit.engine import evaluate, observe, scenario_context
-from snrkit.rank import rank_catalogue
-from snrkit.transit_records import statuses, status_and_reason
-from snrkit.transits import transits_for_system
+from snrkit.planning.catalog import catalogue_from_table
+from snrkit.engine.engine import evaluate, observe, scenario_context
+from snrkit.planning.rank import rank_catalogue
+from snrkit.engine.transit_records import statuses, status_and_reason
+from snrkit.engine.transits import transits_for_system
 
 MODES = ["cold6m-prism-lowres", "cold6m-grism-2.4-5um"]
 SCENARIOS = ["h2-clear-solar", "steam"]

@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from snrkit import forecast as fc
-from snrkit import detect as dt
+from snrkit.stats import forecast as fc
+from snrkit.stats import detect as dt
 
 WL = np.linspace(1.0, 5.0, 60)
 SHAPE = np.exp(-0.5 * ((WL - 3.0) / 0.3) ** 2)

@@ -22,11 +22,11 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from snrkit import Star, Planet, System
-from snrkit import detect as dt
-from snrkit.cli import main
+from snrkit.stats import detect as dt
+from snrkit.cli.entry import main
 from snrkit.io.systemfile import load_system
-from snrkit.tables import data_path
-from snrkit.transits import transits_for_system, contrast_for_system
+from snrkit.io.tables import data_path
+from snrkit.engine.transits import transits_for_system, contrast_for_system
 from snrkit.atmosphere.scenarios import load_scenario
 from snrkit.atmosphere.opacity import OPACITY_SPECIES
 

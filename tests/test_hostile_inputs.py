@@ -17,10 +17,10 @@ import numpy as np
 import pytest
 from astropy.table import Table
 
-from snrkit.catalog import read_catalogue
+from snrkit.planning.catalog import read_catalogue
 from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 from hostile import run_cli, leftovers
 
 CEDAR = data_path("demo", "cedar.toml")
@@ -181,7 +181,7 @@ def _slow_rank_child(tmp_path):
     code = (
         "import signal, sys, time\n"
         "signal.signal(signal.SIGINT, signal.default_int_handler)\n"
-        "import snrkit.commands._common as c\n"
+        "import snrkit.cli._common as c\n"
         "from snrkit.io.atomic import atomic_path\n"
         "def slow(table, path):\n"
         "    with atomic_path(path) as tmp:\n"
@@ -189,7 +189,7 @@ def _slow_rank_child(tmp_path):
         "        print('written', flush=True)\n"
         "        time.sleep(60)\n"
         "c.write_table = slow\n"
-        "from snrkit.cli import main\n"
+        "from snrkit.cli.entry import main\n"
         "sys.exit(main(sys.argv[1:]))\n")
     return subprocess.Popen(
         [sys.executable, "-c", code, "rank", str(DEMO_CAT), "--mode", MODE, "--scenario", "flat",
@@ -243,7 +243,7 @@ def test_class10_overhead_is_honoured(tmp_path):
     f = _system_with_observation(tmp_path, "overhead = 50")
     system = load_system(f, planet="Cedar b")
     assert system.observations[0]["overhead"] == 50.0
-    from snrkit.transits import transits_for_system
+    from snrkit.engine.transits import transits_for_system
     with_50 = transits_for_system(system, MODE, "co2-thick", probabilities=(), curves=False)
     default = transits_for_system(load_system(CEDAR, planet="Cedar b"), MODE, "co2-thick",
                                   probabilities=(), curves=False)
@@ -270,11 +270,11 @@ def test_class11_long_paths_and_bad_values_exit_2(tmp_path):
 
 def test_class12_unwritable_output_checked_before_the_work(tmp_path, monkeypatch):
     # the ranking must never start: it is replaced by a function that fails the test
-    import snrkit.rank
+    import snrkit.planning.rank
 
     def must_not_run(*a, **k):
         raise AssertionError("ranked before checking --out")
-    monkeypatch.setattr(snrkit.rank, "rank_catalogue", must_not_run)
+    monkeypatch.setattr(snrkit.planning.rank, "rank_catalogue", must_not_run)
     folder = tmp_path / "missing-folder"
     rc, _, err = run_cli(["rank", str(DEMO_CAT), "--mode", MODE, "--scenario", "flat",
                           "--out", str(folder / "x.ecsv")])

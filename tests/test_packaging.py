@@ -34,8 +34,8 @@ def test_wheel_install_finds_data_tables(tmp_path):
     # Run from an empty folder with the installed copy first on the path, so the
     # source checkout cannot be what answers.
     code = (
-        "import sys, json; sys.path.insert(0, sys.argv[1]); import snrkit, snrkit.tables as t; "
-        "from snrkit.cli import main; "
+        "import sys, json; sys.path.insert(0, sys.argv[1]); import snrkit, snrkit.io.tables as t; "
+        "from snrkit.cli.entry import main; "
         "print(json.dumps({'pkg': snrkit.__file__, 'data': str(t.data_path('species.ecsv'))})); "
         "sys.stdout.flush(); rc = main(['demo', '--describe-only', '--json']); sys.exit(rc)"
     )

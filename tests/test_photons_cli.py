@@ -1,4 +1,4 @@
-"""`snrkit precision` command (snrkit.commands.precision): output layout, JSON and exit codes.
+"""`snrkit precision` command (snrkit.cli.precision): output layout, JSON and exit codes.
 
 These tests check CLI conventions (DEVELOPERS.md), not physics values; the physics
 of the precision model is checked against its sources in test_photons_precision.py.
@@ -9,10 +9,10 @@ import json
 
 import pytest
 
-from snrkit.commands import precision as cmd
+from snrkit.cli import precision as cmd
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.photons.precision import SaturationWarning
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 CEDAR = str(data_path("demo", "cedar.toml"))
 ALDER = str(data_path("demo", "alder.toml"))
@@ -79,8 +79,8 @@ def test_bad_arguments(capsys):
 
 def test_command_through_cli_main(capsys, monkeypatch):
     # Exit codes and one JSON object through the real entry point; the command is registered
-    # here in case snrkit.cli.COMMANDS does not list it yet.
-    from snrkit import cli
+    # here in case snrkit.cli.entry.COMMANDS does not list it yet.
+    from snrkit.cli import entry as cli
     monkeypatch.setitem(cli.COMMANDS, "precision",
                         ("precision", "per-bin transit-depth precision for an instrument mode"))
     assert cli.main(["precision", CEDAR, "--mode", "nonesuch"]) == 2
@@ -94,7 +94,7 @@ def test_command_through_cli_main(capsys, monkeypatch):
 def test_limits_command(capsys):
     # `snrkit limits` reports the helper's numbers (checked against the saturation
     # rule in test_photons_precision.py); the scan mode has no bright limit.
-    from snrkit.cli import main
+    from snrkit.cli.entry import main
     from snrkit.photons.precision import limiting_magnitudes
     rc = main(["limits", "--mode", "cold6m-prism-lowres", "--mode", "space2.4m-grism-scan",
                "--teff", "3300", "--json"])

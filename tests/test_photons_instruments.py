@@ -8,7 +8,7 @@ import pytest
 
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.photons.instruments import load_mode, mode_names, list_modes, parse_mode
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 # the generic classes issue 4 asks for, by our own names
 EXPECTED = {"cold6m-prism-lowres", "cold6m-xdisp-medres", "cold6m-grism-2.4-5um",
@@ -132,5 +132,5 @@ def test_unknown_preset_lists_valid_ones(tmp_path):
 
 
 def test_presets_command_lists_the_modes():
-    from snrkit.commands.presets import collect_presets
+    from snrkit.cli.presets import collect_presets
     assert collect_presets()["modes"] == list_modes()

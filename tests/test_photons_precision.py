@@ -357,7 +357,7 @@ def test_limiting_magnitudes_helper():
 
 def test_system_wrapper_uses_t14_t23_and_depth():
     from snrkit.io.systemfile import load_system
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     system = load_system(data_path("demo", "cedar.toml"))
     d = system.derived()
     a = quiet_sys(system, "cold6m-xdisp-medres", in_transit="t14")
@@ -446,7 +446,7 @@ def test_group_counts_below_two_are_rejected():
 def test_edited_mode_file_is_read_again(tmp_path):
     # load_mode caches parsed files; an edit during a session must not be served stale
     import os
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     text = data_path("instruments", "cold6m-prism-lowres.toml").read_text()
     p = tmp_path / "mine.toml"
     p.write_text(text)

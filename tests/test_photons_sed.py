@@ -11,7 +11,7 @@ from snrkit.errors import InputError, UnitMismatchError, UnknownKeyError
 from snrkit.photons.sed import (planck_flambda, planck_spectrum, read_spectrum, zero_points,
                                 synthetic_magnitude, stellar_flux_density, band_names,
                                 band_response, StellarSpectrum)
-from snrkit.tables import read_table
+from snrkit.io.tables import read_table
 
 
 def test_planck_matches_astropy_blackbody():
@@ -132,7 +132,7 @@ def test_response_curve_files_carry_provenance():
         assert t.meta["band"] == band
         assert np.all(np.diff(t["wavelength"]) > 0) and t["relative_response"].min() >= 0
         assert t["relative_response"][0] == 0 and t["relative_response"][-1] == 0
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     assert "Redistribution" in data_path("photometry", "response_curves_licence.txt").read_text()
 
 

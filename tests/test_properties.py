@@ -5,9 +5,9 @@ import pytest
 import astropy.units as u
 from hypothesis import given, strategies as st, assume
 
-from snrkit import metrics as met, geometry as geo
+from snrkit.bodies import metrics as met, geometry as geo
 from snrkit import constants as C
-from snrkit.system import Star, Planet, System
+from snrkit.bodies.system import Star, Planet, System
 
 pos = st.floats(min_value=1e-2, max_value=1e4, allow_nan=False)
 temps = st.floats(min_value=50.0, max_value=4000.0)

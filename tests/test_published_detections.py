@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from snrkit import Star, Planet, System
-from snrkit.transits import transits_for_system
+from snrkit.engine.transits import transits_for_system
 
 R_JUP_IN_EARTH = 11.209      # IAU 2015 nominal equatorial radii (Prsa et al. 2016)
 M_JUP_IN_EARTH = 317.83      # (ratio of nominal GM values)

@@ -2,7 +2,7 @@
 
 Required check (issue): the ranking agrees with the per-planet path for every
 row -- each ranked row's transits needed and hours equal those of the same
-planet run alone through snrkit.transits.  TSM values follow Kempton et al.
+planet run alone through snrkit.engine.transits.  TSM values follow Kempton et al.
 2018, eq. 1 (checked on hand-computed rows in test_catalog.py); calendar
 arithmetic is checked against astropy in test_calendar.py.
 """
@@ -12,14 +12,14 @@ import json
 import numpy as np
 import pytest
 
-from snrkit.catalog import read_catalogue
-from snrkit.cli import main
+from snrkit.planning.catalog import read_catalogue
+from snrkit.cli.entry import main
 from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system
-from snrkit.plan import programme_plan
-from snrkit.rank import rank_catalogue
-from snrkit.tables import data_path
-from snrkit.transits import transits_for_system
+from snrkit.planning.plan import programme_plan
+from snrkit.planning.rank import rank_catalogue
+from snrkit.io.tables import data_path
+from snrkit.engine.transits import transits_for_system
 
 CATALOGUE = str(data_path("demo", "catalogue.ecsv"))
 PRISM = "cold6m-prism-lowres"
@@ -133,7 +133,7 @@ def test_sort_by_tsm_and_filters(cat, temperate):
 
 def test_nan_sort_keys_rank_last_and_bad_rows_never_rank(cat, temperate):
     # ESM needs a Ks magnitude: blank three of them; those ok rows rank after the rest
-    from snrkit.catalog import catalogue_from_table
+    from snrkit.planning.catalog import catalogue_from_table
     t = cat.table.copy()
     base = rank_catalogue(cat, PRISM, temperate, resolution=20, sort_by="esm")
     ok_rows = np.flatnonzero(np.asarray(base["status"]) == "ok")[:3]
@@ -173,7 +173,7 @@ def test_best_mode_is_kept_per_row(cat):
 
 
 def test_empty_ranking_plot(cat, tmp_path):
-    from snrkit.plots import plot_ranking
+    from snrkit.output.figures import plot_ranking
     t = rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20, filters={"radius_min": 100.0})
     assert np.all(np.asarray(t["rank"]) == 0)
     plot_ranking(t, tmp_path / "empty.png")
@@ -253,9 +253,9 @@ def test_escape_screening_informs_instead_of_deleting():
     # Hot Neptunes of the demo catalogue (3-6.5 R_earth, 9-20 M_earth) with restricted Jeans
     # parameters below 20 (Fossati et al. 2017, A&A 598, A90) are standard hydrogen-rich
     # targets: ranked, with escape_warning set; left out only with min_jeans.
-    from snrkit.catalog import read_catalogue
-    from snrkit.rank import rank_catalogue
-    from snrkit.tables import data_path
+    from snrkit.planning.catalog import read_catalogue
+    from snrkit.planning.rank import rank_catalogue
+    from snrkit.io.tables import data_path
     import warnings
     cat = read_catalogue(data_path("demo", "catalogue.ecsv"))
     with warnings.catch_warnings():

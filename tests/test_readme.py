@@ -35,7 +35,7 @@ def test_python_examples_run(tmp_path, monkeypatch):
 
 
 def test_toml_example_is_a_valid_system_file(tmp_path, capsys):
-    from snrkit.cli import main
+    from snrkit.cli.entry import main
     (text,) = _blocks("toml")
     f = tmp_path / "readme.toml"
     f.write_text(text)
@@ -44,7 +44,7 @@ def test_toml_example_is_a_valid_system_file(tmp_path, capsys):
 
 
 def test_tour_commands_exist():
-    from snrkit.cli import COMMANDS
+    from snrkit.cli.entry import COMMANDS
     (sh, *_rest) = [b for b in _blocks("sh") if "snrkit describe" in b]
     used = set(re.findall(r"^snrkit (\w+)", sh, flags=re.M))
     assert used and used <= set(COMMANDS)

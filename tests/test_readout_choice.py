@@ -14,11 +14,11 @@ import numpy as np
 import pytest
 
 from snrkit import Star, Planet, System
-from snrkit.cli import main
+from snrkit.cli.entry import main
 from snrkit.photons.instruments import load_mode
 from snrkit.photons.precision import transit_precision
 from snrkit.photons.readout import readout_candidates, choose_readout
-from snrkit.transits import transits_for_system
+from snrkit.engine.transits import transits_for_system
 
 PRISM = "cold6m-prism-lowres"
 
@@ -101,7 +101,7 @@ def test_bright_star_accepts_saturated_bins():
 
 
 def test_readout_reported_in_text_json_and_rank(capsys, tmp_path):
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     cedar = str(data_path("demo", "cedar.toml"))
     assert main(["transits", cedar, "--planet", "Cedar b", "--mode", PRISM, "--json",
                  "--uncertainty-draws", "0"]) == 0

@@ -11,10 +11,10 @@ import astropy.constants as ac
 from astropy.modeling.models import BlackBody
 
 from snrkit import constants as C
-from snrkit import geometry as geo
-from snrkit import metrics as met
+from snrkit.bodies import geometry as geo
+from snrkit.bodies import metrics as met
 from snrkit.atmosphere.composition import mean_molecular_weight
-from snrkit.system import Star, Planet, System
+from snrkit.bodies.system import Star, Planet, System
 
 
 def test_iau_2015_nominal_values():

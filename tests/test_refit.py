@@ -1,6 +1,6 @@
 """Bounded, honest fits: physical ranges for re-fits and Fisher priors; bad options.
 
-Ranges (snrkit.refit): temperature factor 0.5-2 (common practice, no source), cloud
+Ranges (snrkit.stats.refit): temperature factor 0.5-2 (common practice, no source), cloud
 top between the model's top pressure and its floor, reference radius 1 +/- 3 sigma_R/R
 with a Gaussian prior of width sigma_R/R.  Fisher errors use uniform priors over the
 same ranges (variance span^2 / 12; Fisher information adds, Tegmark, Taylor & Heavens
@@ -11,13 +11,13 @@ whole range.
 import numpy as np
 import pytest
 
-from snrkit.cli import main
+from snrkit.cli.entry import main
 from snrkit.io.systemfile import load_system
-from snrkit.refit import (fisher_errors_with_priors, parameter_ranges, TEMPERATURE_FACTOR_RANGE,
+from snrkit.stats.refit import (fisher_errors_with_priors, parameter_ranges, TEMPERATURE_FACTOR_RANGE,
                           UNCONSTRAINED)
 from snrkit.atmosphere.scenarios import load_scenario
-from snrkit.tables import data_path
-from snrkit.transits import transits_for_system
+from snrkit.io.tables import data_path
+from snrkit.engine.transits import transits_for_system
 
 PRISM = "cold6m-prism-lowres"
 CEDAR = str(data_path("demo", "cedar.toml"))

@@ -9,7 +9,7 @@ import pytest
 from snrkit.atmosphere.scenarios import (load_scenario, list_scenarios, preset_names,
                                          Scenario)
 from snrkit.errors import InputError, UnknownKeyError
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 REQUIRED = {"h2-clear-solar", "h2-cloudy-solar", "h2-metal-rich", "steam", "n2-o2-temperate",
             "n2-co2-ch4-anoxic", "co2-thick", "flat"}

@@ -12,9 +12,9 @@ import pytest
 import xarray as xr
 from astropy.table import Table
 
-from snrkit.commands import spectrum as cmd
+from snrkit.cli import spectrum as cmd
 from snrkit.errors import InputError
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 ALDER = str(data_path("demo", "alder.toml"))
 CEDAR = str(data_path("demo", "cedar.toml"))
@@ -85,9 +85,9 @@ def test_bad_arguments(argv, match, tmp_path, monkeypatch):
 
 
 def test_registered_command_exit_codes(capsys):
-    from snrkit import cli
+    from snrkit.cli import entry as cli
     if "spectrum" not in cli.COMMANDS:
-        pytest.skip("spectrum command not registered in snrkit.cli yet")
+        pytest.skip("spectrum command not registered in snrkit.cli.entry yet")
     assert cli.main(["spectrum", ALDER, "--scenario", "h2-clear-solr"]) == 2
     assert "did you mean" in capsys.readouterr().err
     assert cli.main(["spectrum", ALDER, "--scenario", "flat", "--resolution", "5",
@@ -98,7 +98,7 @@ def test_registered_command_exit_codes(capsys):
 def test_json_has_planets_list(capsys):
     # CLI convention (DEVELOPERS.md): per-planet answers in a "planets" list whose
     # objects carry the keys the issue names.
-    from snrkit import cli
+    from snrkit.cli import entry as cli
     cedar = str(data_path("demo", "cedar.toml"))
     assert cli.main(["spectrum", cedar, "--resolution", "10", "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
@@ -112,7 +112,7 @@ def test_json_has_planets_list(capsys):
 def test_cross_sections_option(tmp_path, capsys):
     # A user's own H2O table (a smooth power law in wavenumber, an invented table)
     # replaces the band model; outside its coverage the command refuses (exit 2).
-    from snrkit import cli
+    from snrkit.cli import entry as cli
     nu = np.linspace(1500.0, 20000.0, 4000)              # cm-1, 0.5-6.7 um
     sigma = 1e-22 * (nu / 5000.0) ** 2
     f = tmp_path / "h2o.csv"
@@ -135,7 +135,7 @@ def test_contributions_reach_every_output(tmp_path, capsys):
     # and the figure; and a species removed (same calibrated radius) can only lower the
     # depth in every bin -- less opacity, a lower effective radius (a molecule is nested
     # within its atmosphere)
-    from snrkit.cli import main
+    from snrkit.cli.entry import main
     out_ecsv, png = tmp_path / "c.ecsv", tmp_path / "c.png"
     rc = main(["spectrum", CEDAR, "--resolution", "30", "--contributions", "--json",
                "--out", str(out_ecsv), "--plot", str(png)])
@@ -159,7 +159,7 @@ def test_contributions_reach_every_output(tmp_path, capsys):
 
 
 def test_removing_a_species_never_deepens_the_layered_spectrum(capsys):
-    from snrkit.cli import main
+    from snrkit.cli.entry import main
     rc = main(["spectrum", CEDAR, "--resolution", "30", "--contributions", "--solver", "layers",
                "--json"])
     doc = json.loads(capsys.readouterr().out)

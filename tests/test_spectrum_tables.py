@@ -41,7 +41,7 @@ def test_solvers_agree_with_pressure_broadening_on_the_demo_planets():
     # with the local power law k ~ P^s (analytic): every bin of every preset on every
     # demo planet within 0.3 H (issue requirement; measured ~0.11 H).
     from snrkit.io.systemfile import load_system
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     from snrkit.constants import R_EARTH, M_EARTH, R_SUN
     rows = []
     for name in ("alder.toml", "birch.toml", "cedar.toml"):
@@ -133,7 +133,7 @@ def test_preset_feature_scale_heights_match_the_model():
     # full model; used as N_H, the quick estimate N_H * 2 H Rp / Rs^2 then reproduces
     # the model's peak-to-trough depth on the reference planet.
     import tomllib
-    from snrkit.tables import data_path
+    from snrkit.io.tables import data_path
     from snrkit.atmosphere.scenarios import load_scenario
     from snrkit.atmosphere.spectrum import (feature_scale_heights, FEATURE_REFERENCE_PLANETS,
                                             FEATURE_WAVELENGTH_RANGE_UM, FEATURE_RESOLUTION)

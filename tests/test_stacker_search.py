@@ -10,7 +10,7 @@ import numpy as np
 from hypothesis import given, strategies as st
 from scipy import special, stats
 
-from snrkit import detect as dt
+from snrkit.stats import detect as dt
 
 from stacker_reference import (bisection_transits_needed, reference_transits_needed,
                                scipy_noncentrality)

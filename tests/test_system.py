@@ -8,7 +8,7 @@ import astropy.units as u
 
 from snrkit.errors import (InputError, NoTransitError, GrazingTransitWarning,
                            UnitMismatchError)
-from snrkit.system import Star, Planet, System
+from snrkit.bodies.system import Star, Planet, System
 from snrkit import constants as C
 
 
@@ -127,7 +127,7 @@ def test_planet_larger_than_its_star():
     with pytest.raises(InputError) as err:
         System(tiny, Planet(radius=10.0, mass=300.0, period=1.4, impact_parameter=0.5))
     assert err.value.field.startswith("planet.radius")
-    from snrkit import geometry as geo
+    from snrkit.bodies import geometry as geo
     assert geo.transit_duration(86400.0, 300.0, 1.5, 0.1, np.pi / 2, 0.0, np.pi / 2,
                                 inner=True) == 0.0
 

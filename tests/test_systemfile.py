@@ -6,7 +6,7 @@ import astropy.units as u
 
 from snrkit.errors import InputError, UnknownKeyError, UnitMismatchError
 from snrkit.io.systemfile import read_system_text, load_system
-from snrkit.tables import data_path
+from snrkit.io.tables import data_path
 
 STAR = """
 [star]

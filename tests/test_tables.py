@@ -10,7 +10,7 @@ import pytest
 import astropy.units as u
 
 from snrkit.errors import SnrkitError
-from snrkit.tables import data_path, read_columns, read_table, _parse_simple_ecsv
+from snrkit.io.tables import data_path, read_columns, read_table, _parse_simple_ecsv
 
 _ROOT = data_path()
 _ALL = sorted(p.relative_to(_ROOT).parts for p in _ROOT.rglob("*.ecsv"))
@@ -68,7 +68,7 @@ def test_tables_outside_the_subset_are_refused():
     ("a\n1\n", "ECSV"),
 ])
 def test_parser_refuses_what_it_does_not_handle(text, why):
-    from snrkit.tables import _NotSimple
+    from snrkit.io.tables import _NotSimple
     with pytest.raises(_NotSimple, match=why):
         _parse_simple_ecsv(text)
 

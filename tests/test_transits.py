@@ -12,11 +12,11 @@ import json
 import numpy as np
 import pytest
 
-from snrkit.cli import main
+from snrkit.cli.entry import main
 from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system, read_system_text
-from snrkit.tables import data_path
-from snrkit.transits import transits_for_system, contrast_for_system
+from snrkit.io.tables import data_path
+from snrkit.engine.transits import transits_for_system, contrast_for_system
 
 CEDAR = str(data_path("demo", "cedar.toml"))
 ALDER = str(data_path("demo", "alder.toml"))
@@ -36,7 +36,7 @@ def co2_result(cedar):
 def species_chi2(data, null, sig):
     """min over level c and 0 <= b <= 2 of chi^2(data - c - b null), by weighted lstsq.
 
-    Independent of snrkit.detect: the species null of snrkit.hypotheses (the
+    Independent of snrkit.stats.detect: the species null of snrkit.stats.hypotheses (the
     scenario without the gas, its remaining features scaled by b in [0, 2]).
     """
     w = 1 / sig

@@ -316,7 +316,7 @@ def main():
     t.meta["date"] = datetime.date.today().isoformat()
     t.meta["script"] = "data_tables/scripts/make_demo_catalogue.py"
     t.meta["seed"] = SEED
-    t.meta["layout"] = "snrkit default catalogue layout (snrkit.catalog.DEFAULT_COLUMNS)"
+    t.meta["layout"] = "snrkit default catalogue layout (snrkit.planning.catalog.DEFAULT_COLUMNS)"
     t.meta["bad_rows"] = bad
     out = Path(__file__).resolve().parents[1] / "demo" / "catalogue.ecsv"
     t.write(out, format="ascii.ecsv", overwrite=True)

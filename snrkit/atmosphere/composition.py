@@ -12,7 +12,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..units import as_float_array
-from ..tables import read_columns
+from ..io.tables import read_columns
 
 __all__ = ["species_molar_masses", "SPECIES", "normalise_mixing_ratios",
            "mean_molecular_weight", "MU_H2_HE_DEFAULT", "SUM_TOLERANCE"]

@@ -45,7 +45,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import InputError, UnknownKeyError
-from ..tables import read_columns
+from ..io.tables import read_columns
 from .opacity import OpacityRangeWarning
 
 __all__ = ["RAYLEIGH_SPECIES", "CIA_PAIRS", "rayleigh_cross_section", "cia_coefficient",

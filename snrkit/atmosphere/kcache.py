@@ -70,7 +70,7 @@ def data_key(*names):
         20 hexadecimal digits.
     """
     from .._version import __version__
-    from ..tables import data_path
+    from ..io.tables import data_path
     h = hashlib.blake2b(f"{__version__}|{_FORMAT}".encode(), digest_size=10)
     for name in names:
         path = data_path(*name.split("/"))

@@ -76,7 +76,7 @@ import numpy as np
 
 from ..constants import C_LIGHT, K_B, M_U
 from ..errors import InputError, SnrkitError, SnrkitWarning, UnknownKeyError
-from ..tables import data_path, read_columns
+from ..io.tables import data_path, read_columns
 
 __all__ = [
     "OPACITY_SPECIES", "MOLECULAR_SPECIES", "ATOMIC_SPECIES", "NATIVE_RESOLUTION",

@@ -64,7 +64,7 @@ import numpy as np
 import astropy.units as u
 
 from ..errors import InputError, UnknownKeyError
-from ..tables import data_path
+from ..io.tables import data_path
 from ..units import to_si, parse_number, scalar_si
 from .composition import normalise_mixing_ratios, species_molar_masses
 

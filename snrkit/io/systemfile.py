@@ -44,10 +44,10 @@ import numpy as np
 from ..errors import InputError, UnknownKeyError
 from ..units import parse_number, scalar_si
 from .tomlfile import read_toml, loads_toml
-from ..system import Star, Planet, System, BANDS
+from ..bodies.system import Star, Planet, System, BANDS
 
-__all__ = ["load_system", "read_system_text", "common_observation", "STAR_KEYS", "PLANET_KEYS",
-           "OBSERVATION_KEYS", "TOP_KEYS", "OVERHEAD_MAX_HOURS"]
+__all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS", "OBSERVATION_KEYS", "TOP_KEYS",
+           "OVERHEAD_MAX_HOURS"]
 
 TOP_KEYS = {"star": "table", "planet": "array of tables", "title": "text", "notes": "text"}
 
@@ -157,32 +157,6 @@ def _observation_table(ob, name):
     return out
 
 
-def common_observation(system, key, default):
-    """The value of a [planet.observation] key shared by every planet of ``system``.
-
-    Parameters
-    ----------
-    system : snrkit.System
-    key : str
-        A key of :data:`OBSERVATION_KEYS`.
-    default : object
-        Value for planets that do not give the key.
-
-    Raises
-    ------
-    InputError
-        The planets give different values (run them separately).
-    """
-    names = [str(x) for x in system.names]
-    values = [default if not ob or key not in ob else ob[key] for ob in system.observations]
-    for v, name in zip(values[1:], names[1:]):
-        if v != values[0]:
-            raise InputError(f"planet.observation.{key} ({name})", v,
-                             f"the same value as for {names[0]} ({values[0]!r}) in one run; "
-                             "run the planets separately (--planet)")
-    return values[0] if values else default
-
-
 def _check_keys(table, allowed, where):
     for key in table:
         if key not in allowed:
@@ -235,7 +209,7 @@ def _atmosphere_summary(atm, where):
 
 
 def read_system_text(text, source="<text>"):
-    """Build a :class:`~snrkit.system.System` from system-file text.
+    """Build a :class:`~snrkit.bodies.system.System` from system-file text.
 
     Parameters
     ----------
@@ -309,7 +283,7 @@ def _system_from_doc(doc, source):
                     atmosphere_temperature=np.array(temps),
                     atmosphere_temperature_factor=np.array(factors),
                     atmospheres=atms, observations=obs, warn_kepler=True)
-    from ..system import check_plausible
+    from ..bodies.system import check_plausible
     check_plausible(system)            # unusual values (often a unit mistake) refused
     return system
 

@@ -232,7 +232,7 @@ class Mode:
 
 
 def _presets_dir():
-    from ..tables import data_path
+    from ..io.tables import data_path
     return data_path("instruments")
 
 

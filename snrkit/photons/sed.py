@@ -98,7 +98,7 @@ def zero_points():
         Sources: Cohen, Wheaton & Megeath 2003 (AJ 126, 1090) for J, H, Ks;
         Bessell, Castelli & Plez 1998 (A&A 333, 231) for V.
     """
-    from ..tables import read_columns
+    from ..io.tables import read_columns
     t = read_columns("photometry", "zero_points.ecsv")
     lam_si = si_scale(u.Unit(t.units["reference_wavelength"]))
     f0_si = si_scale(u.Unit(t.units["zero_point_flambda"]))
@@ -218,7 +218,7 @@ def band_response(band):
         102, 1181; provenance in each file's metadata).
     """
     name = _band_name(band)
-    from ..tables import read_columns
+    from ..io.tables import read_columns
     zp = read_columns("photometry", "zero_points.ecsv")
     row = list(zp["band"]).index(name)
     t = read_columns("photometry", str(zp["response_file"][row]))
