@@ -14,7 +14,8 @@ import warnings
 
 import numpy as np
 
-from snrkit.atmosphere.spectrum import transmission_spectrum, wavelength_bin_edges
+from snrkit.atmosphere.spectrum import transmission_spectrum
+from snrkit.atmosphere.mixture import wavelength_bin_edges
 
 
 def main():

@@ -15,7 +15,8 @@ import numpy as np
 import pytest
 
 from snrkit.atmosphere.profiles import us_standard_atmosphere_1976
-from snrkit.atmosphere.spectrum import transmission_spectrum, wavelength_bin_edges
+from snrkit.atmosphere.spectrum import transmission_spectrum
+from snrkit.atmosphere.mixture import wavelength_bin_edges
 
 #: Scale height at the U.S. Standard Atmosphere 1976 tropopause [km] (216.65 K, 28.9644 g/mol).
 H_TROPOPAUSE_KM = 8.31432 * 216.65 / (28.9644e-3 * 9.80665) / 1e3

@@ -14,6 +14,7 @@ from scipy.integrate import quad
 
 from snrkit.atmosphere import profiles as P
 from snrkit.atmosphere import spectrum as S
+from snrkit.atmosphere import analytic, layered, mixture, solve
 from snrkit.constants import K_B, M_U, R_JUP, R_EARTH, R_SUN, G, M_JUP
 from snrkit.errors import InputError, SnrkitWarning
 
@@ -84,8 +85,8 @@ def test_layered_matches_analytic_within_a_tenth_scale_height(case):
     cia = np.array([0.0, 0.0, 1e-50, 0.0, 1e-53])              # m5
     lev, r, n = _isothermal(T, mu, g0, r0, p0, floor, top)
     alpha = (n[:, :, None] * sig + cia * n[:, :, None] ** 2)[..., None]
-    r_lay = S.layered_radius(alpha, r)
-    r_an, sat = S.analytic_radius(sig[None, :, None], np.zeros((1, 5)), cia[None], T, mu, r0, p0,
+    r_lay = layered.layered_radius(alpha, r)
+    r_an, sat = analytic.analytic_radius(sig[None, :, None], np.zeros((1, 5)), cia[None], T, mu, r0, p0,
                                   g0, floor, top)
     assert not sat.any()
     h = P.scale_height(T, mu, g0)
@@ -105,8 +106,8 @@ def test_heng_kitzmann_formula_against_constant_gravity_chord_integral():
     rho = lev * mu * M_U / (K_B * T)
     for kappa in (1e-5, 1e-3, 1e-1, 10.0):                 # m2/kg
         alpha = (kappa * rho)[:, :, None, None]
-        r_num = S.layered_radius(alpha, r)[0, 0, 0]
-        r_hk = S.heng_kitzmann_radius(r0, p0, g, h, kappa)
+        r_num = layered.layered_radius(alpha, r)[0, 0, 0]
+        r_hk = analytic.heng_kitzmann_radius(r0, p0, g, h, kappa)
         assert abs(r_num - r_hk) / h < 0.05
 
 
@@ -118,9 +119,9 @@ def test_analytic_equals_heng_kitzmann_when_referenced_at_the_photosphere():
     sig = 1e-28
     kappa = sig / (mu * M_U)
     p0 = 10.0
-    r_an, _ = S.analytic_radius(np.full((1, 1, 1), sig), np.zeros((1, 1)), np.zeros((1, 1)),
+    r_an, _ = analytic.analytic_radius(np.full((1, 1, 1), sig), np.zeros((1, 1)), np.zeros((1, 1)),
                                 T, mu, r0, p0, g0, 1e7, 1e-6)
-    r_hk = S.heng_kitzmann_radius(r0, p0, g0, h, kappa)
+    r_hk = analytic.heng_kitzmann_radius(r0, p0, g0, h, kappa)
     assert abs(r_hk - r0) / h < 0.5          # photosphere close to P0 indeed
     assert abs(r_an[0, 0, 0] - r_hk) / h < 0.03
 
@@ -136,7 +137,7 @@ def test_analytic_radius_against_direct_quadrature():
     h0 = K_B * T / (mu * M_U * g0)
     lam0 = r0 / h0
     for sig in (1e-30, 1e-25):
-        r_an, _ = S.analytic_radius(np.full((1, 1, 1), sig), np.zeros((1, 1)),
+        r_an, _ = analytic.analytic_radius(np.full((1, 1, 1), sig), np.zeros((1, 1)),
                                     np.zeros((1, 1)), T, mu, r0, p0, g0, 1e7, 1e-6)
         b0 = r_an[0, 0, 0]
         hb = h0 * (b0 / r0) ** 2
@@ -151,7 +152,7 @@ def test_analytic_radius_against_direct_quadrature():
         r_exact = math.sqrt(bs[0] ** 2 + 2 * np.trapezoid(f * bs, bs))
         assert abs(b0 - r_exact) / hb < 2e-3
         # the chord depth at the transit radius is close to exp(-gamma)
-        assert tau_of(b0) == pytest.approx(math.exp(-S.EULER_GAMMA), rel=0.05)
+        assert tau_of(b0) == pytest.approx(math.exp(-analytic.EULER_GAMMA), rel=0.05)
 
 
 # --------------------------------------------------------------------------
@@ -170,7 +171,7 @@ def test_radius_shifts_by_h_ln10_per_decade_of_opacity(T, mu, g0, lsig):
     if h0 / r0 > 0.02:           # outside the regime of a thin atmosphere
         return
     sig = np.array([10**lsig, 10 ** (lsig + 1)])[None, :, None]
-    r, _ = S.analytic_radius(sig, np.zeros((1, 2)), np.zeros((1, 2)), T, mu, r0, 1e6, g0,
+    r, _ = analytic.analytic_radius(sig, np.zeros((1, 2)), np.zeros((1, 2)), T, mu, r0, 1e6, g0,
                              1e8, 1e-12)
     rm = r.mean()
     h_loc = h0 * (rm / r0) ** 2
@@ -184,7 +185,7 @@ def test_rayleigh_slope_is_minus_four_scale_heights(solver):
     # sigma ~ lambda^-4.  Pure Rayleigh scattering in an H2/He gas.
     import astropy.units as u
     src = FakeOpacity(k0=0.0, rayleigh=1e-31, cia=0.0)
-    edges = S.wavelength_bin_edges(30, 0.4e-6, 1.0e-6)
+    edges = mixture.wavelength_bin_edges(30, 0.4e-6, 1.0e-6)
     ds = S.transmission_spectrum({"mixing_ratios": {"He": 0.15}, "fill_gas": "H2",
                                   "reference_pressure": 1.0},
                                  R_JUP * u.m, R_SUN * u.m, gravity=25.0, equilibrium_temperature=1000.0,
@@ -235,9 +236,9 @@ def test_depth_change_per_scale_height_is_the_annulus():
     # e in opacity raises R by one (local) H, and the depth by ~2 H R / Rs^2.
     T, mu, g0, r0 = 700.0, 2.3, 12.0, 0.9 * R_JUP
     sig = np.array([1e-28, 1e-28 * math.e])[None, :, None]
-    r, _ = S.analytic_radius(sig, np.zeros((1, 2)), np.zeros((1, 2)), T, mu, r0, 1e6, g0,
+    r, _ = analytic.analytic_radius(sig, np.zeros((1, 2)), np.zeros((1, 2)), T, mu, r0, 1e6, g0,
                              1e7, 1e-8)
-    d = S.bin_average_depth(r, 0.8 * R_SUN, np.ones(1))[0]
+    d = layered.bin_average_depth(r, 0.8 * R_SUN, np.ones(1))[0]
     rm = r.mean()
     h_loc = P.scale_height(T, mu, g0) * (rm / r0) ** 2
     annulus = 2 * h_loc * rm / (0.8 * R_SUN) ** 2
@@ -251,11 +252,11 @@ def test_depth_is_averaged_over_g_points_not_opacity():
     T, mu, g0, r0, rs = 1000.0, 2.3, 10.0, R_JUP, R_SUN
     k = np.array([1e-30, 1e-24])
     w = np.array([0.5, 0.5])
-    r, _ = S.analytic_radius(k[None, None, :], np.zeros((1, 1)), np.zeros((1, 1)), T, mu, r0,
+    r, _ = analytic.analytic_radius(k[None, None, :], np.zeros((1, 1)), np.zeros((1, 1)), T, mu, r0,
                              1e6, g0, 1e7, 1e-8)
-    d_avg = S.bin_average_depth(r, rs, w)[0, 0]
+    d_avg = layered.bin_average_depth(r, rs, w)[0, 0]
     assert d_avg == pytest.approx(0.5 * ((r[0, 0, 0] / rs) ** 2 + (r[0, 0, 1] / rs) ** 2))
-    r_mean, _ = S.analytic_radius(np.full((1, 1, 1), k.mean()), np.zeros((1, 1)),
+    r_mean, _ = analytic.analytic_radius(np.full((1, 1, 1), k.mean()), np.zeros((1, 1)),
                                   np.zeros((1, 1)), T, mu, r0, 1e6, g0, 1e7, 1e-8)
     d_mean = (r_mean[0, 0, 0] / rs) ** 2
     h = P.scale_height(T, mu, g0)
@@ -264,7 +265,7 @@ def test_depth_is_averaged_over_g_points_not_opacity():
 
 def test_bin_average_depth_rejects_bad_weights():
     with pytest.raises(InputError):
-        S.bin_average_depth(np.ones((1, 2, 3)), 1.0, np.array([0.5, 0.5]))
+        layered.bin_average_depth(np.ones((1, 2, 3)), 1.0, np.array([0.5, 0.5]))
 
 
 # --------------------------------------------------------------------------
@@ -275,7 +276,7 @@ def test_chord_weights_exact_for_linear_interpolant():
     # tau(b) = 2 int_b^rtop alpha(r) r dr / sqrt(r^2 - b^2) for alpha linear in r per shell
     lev, r, n = _isothermal(800.0, 2.3, 10.0, R_JUP, 1e5, 1e6, 1e0, n_layers=40)
     alpha = n[0] * 1e-30
-    w = S.chord_weights(r)[0]
+    w = layered.chord_weights(r)[0]
     for k in (0, 7, 25, 38):
         b = r[0, k]
 
@@ -294,7 +295,7 @@ def test_chord_depth_of_exponential_atmosphere_is_alpha_sqrt_2pi_b_h():
     T, mu, g0, r0 = 1000.0, 2.3, 10.0, R_JUP
     lev, r, n = _isothermal(T, mu, g0, r0, 1e5, 1e7, 1e-5, n_layers=200)
     alpha = n * 1e-30
-    tau = (S.chord_weights(r) @ alpha[..., None])[0, :, 0]
+    tau = (layered.chord_weights(r) @ alpha[..., None])[0, :, 0]
     k = 60
     h_loc = P.scale_height(T, mu, g0) * (r[0, k] / r0) ** 2
     assert tau[k] == pytest.approx(alpha[0, k] * math.sqrt(2 * math.pi * r[0, k] * h_loc),
@@ -393,7 +394,7 @@ def test_public_bad_input(kwargs):
 
 
 def test_wavelength_bin_edges_resolution():
-    e = S.wavelength_bin_edges(100, 1e-6, 2e-6)
+    e = mixture.wavelength_bin_edges(100, 1e-6, 2e-6)
     assert e.size == math.ceil(100 * math.log(2)) + 1
     assert np.all(np.diff(e) / np.sqrt(e[1:] * e[:-1]) <= 1 / 100 + 1e-12)
     assert e[0] == pytest.approx(1e-6) and e[-1] == pytest.approx(2e-6)
@@ -402,7 +403,7 @@ def test_wavelength_bin_edges_resolution():
 def test_layered_solver_full_r1000_grid():
     # a full R = 1000 layered spectrum is finite everywhere (its time is a benchmark
     # figure, benchmarks/bench_spectrum.py)
-    edges = S.wavelength_bin_edges(1000)
+    edges = mixture.wavelength_bin_edges(1000)
     ds = S.transmission_spectrum("h2-clear-solar", 11.0, 1.0, gravity=20.0,
                                  equilibrium_temperature=1200.0, wavelength_edges=edges * 1e6,
                                  solver="layers", opacity_source=FakeOpacity())
@@ -449,7 +450,7 @@ def test_many_planets_chunked(monkeypatch):
               equilibrium_temperature=rng.uniform(300, 2000, n),
               resolution=5, opacity_source=FakeOpacity(k0=1e-29))
     one = S.transmission_spectrum("h2-clear-solar", rp, 1.0, **kw)
-    monkeypatch.setattr(S, "_CHUNK_ELEMENTS", 500)
+    monkeypatch.setattr(solve, "_CHUNK_ELEMENTS", 500)
     many = S.transmission_spectrum("h2-clear-solar", rp, 1.0, **kw)
     np.testing.assert_array_equal(one.transit_depth_ppm.values, many.transit_depth_ppm.values)
 
@@ -468,7 +469,7 @@ def test_haze_slope_sets_the_spectral_slope(solver):
                                   "haze_slope": -2.0},
                                  R_JUP * u.m, R_SUN * u.m, gravity=25.0,
                                  equilibrium_temperature=1000.0,
-                                 wavelength_edges=S.wavelength_bin_edges(20, 0.5e-6, 5e-6) * 1e6,
+                                 wavelength_edges=mixture.wavelength_bin_edges(20, 0.5e-6, 5e-6) * 1e6,
                                  solver=solver, n_g=2, opacity_source=src)
     z = ds.effective_height_km.values[0] * 1e3
     h = ds.scale_height_km.values[0] * 1e3 * ((R_JUP + z.mean()) / R_JUP) ** 2

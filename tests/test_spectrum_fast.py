@@ -13,6 +13,9 @@ import numpy as np
 import pytest
 
 from snrkit.atmosphere import spectrum as spm
+from snrkit.atmosphere import analytic
+from snrkit.atmosphere import solve
+from snrkit.atmosphere import mixture
 from snrkit.atmosphere import analytic_kernel as ak
 
 SCENARIOS = ["h2-clear-solar", {"scenario": "n2-o2-temperate", "cold_trap": {}}, "h2-cloudy-solar",
@@ -35,11 +38,11 @@ def _spectrum(p, sl, edges, scenario):
 @pytest.mark.parametrize("scenario", SCENARIOS, ids=IDS)
 def test_planet_alone_equals_planet_in_catalogue(scenario, monkeypatch):
     p = _planets(40)
-    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
+    edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
     whole = _spectrum(p, slice(None), edges, scenario)
     ak.clear_lattice_cache()                         # a fresh process, other chunk sizes
     monkeypatch.setattr(ak, "CHUNK_ELEMENTS", 997)
-    monkeypatch.setattr(spm, "_CHUNK_ELEMENTS", 20_000)
+    monkeypatch.setattr(solve, "_CHUNK_ELEMENTS", 20_000)
     for i in range(0, 40, 9):
         one = _spectrum(p, slice(i, i + 1), edges, scenario)
         h = float(one["scale_height_km"].values[0])
@@ -51,9 +54,9 @@ def _kernel_setup(scenario, n, seed):
     """Scenario, source, bins, line-shape nodes, planets, temperatures and lattice opacity."""
     from snrkit.atmosphere.scenarios import load_scenario
     sc = load_scenario(scenario)
-    src = spm._default_opacity_source()
-    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
-    nodes = spm._line_shape_pressures(src)
+    src = mixture._default_opacity_source()
+    edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
+    nodes = solve._line_shape_pressures(src)
     p = _planets(n, seed=seed)
     t = sc.temperature(p["teq"]) * np.ones(n)
     lat = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
@@ -68,7 +71,7 @@ def test_lattice_close_to_opacity_at_each_temperature(scenario):
     # the kernel with the lattice's opacity against the kernel with the mixture at the
     # planet's own temperature (the former per-planet path), same radii otherwise
     sc, src, edges, nodes, t, lat, r0, g0 = _kernel_setup(scenario, 12, 3)
-    exact = spm.mixture_opacity(src, sc.mixing_ratios, edges, np.broadcast_to(t[:, None], (12, nodes.size)),
+    exact = mixture.mixture_opacity(src, sc.mixing_ratios, edges, np.broadcast_to(t[:, None], (12, nodes.size)),
                                 8, sc.haze_enhancement, sc.haze_slope, None,
                                 pressure_Pa=np.broadcast_to(nodes, (12, nodes.size)))
     floor = np.full(12, sc.cloud_top_pressure_Pa or 1e3 * sc.reference_pressure_Pa)
@@ -105,7 +108,7 @@ def test_single_power_law_matches_reference_formula():
     cont = 10 ** rng.uniform(-33, -30, (npl, nw))
     cia = 10 ** rng.uniform(-60, -56, (npl, nw))
     args = (T, mu, r0, p0, g0, floor, top)
-    ref, sref = spm.analytic_radius(line, cont, cia, *args)
+    ref, sref = analytic.analytic_radius(line, cont, cia, *args)
     got, sgot = ak.root_radius(np.log(line)[:, None], np.log([1e3]), np.log(cont), np.log(cia), *args)
     h = 1.380649e-23 * T / (mu * 1.66054e-27 * g0)
     assert np.array_equal(sref, sgot)
@@ -114,7 +117,7 @@ def test_single_power_law_matches_reference_formula():
 
 def test_same_answer_with_one_or_two_threads_and_any_chunk(monkeypatch):
     p = _planets(30, seed=4)
-    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
+    edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
     monkeypatch.setenv("SNRKIT_THREADS", "1")
     one = _spectrum(p, slice(None), edges, "h2-clear-solar")["transit_depth_ppm"].values
     monkeypatch.setenv("SNRKIT_THREADS", "2")
@@ -173,8 +176,8 @@ def test_range_note_on_every_call():
     from snrkit.atmosphere.opacity import OpacityRangeWarning
     from snrkit.atmosphere.scenarios import load_scenario
     sc = load_scenario("h2-clear-solar")
-    src = spm._default_opacity_source()
-    edges = spm.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
+    src = mixture._default_opacity_source()
+    edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
     for _ in range(2):
         with pytest.warns(OpacityRangeWarning, match="3500"):
             ak.lattice_opacity(src, sc.mixing_ratios, (0.0, -4.0), edges, 8, None, None,

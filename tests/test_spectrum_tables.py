@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 import astropy.units as u
 
-from snrkit.atmosphere.spectrum import transmission_spectrum, wavelength_bin_edges
+from snrkit.atmosphere.spectrum import transmission_spectrum
+from snrkit.atmosphere.mixture import wavelength_bin_edges
 from snrkit.atmosphere.scenarios import preset_names
 
 # hot giant, warm sub-Neptune, temperate rocky planet (invented values)
@@ -135,8 +136,7 @@ def test_preset_feature_scale_heights_match_the_model():
     import tomllib
     from snrkit.io.tables import data_path
     from snrkit.atmosphere.scenarios import load_scenario
-    from snrkit.atmosphere.spectrum import (feature_scale_heights, FEATURE_REFERENCE_PLANETS,
-                                            FEATURE_WAVELENGTH_RANGE_UM, FEATURE_RESOLUTION)
+    from snrkit.atmosphere.features import feature_scale_heights, FEATURE_REFERENCE_PLANETS, FEATURE_WAVELENGTH_RANGE_UM, FEATURE_RESOLUTION
     for name in preset_names():
         sc = load_scenario(name)
         ref = tomllib.loads(data_path("scenarios", f"{name}.toml").read_text())[

@@ -19,6 +19,7 @@ from hypothesis import given, settings, strategies as st
 
 from snrkit.atmosphere import opacity as op
 from snrkit.atmosphere import spectrum as S
+from snrkit.atmosphere import mixture
 from snrkit.atmosphere.user_opacity import (UserOpacitySource, read_cross_sections,
                                             sorted_k_distribution)
 from snrkit.errors import InputError, UnitMismatchError, UnknownKeyError
@@ -137,7 +138,7 @@ def test_constant_cross_section_gives_constant_k(tmp_path):
     p = _write_csv(tmp_path / "c.csv", "wavenumber [cm-1],cross_section [cm2]",
                    [nu, np.full(nu.size, 2.5e-21)])
     src = UserOpacitySource({"CH4": p})
-    edges = S.wavelength_bin_edges(300, 1.5e-6, 3.2e-6)
+    edges = mixture.wavelength_bin_edges(300, 1.5e-6, 3.2e-6)
     for n_g in (1, 4, 8):
         k = src.species_k_coefficients("CH4", edges, [300.0, 900.0], n_g=n_g)
         assert k.shape == (2, edges.size - 1, n_g)
@@ -346,7 +347,7 @@ def test_power_law_table_gives_slope_alpha_scale_heights(solver, alpha):
     lam = np.geomspace(0.9, 3.2, 4000)
     t = Table({"wavelength": lam * u.um, "cross_section": 1e-21 * lam ** alpha * u.cm**2})
     src = UserOpacitySource({"PH3": t})
-    edges = S.wavelength_bin_edges(30, 1.0e-6, 3.0e-6)
+    edges = mixture.wavelength_bin_edges(30, 1.0e-6, 3.0e-6)
     ds = S.transmission_spectrum({"mixing_ratios": {"He": 0.15, "PH3": 1e-4}, "fill_gas": "H2",
                                   "reference_pressure": 1.0},
                                  R_JUP * u.m, R_SUN * u.m, gravity=25.0,

@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 
 from snrkit.atmosphere import spectrum as S
+from snrkit.atmosphere import mixture
 from snrkit.atmosphere.profiles import TabulatedProfile, hydrostatic_radius, IsothermalProfile
 from snrkit.atmosphere.scenarios import load_scenario
 from snrkit.errors import InputError, UnknownKeyError
@@ -146,15 +147,15 @@ def test_tabulated_profile_interpolates_and_extends_isothermally():
 
 def test_per_level_mixing_ratios_reach_lines_rayleigh_and_cia():
     # one call with per-level arrays equals one call per level with scalars
-    src = S._default_opacity_source()
-    edges = S.wavelength_bin_edges(20, 0.6e-6, 8e-6)
+    src = mixture._default_opacity_source()
+    edges = mixture.wavelength_bin_edges(20, 0.6e-6, 8e-6)
     temp = np.array([[280.0, 220.0, 220.0]])
     pres = np.array([[1e5, 1e4, 1e2]])
     x = {"H2O": np.array([[3e-3, 4e-6, 4e-6]]), "O2": np.array([[0.21, 0.21, 0.21]]),
          "N2": np.array([[0.787, 0.79, 0.79]])}
-    many = S.mixture_opacity(src, x, edges, temp, 4, pressure_Pa=pres)
+    many = mixture.mixture_opacity(src, x, edges, temp, 4, pressure_Pa=pres)
     for j in range(3):
-        one = S.mixture_opacity(src, {k: float(v[0, j]) for k, v in x.items()}, edges,
+        one = mixture.mixture_opacity(src, {k: float(v[0, j]) for k, v in x.items()}, edges,
                                 temp[:, j:j + 1], 4, pressure_Pa=pres[:, j:j + 1])
         for key in ("line", "continuum", "cia"):
             np.testing.assert_allclose(many[key][:, j], one[key][:, 0], rtol=1e-9, err_msg=key)

@@ -356,7 +356,7 @@ def presets():
 
 def main():
     from snrkit.atmosphere.scenarios import load_scenario
-    from snrkit.atmosphere.spectrum import feature_scale_heights
+    from snrkit.atmosphere.features import feature_scale_heights
     out = Path(__file__).resolve().parents[1] / "scenarios"
     out.mkdir(exist_ok=True)
     for p in presets():

@@ -38,7 +38,7 @@ import numpy as np
 from ..constants import K_B, M_U
 # the reference solver's constants and floor function (spectrum imports this module
 # only inside functions, so there is no import cycle)
-from .spectrum import EULER_GAMMA, _TAU_THIN, _f_plane
+from .analytic import EULER_GAMMA, _TAU_THIN, _f_plane
 
 __all__ = ["root_radius", "lattice_opacity", "lattice_bracket", "LATTICE_NODES_PER_OCTAVE",
            "CHUNK_ELEMENTS", "clear_lattice_cache", "lattice_temperatures", "worker_threads",
@@ -119,7 +119,7 @@ def _composition_key(mixing_ratios, haze, edges, n_g, exclude, p_nodes):
 
 def _build_nodes(source, mixing_ratios, haze, edges, n_g, exclude, p_nodes, ks):
     """ln k (node, n_p, nw, ng), ln continuum (node, nw), ln CIA (node, nw), g weights."""
-    from .spectrum import mixture_opacity
+    from .mixture import mixture_opacity
     tk = _node_t(ks)
     n_p = 1 if p_nodes is None else np.size(p_nodes)
     tt = np.broadcast_to(tk[:, None], (tk.size, n_p))

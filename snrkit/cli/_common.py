@@ -4,8 +4,6 @@ import json
 import math
 import sys
 
-import numpy as np
-
 __all__ = ["add_system_args", "print_json", "jsonable", "print_notes", "check_output_path", "one_mode",
            "check_writable", "write_table", "TABLE_FORMATS"]
 
@@ -22,6 +20,7 @@ def jsonable(x):
 
     NaN and infinities become ``None`` (JSON has no NaN).
     """
+    import numpy as np
     from astropy import units as u
     if isinstance(x, u.Quantity):
         x = x.value

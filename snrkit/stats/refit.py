@@ -49,7 +49,8 @@ UNCONSTRAINED = "unconstrained"
 
 
 def _pressure_range_bar(sc):
-    from ..atmosphere.spectrum import DEFAULT_TOP_PRESSURE_PA, DEEP_FLOOR_FACTOR
+    from ..atmosphere.spectrum import DEFAULT_TOP_PRESSURE_PA
+    from ..atmosphere.solve import DEEP_FLOOR_FACTOR
     top = DEFAULT_TOP_PRESSURE_PA / 1e5
     floor = (sc.surface_pressure_Pa if sc.surface_pressure_Pa is not None
              else DEEP_FLOOR_FACTOR * sc.reference_pressure_Pa) / 1e5
