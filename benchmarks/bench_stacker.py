@@ -21,8 +21,9 @@ from pathlib import Path
 
 import numpy as np
 
-from snrkit.stats import detect as dt
-from snrkit.stats.detect import stack_transits
+from snrkit.stats import stacker
+from snrkit.stats import probability
+from snrkit.stats.stacker import stack_transits
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 from stacker_reference import bisection_transits_needed, lambda_of_n  # noqa: E402
@@ -73,8 +74,8 @@ def search_against_bisection(truth, sigma1, floor, n_max, label):
     null = np.zeros_like(truth)
     kw = dict(alt=None, shape=None, null_templates=None, alt_templates=None, template_sigma=None,
               template_mean=None, null_scale=None)
-    target = float(dt.noncentrality_for_probability(0.5, 5.0, 1))
-    stk, one, lam_inf, _, _ = dt._stack_setup(truth, null, sigma1, floor, False, kw, n_max)
+    target = float(probability.noncentrality_for_probability(0.5, 5.0, 1))
+    stk, one, lam_inf, _, _ = stacker._stack_setup(truth, null, sigma1, floor, False, kw, n_max)
     old_lam = lambda_of_n(truth, null, sigma1, floor, False)
     goal = np.full(stk.batch, target)
     t_old = t_new = np.inf

@@ -14,7 +14,7 @@ form, as the stacker always has.
 
 import numpy as np
 
-from snrkit.stats import detect as dt
+from snrkit.stats import likelihood
 
 __all__ = ["bisection_transits_needed", "lambda_of_n", "reference_transits_needed",
            "scipy_noncentrality"]
@@ -72,9 +72,9 @@ class lambda_of_n:
 
     def __call__(self, n):
         n = np.asarray(n, dtype=np.float64)
-        sig = dt.noise_per_bin(self.s1, n[..., None], self.fl, self.floor_averages)
+        sig = likelihood.noise_per_bin(self.s1, n[..., None], self.fl, self.floor_averages)
         self.evaluations += int(np.prod(self.batch, dtype=np.int64))
-        return np.broadcast_to(dt.nested_delta_chi2(self.d, self.nul, sig, **self.kw), self.batch)
+        return np.broadcast_to(likelihood.nested_delta_chi2(self.d, self.nul, sig, **self.kw), self.batch)
 
 
 def reference_transits_needed(data, null, sigma1, *, floor=0.0, floor_averages=False, dof=1,

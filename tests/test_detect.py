@@ -5,7 +5,9 @@ import pytest
 from hypothesis import given, strategies as st
 from scipy import stats
 
-from snrkit.stats import detect as dt
+from snrkit.stats import stacker
+from snrkit.stats import likelihood
+from snrkit.stats import probability
 from snrkit.errors import InputError
 
 WL = np.linspace(0.6, 5.0, 40)
@@ -18,7 +20,7 @@ def feature(amp=100.0, centre=4.3, width=0.15):
 def test_wilks_one_dof_is_sqrt_delta_chi2():
     # Wilks 1938; Cowan et al. 2011, Eur. Phys. J. C 71, 1554, eq. 29: Z = sqrt(q) for 1 dof.
     q = np.array([0.0, 1.0, 4.0, 25.0, 400.0, 1e5])
-    np.testing.assert_allclose(dt.significance_from_delta_chi2(q, 1), np.sqrt(q), rtol=1e-12)
+    np.testing.assert_allclose(probability.significance_from_delta_chi2(q, 1), np.sqrt(q), rtol=1e-12)
 
 
 def test_goodness_of_fit_p_values_against_scipy_chi2():
@@ -27,7 +29,7 @@ def test_goodness_of_fit_p_values_against_scipy_chi2():
     for nu in (2, 10, 39, 150):
         x = np.array([0.5 * nu, nu, 2 * nu, 4 * nu + 30])
         p = stats.chi2.sf(x, nu)
-        z = dt.significance_from_delta_chi2(x, nu)
+        z = probability.significance_from_delta_chi2(x, nu)
         np.testing.assert_allclose(np.where(p < 0.5, stats.norm.sf(z), 0.5), np.minimum(p, 0.5),
                                    rtol=1e-8)
         assert np.all(z[p >= 0.5] == 0.0)
@@ -37,16 +39,16 @@ def test_far_tail_is_continuous():
     # The asymptotic tail (Abramowitz & Stegun 6.5.32) joins scipy's logsf where both exist.
     x = np.linspace(1200.0, 1390.0, 20)
     ref = stats.chi2.logsf(x, 20)
-    ours = dt._chi2_logsf(x, 20.0)
+    ours = probability._chi2_logsf(x, 20.0)
     np.testing.assert_allclose(ours, ref, rtol=1e-6)
-    big = dt.significance_from_delta_chi2(np.array([3000.0, 6000.0]), 20)
+    big = probability.significance_from_delta_chi2(np.array([3000.0, 6000.0]), 20)
     assert np.all(np.isfinite(big)) and big[1] > big[0] > 30
 
 
 def test_critical_value_round_trip():
     for nu in (1, 5, 30):
-        crit = dt.critical_delta_chi2(5.0, nu)
-        assert dt.significance_from_delta_chi2(crit, nu) == pytest.approx(5.0, rel=1e-8)
+        crit = probability.critical_delta_chi2(5.0, nu)
+        assert probability.significance_from_delta_chi2(crit, nu) == pytest.approx(5.0, rel=1e-8)
 
 
 def test_detection_probability_against_scipy_ncx2():
@@ -54,12 +56,12 @@ def test_detection_probability_against_scipy_ncx2():
     # one-sided tail Phi(-Z).
     for nu, lam in ((12, 80.0), (39, 150.0)):
         crit = stats.chi2.isf(stats.norm.sf(3.0), nu)
-        assert dt.detection_probability(lam, 3.0, nu) == pytest.approx(stats.ncx2.sf(crit, nu, lam))
+        assert probability.detection_probability(lam, 3.0, nu) == pytest.approx(stats.ncx2.sf(crit, nu, lam))
     # One-sided q0 (Cowan et al. 2011, Eur. Phys. J. C 71, 1554, Sec. 3.5): the fitted
     # amplitude is Gaussian, P = Phi(sqrt(l) - Z).  The two-sided noncentral chi^2 with
     # 1 dof adds the wrong-sign tail Phi(-sqrt(l) - Z): check the relation with scipy.
     for lam, z in ((20.0, 4.0), (30.0, 3.0), (1.0, 2.0)):
-        one = dt.detection_probability(lam, z, 1)
+        one = probability.detection_probability(lam, z, 1)
         two = stats.ncx2.sf(z ** 2, 1, lam)
         assert one == pytest.approx(two - stats.norm.cdf(-np.sqrt(lam) - z), rel=1e-9)
         assert one == pytest.approx(stats.norm.cdf(np.sqrt(lam) - z), rel=1e-12)
@@ -71,28 +73,28 @@ def test_noncentrality_for_probability_inverts():
     from scipy.optimize import brentq
     for p in (0.1, 0.5, 0.9):
         for nu in (1, 7):
-            lam = dt.noncentrality_for_probability(p, 5.0, nu)
-            assert dt.detection_probability(lam, 5.0, nu) == pytest.approx(p, abs=1e-8)
+            lam = probability.noncentrality_for_probability(p, 5.0, nu)
+            assert probability.detection_probability(lam, 5.0, nu) == pytest.approx(p, abs=1e-8)
         crit = stats.chi2.isf(stats.norm.sf(5.0), 7)
         ref = brentq(lambda x: stats.ncx2.sf(crit, 7, x) - p, 1e-6, 1e4, xtol=1e-12)
-        assert float(dt.noncentrality_for_probability(p, 5.0, 7)) == pytest.approx(ref, rel=1e-7)
+        assert float(probability.noncentrality_for_probability(p, 5.0, 7)) == pytest.approx(ref, rel=1e-7)
     # 1 dof at P = 1/2 is exactly Z^2: the median of q0 is the Asimov value.
-    assert float(dt.noncentrality_for_probability(0.5, 5.0, 1)) == pytest.approx(25.0, rel=1e-12)
+    assert float(probability.noncentrality_for_probability(0.5, 5.0, 1)) == pytest.approx(25.0, rel=1e-12)
 
 
 def test_profiled_offset_matches_mean_subtraction():
     # Profiling a constant offset with equal weights = chi^2 about the mean.
     r = feature()
-    got = dt.profiled_delta_chi2(r, 30.0)
+    got = likelihood.profiled_delta_chi2(r, 30.0)
     assert got == pytest.approx(np.sum((r - r.mean()) ** 2) / 30.0 ** 2, rel=1e-12)
     # A constant difference is absorbed entirely by the offset.
-    assert dt.profiled_delta_chi2(np.full(40, 55.0), 10.0) == pytest.approx(0.0, abs=1e-9)
+    assert likelihood.profiled_delta_chi2(np.full(40, 55.0), 10.0) == pytest.approx(0.0, abs=1e-9)
     # A template identical to the residual absorbs it.
-    assert dt.profiled_delta_chi2(r, 10.0, templates=r[:, None]) == pytest.approx(0.0, abs=1e-9)
+    assert likelihood.profiled_delta_chi2(r, 10.0, templates=r[:, None]) == pytest.approx(0.0, abs=1e-9)
 
 
 def test_white_noise_stacking_follows_sqrt_n():
-    res = dt.stack_transits(feature(), np.zeros_like(WL), 80.0, sigma=5.0, n_max=500)
+    res = stacker.stack_transits(feature(), np.zeros_like(WL), 80.0, sigma=5.0, n_max=500)
     z = res["curve_significance"]
     n = res["curve_transits"]
     np.testing.assert_allclose(z, z[0] * np.sqrt(n), rtol=1e-10)
@@ -105,7 +107,7 @@ def test_white_noise_stacking_follows_sqrt_n():
 def test_non_averaging_floor_saturates_at_analytic_limit():
     r = feature()
     floor = 15.0
-    res = dt.stack_transits(r, np.zeros_like(WL), 80.0, floor=floor, sigma=5.0,
+    res = stacker.stack_transits(r, np.zeros_like(WL), 80.0, floor=floor, sigma=5.0,
                             n_max=10_000, n_curve=[1, 10, 100, 1000, 10_000, 100_000])
     # As N -> infinity sigma_N -> floor: lambda_inf = sum (r - mean r)^2 / floor^2.
     lam_inf = np.sum((r - r.mean()) ** 2) / floor ** 2
@@ -113,7 +115,7 @@ def test_non_averaging_floor_saturates_at_analytic_limit():
     assert res["curve_significance"][-1] == pytest.approx(np.sqrt(lam_inf), rel=1e-3)
     assert np.all(np.diff(res["curve_significance"]) > 0)
     # A target above the limit is not reachable and the floor is named.
-    res2 = dt.stack_transits(r, np.zeros_like(WL), 80.0, floor=floor,
+    res2 = stacker.stack_transits(r, np.zeros_like(WL), 80.0, floor=floor,
                              sigma=float(np.sqrt(lam_inf)) + 0.5, n_max=10_000)
     assert not res2["reachable"] and res2["limiting_term"] == "noise floor"
     assert int(res2["transits_needed"]) == 0
@@ -121,34 +123,34 @@ def test_non_averaging_floor_saturates_at_analytic_limit():
 
 def test_averaging_floor_acts_like_extra_white_noise():
     r = feature()
-    a = dt.stack_transits(r, 0 * r, 80.0, floor=60.0, floor_averages=True, sigma=5.0)
-    b = dt.stack_transits(r, 0 * r, 100.0, sigma=5.0)     # sqrt(80^2 + 60^2) = 100
+    a = stacker.stack_transits(r, 0 * r, 80.0, floor=60.0, floor_averages=True, sigma=5.0)
+    b = stacker.stack_transits(r, 0 * r, 100.0, sigma=5.0)     # sqrt(80^2 + 60^2) = 100
     assert int(a["transits_needed"]) == int(b["transits_needed"])
 
 
 def test_transit_limit_named():
-    res = dt.stack_transits(feature(5.0), np.zeros_like(WL), 200.0, sigma=5.0, n_max=10)
+    res = stacker.stack_transits(feature(5.0), np.zeros_like(WL), 200.0, sigma=5.0, n_max=10)
     assert not res["reachable"] and res["limiting_term"] == "transit limit"
 
 
 def test_no_signal_named():
-    res = dt.stack_transits(np.full(40, 3.0), np.zeros(40), 50.0, sigma=3.0, n_max=10)
+    res = stacker.stack_transits(np.full(40, 3.0), np.zeros(40), 50.0, sigma=3.0, n_max=10)
     assert res["limiting_term"] == "no signal" and not res["reachable"]
 
 
 def test_contamination_template_can_mask_a_feature():
     r = feature()
-    res = dt.stack_transits(r, 0 * r, 50.0, sigma=5.0, n_max=50, templates=(0.98 * r)[:, None])
+    res = stacker.stack_transits(r, 0 * r, 50.0, sigma=5.0, n_max=50, templates=(0.98 * r)[:, None])
     assert not res["reachable"] and res["limiting_term"] == "stellar contamination"
 
 
 def test_bad_targets():
     for bad in (0.0, -1.0, np.nan):
         with pytest.raises(InputError):
-            dt.stack_transits(feature(), 0 * WL, 50.0, sigma=bad)
+            stacker.stack_transits(feature(), 0 * WL, 50.0, sigma=bad)
     for bad in (0.0, 1.0, 1.5):
         with pytest.raises(InputError):
-            dt.stack_transits(feature(), 0 * WL, 50.0, probabilities=(bad,))
+            stacker.stack_transits(feature(), 0 * WL, 50.0, probabilities=(bad,))
 
 
 def test_monte_carlo_flat_line_rejection_matches_ncx2():
@@ -158,16 +160,16 @@ def test_monte_carlo_flat_line_rejection_matches_ncx2():
     truth = feature(40.0)
     sig = 25.0
     nu = truth.size - 1
-    lam = dt.profiled_delta_chi2(truth, sig)
+    lam = likelihood.profiled_delta_chi2(truth, sig)
     data = truth + rng.normal(0.0, sig, size=(20000, truth.size))
     chi2 = np.sum((data - data.mean(axis=1, keepdims=True)) ** 2, axis=1) / sig ** 2
     target = 3.0
-    crit = dt.critical_delta_chi2(target, nu)
+    crit = probability.critical_delta_chi2(target, nu)
     frac = np.mean(chi2 > crit)
-    pred = dt.detection_probability(lam, target, nu)
+    pred = probability.detection_probability(lam, target, nu)
     assert frac == pytest.approx(pred, abs=4 * np.sqrt(pred * (1 - pred) / 20000) + 1e-3)
     # The median measured chi^2 is the noncentral median used as "expected".
-    assert np.median(chi2) == pytest.approx(float(dt.expected_statistic(lam, nu)), rel=0.02)
+    assert np.median(chi2) == pytest.approx(float(probability.expected_statistic(lam, nu)), rel=0.02)
 
 
 def test_monte_carlo_template_amplitude_matches_one_dof():
@@ -177,29 +179,29 @@ def test_monte_carlo_template_amplitude_matches_one_dof():
     rng = np.random.default_rng(7)
     r = feature(30.0)
     sig = 20.0
-    lam = float(dt.profiled_delta_chi2(r, sig))
+    lam = float(likelihood.profiled_delta_chi2(r, sig))
     x = np.column_stack([np.ones_like(r), r])
     data = r + rng.normal(0.0, sig, size=(20000, r.size))
     coef, *_ = np.linalg.lstsq(x, data.T, rcond=None)
     cov = np.linalg.inv(x.T @ x) * sig ** 2
     q0 = np.where(coef[1] > 0, coef[1] ** 2 / cov[1, 1], 0.0)   # one-sided q0
     frac = np.mean(q0 > 9.0)
-    pred = dt.detection_probability(lam, 3.0, 1)
+    pred = probability.detection_probability(lam, 3.0, 1)
     assert frac == pytest.approx(pred, abs=4 * np.sqrt(pred * (1 - pred) / 20000) + 1e-3)
 
 
 def test_contamination_factor_rackham():
     # Rackham, Apai & Giampapa 2018, ApJ 853, 122, eq. 2: epsilon = 1/(1 - f(1 - F_s/F_p)).
     # Limit of completely dark spots (contrast 0) covering 1%: epsilon = 1/0.99.
-    assert dt.contamination_factor(0.01, 0.0) == pytest.approx(1 / 0.99)
-    assert dt.contamination_factor(0.0, 0.3) == 1.0
-    assert dt.contamination_factor(0.0, 1.0, 0.1, 1.2) < 1.0   # faculae make depths shallower
+    assert stacker.contamination_factor(0.01, 0.0) == pytest.approx(1 / 0.99)
+    assert stacker.contamination_factor(0.0, 0.3) == 1.0
+    assert stacker.contamination_factor(0.0, 1.0, 0.1, 1.2) < 1.0   # faculae make depths shallower
 
 
 @given(st.floats(min_value=5.0, max_value=500.0), st.floats(min_value=1.0, max_value=200.0),
        st.integers(min_value=2, max_value=60))
 def test_more_transits_never_less_significant(amp, sig, n):
-    res = dt.stack_transits(feature(amp), 0 * WL, sig, floor=sig / 5, sigma=3.0, n_max=n,
+    res = stacker.stack_transits(feature(amp), 0 * WL, sig, floor=sig / 5, sigma=3.0, n_max=n,
                             n_curve=np.arange(1, n + 1))
     assert np.all(np.diff(res["curve_significance"]) >= -1e-12)
 
@@ -207,8 +209,8 @@ def test_more_transits_never_less_significant(amp, sig, n):
 @given(st.floats(min_value=1.0, max_value=1e4))
 def test_signal_scaling_quadratic(scale):
     # lambda scales as the square of the feature amplitude (white noise).
-    a = dt.profiled_delta_chi2(feature(), 40.0)
-    b = dt.profiled_delta_chi2(scale * feature(), 40.0)
+    a = likelihood.profiled_delta_chi2(feature(), 40.0)
+    b = likelihood.profiled_delta_chi2(scale * feature(), 40.0)
     assert b == pytest.approx(scale ** 2 * a, rel=1e-9)
 
 
@@ -218,8 +220,8 @@ def test_far_tail_branch_against_closed_forms():
     # Stegun 1964, 26.4.21).  At x = 1500 and 6000 the direct route underflows, so
     # this checks the asymptotic branch itself.
     x = np.array([1500.0, 6000.0])
-    np.testing.assert_allclose(dt._chi2_logsf(x, 2.0), -x / 2, rtol=1e-9)
-    np.testing.assert_allclose(dt._chi2_logsf(x, 4.0), -x / 2 + np.log1p(x / 2), rtol=1e-6)
+    np.testing.assert_allclose(probability._chi2_logsf(x, 2.0), -x / 2, rtol=1e-9)
+    np.testing.assert_allclose(probability._chi2_logsf(x, 4.0), -x / 2 + np.log1p(x / 2), rtol=1e-6)
 
 
 def test_expected_statistic_table_matches_scipy_median():
@@ -227,12 +229,12 @@ def test_expected_statistic_table_matches_scipy_median():
     lam = np.array([1e-3, 0.5, 7.0, 120.0, 3.3e4])
     for nu in (3, 40):
         ref = stats.ncx2.median(nu, lam)
-        np.testing.assert_allclose(dt.expected_statistic(lam, nu), ref, rtol=1e-4)
+        np.testing.assert_allclose(probability.expected_statistic(lam, nu), ref, rtol=1e-4)
         many = np.concatenate([lam, np.geomspace(1e-2, 1e5, 3000)])
-        got = dt.expected_statistic(many, nu)
+        got = probability.expected_statistic(many, nu)
         np.testing.assert_allclose(got[5::300], stats.ncx2.median(nu, many[5::300]), rtol=1e-4)
         # one engine: a value does not depend on the size of its batch
-        np.testing.assert_array_equal(got[:5], dt.expected_statistic(lam, nu))
+        np.testing.assert_array_equal(got[:5], probability.expected_statistic(lam, nu))
 
 
 def test_asymptote_is_per_planet():
@@ -240,7 +242,7 @@ def test_asymptote_is_per_planet():
     # asymptote infinite.
     r = np.stack([feature(), feature()])
     floor = np.stack([np.full(WL.size, 15.0), np.where(np.arange(WL.size) == 20, 0.0, 15.0)])
-    lam = dt.asymptotic_delta_chi2(r, floor)
+    lam = stacker.asymptotic_delta_chi2(r, floor)
     assert np.isfinite(lam[0]) and np.isinf(lam[1])
     assert lam[0] == pytest.approx(np.sum((r[0] - r[0].mean()) ** 2) / 15.0 ** 2, rel=1e-10)
 
@@ -251,11 +253,11 @@ def test_unused_bins_carry_no_weight():
     sig_nan = sig.copy()
     sig_nan[:5] = np.nan
     keep = np.arange(WL.size) >= 5
-    a = dt.profiled_delta_chi2(r, sig_nan)
-    b = dt.profiled_delta_chi2(r[keep], sig[keep])
+    a = likelihood.profiled_delta_chi2(r, sig_nan)
+    b = likelihood.profiled_delta_chi2(r[keep], sig[keep])
     assert a == pytest.approx(b, rel=1e-12)
     with pytest.raises(InputError):
-        dt.profiled_delta_chi2(r, np.zeros(WL.size))
+        likelihood.profiled_delta_chi2(r, np.zeros(WL.size))
 
 
 def test_transits_for_probability_against_monte_carlo():
@@ -265,7 +267,7 @@ def test_transits_for_probability_against_monte_carlo():
     rng = np.random.default_rng(99)
     r = feature(20.0)
     s1 = 60.0
-    res = dt.stack_transits(r, 0 * r, s1, sigma=3.0, probabilities=(0.9,), n_max=400)
+    res = stacker.stack_transits(r, 0 * r, s1, sigma=3.0, probabilities=(0.9,), n_max=400)
     n90 = int(res["transits_for_probability"][0.9])
     x = np.column_stack([np.ones_like(r), r])
 

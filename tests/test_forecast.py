@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 from snrkit.stats import forecast as fc
-from snrkit.stats import detect as dt
+from snrkit.stats import stacker
+from snrkit.stats import likelihood
 
 WL = np.linspace(1.0, 5.0, 60)
 SHAPE = np.exp(-0.5 * ((WL - 3.0) / 0.3) ** 2)
@@ -32,7 +33,7 @@ def test_fisher_and_detection_agree_for_an_amplitude():
     # The Asimov significance of a template equals A / sigma_A from the Fisher matrix.
     sig = np.full(WL.size, 30.0)
     truth = 80 * SHAPE
-    lam = dt.profiled_delta_chi2(truth, sig)
+    lam = likelihood.profiled_delta_chi2(truth, sig)
     out = fc.fisher_forecast(lambda p: p["A"] * 80 * SHAPE, {"A": (1.0, 0.01)}, sig, 1)
     assert 1.0 / out["errors"][0, 0] == pytest.approx(np.sqrt(lam), rel=1e-8)
 
@@ -57,7 +58,7 @@ def test_scale_draws_are_seeded_and_centred():
 def test_transits_distribution_brackets_the_nominal():
     truth = 60 * SHAPE
     sig = np.full(WL.size, 50.0)
-    nominal = int(dt.stack_transits(truth, 0 * truth, sig, sigma=5.0)["transits_needed"])
+    nominal = int(stacker.stack_transits(truth, 0 * truth, sig, sigma=5.0)["transits_needed"])
     draws = fc.feature_scale_draws(2.0, 0.1, 6.0, 1.5, 1000, np.random.default_rng(11))
     out = fc.transits_distribution(truth, 0 * truth, sig, draws, sigma=5.0)
     assert out["p16"][0] <= nominal <= out["p84"][0]

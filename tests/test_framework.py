@@ -22,7 +22,8 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from snrkit import Star, Planet, System
-from snrkit.stats import detect as dt
+from snrkit.stats import stacker
+from snrkit.stats import likelihood
 from snrkit.cli.entry import main
 from snrkit.io.systemfile import load_system
 from snrkit.io.tables import data_path
@@ -173,7 +174,7 @@ def test_coarse_bins_carry_no_more_information_than_fine_ones():
         w = 1 / sig[:m] ** 2
         coarse = (fine[:m] * w).reshape(-1, k).sum(1) / w.reshape(-1, k).sum(1)
         sig_c = 1 / np.sqrt(w.reshape(-1, k).sum(1))
-        assert dt.profiled_delta_chi2(coarse, sig_c) <= dt.profiled_delta_chi2(fine[:m], sig[:m]) * (1 + 1e-12)
+        assert likelihood.profiled_delta_chi2(coarse, sig_c) <= likelihood.profiled_delta_chi2(fine[:m], sig[:m]) * (1 + 1e-12)
 
 
 spectra = st.lists(st.floats(-200.0, 200.0), min_size=8, max_size=8)
@@ -188,8 +189,8 @@ def test_fitted_nuisance_never_raises_delta_chi2(truth, null, template, noise, p
     t, n0, tm = (np.array(x) for x in (truth, null, template))
     sig = np.full(8, noise)
     data = t + tm                                     # nuisance amplitude 1 (prior mean)
-    without = dt.nested_delta_chi2(data, n0 + tm, sig, alt=t + tm)   # nuisance known exactly
-    withn = dt.nested_delta_chi2(data, n0, sig, alt=t, null_templates=tm[:, None],
+    without = likelihood.nested_delta_chi2(data, n0 + tm, sig, alt=t + tm)   # nuisance known exactly
+    withn = likelihood.nested_delta_chi2(data, n0, sig, alt=t, null_templates=tm[:, None],
                                  alt_templates=tm[:, None], template_sigma=[prior],
                                  template_mean=[1.0])
     assert withn <= without * (1 + 1e-9) + 1e-9
@@ -201,7 +202,7 @@ def test_fitted_nuisance_never_raises_delta_chi2(truth, null, template, noise, p
 def test_more_transits_never_lower_delta_chi2(truth, white, floor, averages, prior):
     t = np.array(truth)
     tm = np.linspace(-1, 1, 8)[:, None] * 10.0
-    res = dt.stack_transits(t + tm[:, 0], 0 * t, white, floor=floor, floor_averages=averages,
+    res = stacker.stack_transits(t + tm[:, 0], 0 * t, white, floor=floor, floor_averages=averages,
                             shape=t, null_templates=tm, alt_templates=tm, template_sigma=[prior],
                             template_mean=[1.0], sigma=3.0, n_max=300, n_curve=np.arange(1, 301, 7))
     assert np.all(np.diff(res["curve_significance"]) >= -1e-9)
@@ -213,7 +214,7 @@ def test_no_floor_one_dof_is_sqrt_n_delta_chi2(truth, white, n):
     # Z(N) = sqrt(N Delta chi^2_1) exactly without a floor (white noise averages as 1/N
     # in variance; Z = sqrt(q0), C11 Sec. 3.5).
     t = np.array(truth)
-    res = dt.stack_transits(t, 0 * t, white, sigma=3.0, n_max=500, n_curve=[n])
+    res = stacker.stack_transits(t, 0 * t, white, sigma=3.0, n_max=500, n_curve=[n])
     lam1 = float(res["delta_chi2_per_transit"])
     assert float(res["curve_significance"][-1]) == pytest.approx(np.sqrt(n * lam1), rel=1e-12,
                                                                  abs=1e-12)
@@ -227,7 +228,7 @@ def test_tiny_signal_on_a_deep_transit_is_not_called_no_signal():
     shape -= shape.mean()
     amp = np.sqrt(0.005 / np.sum(shape ** 2)) * 50.0
     data = 15000.0 + amp * shape
-    res = dt.stack_transits(data, np.full(1000, 15000.0), 50.0, sigma=3.0, n_max=5000)
+    res = stacker.stack_transits(data, np.full(1000, 15000.0), 50.0, sigma=3.0, n_max=5000)
     assert float(res["delta_chi2_per_transit"]) == pytest.approx(0.005, rel=1e-6)
     assert int(res["transits_needed"]) == 1800 and not bool(res["no_signal"])
 
@@ -239,5 +240,5 @@ def test_identical_models_report_no_signal():
     rec = quiet(transits_for_system, cedar, "cold6m-midir-lowres", "flat")["planets"][0]
     assert rec["status"] == "no_signal" and rec["significance_per_transit_sigma"] == 0.0
     assert rec["transits_needed"] is None and rec["limiting_term"] == "no signal"
-    res = dt.stack_transits(np.full(20, 7.0), np.zeros(20), 30.0, dof=19, sigma=3.0)
+    res = stacker.stack_transits(np.full(20, 7.0), np.zeros(20), 30.0, dof=19, sigma=3.0)
     assert float(res["significance_per_transit"]) == 0.0 and bool(res["no_signal"])

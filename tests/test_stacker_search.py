@@ -10,7 +10,8 @@ import numpy as np
 from hypothesis import given, strategies as st
 from scipy import special, stats
 
-from snrkit.stats import detect as dt
+from snrkit.stats import probability
+from snrkit.stats import stacker
 
 from stacker_reference import (bisection_transits_needed, reference_transits_needed,
                                scipy_noncentrality)
@@ -67,7 +68,7 @@ def test_secant_search_equals_bisection(seed, n_batch, floor_kind, floor_average
     rng = np.random.default_rng(seed + 1)
     dof = rng.integers(2, 30, n_batch) if many_dof else 1
     probs = (0.5, 0.9, 0.02)
-    res = dt.stack_transits(truth, null, white, floor=floor, floor_averages=floor_averages,
+    res = stacker.stack_transits(truth, null, white, floor=floor, floor_averages=floor_averages,
                             dof=dof, sigma=sigma, probabilities=probs, n_max=n_max, n_curve=[1],
                             **kw)
     for p in probs:
@@ -77,7 +78,7 @@ def test_secant_search_equals_bisection(seed, n_batch, floor_kind, floor_average
         np.testing.assert_array_equal(res["transits_for_probability"][p], ref)
         if p == 0.5:
             np.testing.assert_array_equal(res["transits_needed"], ref)
-    quick = dt.stack_needed(truth, null, white, floor=floor, floor_averages=floor_averages,
+    quick = stacker.stack_needed(truth, null, white, floor=floor, floor_averages=floor_averages,
                             dof=dof, sigma=sigma, n_max=n_max, **kw)
     np.testing.assert_array_equal(quick["transits_needed"], res["transits_needed"])
     np.testing.assert_array_equal(quick["delta_chi2_per_transit"], res["delta_chi2_per_transit"])
@@ -108,7 +109,7 @@ def test_public_search_equals_bisection_on_monotone_functions(seed, n_max, kind)
     top = lam(np.full(m, n_max))
     target = top * rng.uniform(0.0, 1.3, m)
     target[:3] = (0.0, top[3] * 2.0, lam(np.full(m, 1))[2])
-    got = dt.transits_needed(lam, target, n_max)
+    got = stacker.transits_needed(lam, target, n_max)
     np.testing.assert_array_equal(got, bisection_transits_needed(lam, target, n_max))
 
 
@@ -122,13 +123,13 @@ def test_secant_is_exact_when_floor_tracks_the_white_noise():
     # element against about log2(n_max) + 1 for bisection.
     truth, null, white, _, _ = _problem(7, 50, "none", "none", "flat", False)
     floor = 0.2 * white
-    res = dt.stack_needed(truth, null, white, floor=floor, sigma=5.0, n_max=10_000)
+    res = stacker.stack_needed(truth, null, white, floor=floor, sigma=5.0, n_max=10_000)
     lam1, lam_inf = res["delta_chi2_per_transit"], res["delta_chi2_asymptotic"]
     np.testing.assert_allclose(lam_inf, lam1 * 1.04 / 0.04, rtol=1e-9)
     reach = res["transits_needed"] > 1
     assert reach.sum() > 10                      # the check is not vacuous
     # count the evaluations of the search itself
-    stk, one, _, linear, _ = dt._stack_setup(truth, null, white, floor, False, dict(
+    stk, one, _, linear, _ = stacker._stack_setup(truth, null, white, floor, False, dict(
         alt=None, shape=None, null_templates=None, alt_templates=None, template_sigma=None,
         template_mean=None, null_scale=None), 10_000)
     assert not linear
@@ -153,10 +154,10 @@ def test_memoised_noncentral_quantities_against_scipy():
     z = np.array([3.0, 5.0, 5.0, 3.0, 5.0, 8.0])
     nu = np.array([1, 7, 7, 40, 1, 3])
     p = np.array([0.5, 0.9, 0.9, 0.1, 0.02, 0.5])
-    crit = dt.critical_delta_chi2(z, nu)
+    crit = probability.critical_delta_chi2(z, nu)
     ref_crit = np.where(nu == 1, z ** 2, stats.chi2.isf(stats.norm.sf(z), nu))
     np.testing.assert_allclose(crit, ref_crit, rtol=1e-10)
-    lam = dt.noncentrality_for_probability(p, z, nu)
+    lam = probability.noncentrality_for_probability(p, z, nu)
     many = nu > 1
     np.testing.assert_allclose(stats.ncx2.sf(crit[many], nu[many], lam[many]), p[many],
                                rtol=1e-7)
@@ -170,9 +171,9 @@ def test_memoised_noncentral_quantities_against_scipy():
     np.testing.assert_array_equal(
         crit, [zi ** 2 if ni == 1 else special.chdtri(ni, special.ndtr(-zi)) for zi, ni in zip(z, nu)])
     # and each distinct tuple is computed once: a repeat is a cache hit
-    before = dt._noncentrality_one.cache_info()
-    again = dt.noncentrality_for_probability(p, z, nu)
-    after = dt._noncentrality_one.cache_info()
+    before = probability._noncentrality_one.cache_info()
+    again = probability.noncentrality_for_probability(p, z, nu)
+    after = probability._noncentrality_one.cache_info()
     np.testing.assert_array_equal(again, lam)
     assert after.misses == before.misses and after.hits - before.hits == 5   # 5 distinct tuples
 
@@ -182,7 +183,7 @@ def test_median_of_repeated_values_and_limits():
     # values give equal results, the limits are the central median (lambda -> 0) and
     # lambda + dof (lambda -> infinity), and the table stays within 1e-4 of scipy.
     lam = np.array([0.0, 3.0, 3.0, 50.0, 0.0, 50.0, 1e9])
-    got = dt.expected_statistic(lam, 9)
+    got = probability.expected_statistic(lam, 9)
     ref = np.where(lam < 1e-4, stats.chi2.median(9),
                    np.where(lam > 1e8, lam + 9, stats.ncx2.median(9, np.clip(lam, 1e-4, None))))
     np.testing.assert_allclose(got, ref, rtol=1e-4)
@@ -195,9 +196,9 @@ def test_answer_does_not_depend_on_the_chunk_size(monkeypatch):
     truth, null, white, floor, kw = _problem(11, 40, "per-bin", "finite", "species", True)
     args = dict(floor=floor, sigma=3.0, probabilities=(0.5, 0.9), n_max=3000,
                 n_curve=[1, 5, 50], **kw)
-    whole = dt.stack_transits(truth, null, white, **args)
-    monkeypatch.setattr(dt, "_CHUNK_VALUES", 1)
-    rows = dt.stack_transits(truth, null, white, **args)
+    whole = stacker.stack_transits(truth, null, white, **args)
+    monkeypatch.setattr(stacker, "_CHUNK_VALUES", 1)
+    rows = stacker.stack_transits(truth, null, white, **args)
     assert np.any(whole["transits_needed"] > 1)
     for key in ("transits_needed", "delta_chi2_per_transit", "delta_chi2_asymptotic",
                 "curve_significance", "limiting_term"):
@@ -210,10 +211,10 @@ def test_answer_does_not_depend_on_the_chunk_size(monkeypatch):
 def test_empty_batches_and_grids():
     # No elements, or no bins (nothing to detect: "no signal"), go through the chunked
     # evaluation without error.
-    r = dt.stack_transits(np.ones((0, 5)), np.zeros((0, 5)), np.ones((0, 5)), floor=1.0,
+    r = stacker.stack_transits(np.ones((0, 5)), np.zeros((0, 5)), np.ones((0, 5)), floor=1.0,
                           n_curve=[1, 2])
     assert r["transits_needed"].shape == (0,)
-    r = dt.stack_transits(np.ones((3, 0)), np.zeros((3, 0)), np.ones((3, 0)), floor=1.0,
+    r = stacker.stack_transits(np.ones((3, 0)), np.zeros((3, 0)), np.ones((3, 0)), floor=1.0,
                           n_curve=[1, 2])
     np.testing.assert_array_equal(r["transits_needed"], [0, 0, 0])
     assert list(r["limiting_term"]) == ["no signal"] * 3
