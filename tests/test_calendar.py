@@ -14,9 +14,15 @@ import pytest
 import astropy.units as u
 from hypothesis import given, settings, strategies as st
 
-from snrkit.planning import calendar as cal
-from snrkit.planning.calendar import (GroundSite, SpaceObservatory, offline_time, transit_windows,
-                             predict_transits, bjd_to_utc, epoch_grid, timing_sigma)
+from snrkit.planning import observatories
+from snrkit.planning import windows
+from snrkit.planning import ephemeris
+from snrkit.planning import observability
+from snrkit.planning import timescales
+from snrkit.planning.observatories import GroundSite, SpaceObservatory
+from snrkit.planning.timescales import offline_time, bjd_to_utc
+from snrkit.planning.windows import transit_windows
+from snrkit.planning.ephemeris import predict_transits, epoch_grid, timing_sigma
 from snrkit.constants import DAY, AU, C_LIGHT
 from snrkit.errors import InputError
 from snrkit.io.systemfile import load_system, read_system_text
@@ -197,7 +203,7 @@ def test_light_time_sign_and_size():
     # Round trip: the observer time plus astropy's correction at that time
     # gives back the BJD (fixed-point solution converged)
     from astropy.coordinates import SkyCoord, EarthLocation
-    obs, delta = cal.observer_times(np.array([bjd]), np.radians([anti_ra]), np.radians([anti_dec]))
+    obs, delta = timescales.observer_times(np.array([bjd]), np.radians([anti_ra]), np.radians([anti_dec]))
     with offline_time():
         t = Time(obs, format="jd", scale="tdb")
         back = t.light_travel_time(SkyCoord(anti_ra * u.deg, anti_dec * u.deg),
@@ -219,7 +225,7 @@ def test_solar_elongation_against_get_sun():
     jd = 2460000.5 + rng.uniform(0, 2000, 25)
     ra = rng.uniform(0, 360, 25)
     dec = np.degrees(np.arcsin(rng.uniform(-1, 1, 25)))
-    mine = cal.elongation_deg(cal._sun_geocentric(jd), cal._target_unit_vectors(
+    mine = observability.elongation_deg(observability._sun_geocentric(jd), observability._target_unit_vectors(
         np.radians(ra), np.radians(dec)))
     with offline_time():
         sun = get_sun(Time(jd, format="jd", scale="tdb"))
@@ -255,7 +261,7 @@ def test_sun_and_target_altitude_against_altaz():
     from astropy.time import Time
     from astropy.coordinates import AltAz, SkyCoord, get_sun
     jd = 2461000.5 + np.linspace(0.0, 3.0, 37)          # every 2 h over three days
-    sun_alt, tgt_alt = cal.altitudes_deg(SITE, jd, np.radians(75.40), np.radians(-33.10))
+    sun_alt, tgt_alt = observability.altitudes_deg(SITE, jd, np.radians(75.40), np.radians(-33.10))
     with offline_time():
         t = Time(jd, format="jd", scale="tdb")
         frame = AltAz(obstime=t, location=SITE.location(), pressure=0 * u.hPa)
@@ -353,12 +359,12 @@ def test_missing_sky_position():
             transit_windows(system, "2026-01-01", "2026-02-01", observatory=obs)
         assert "star.right_ascension" in str(exc.value)
     # No constraint: still a calendar, light time not removed, windows widened
-    with pytest.warns(cal.CalendarWarning, match="no sky position"):
+    with pytest.warns(ephemeris.CalendarWarning, match="no sky position"):
         tab = transit_windows(system, "2026-01-01", "2026-02-01", observatory=None)
     t14_h = system.derived_arrays()["t14_s"][0] / 3600
     sig_h = np.asarray(tab["sigma_minutes"]) / 60
     np.testing.assert_allclose(tab["duration_hours"],
-                               2 * t14_h + 6 * sig_h + 2 * cal.MAX_LIGHT_TIME_S / 3600)
+                               2 * t14_h + 6 * sig_h + 2 * windows.MAX_LIGHT_TIME_S / 3600)
     assert np.all(tab["light_time_s"] == 0) and np.all(tab["observable"])
 
 
@@ -366,7 +372,7 @@ def test_missing_uncertainties_warn():
     text = NO_POS.replace('transit_midtime_uncertainty = "1 min"\n', "") + \
         "\n"
     system = read_system_text(text.replace("[star]", "[star]\nright_ascension = 10\ndeclination = 20"))
-    with pytest.warns(cal.CalendarWarning, match="taken as 0"):
+    with pytest.warns(ephemeris.CalendarWarning, match="taken as 0"):
         tab = transit_windows(system, "2026-01-01", "2026-01-10")
     # sigma_T0 taken as 0, sigma_P = 3 s kept: sigma_n = |n| 3 s
     np.testing.assert_allclose(tab["sigma_minutes"] * 60, np.abs(tab["epoch"]) * 3.0)
@@ -405,9 +411,9 @@ def test_bad_elongation():
     with pytest.raises(InputError, match="elongation"):
         SpaceObservatory(elongation=(120, 90))
     with pytest.raises(InputError, match="elongation"):
-        cal.parse_observatory("space", elongation="10,200")
+        observatories.parse_observatory("space", elongation="10,200")
     with pytest.raises(InputError):
-        cal.parse_observatory("site:10,20", elongation="80,120")
+        observatories.parse_observatory("site:10,20", elongation="80,120")
 
 
 # --------------------------------------------------------------------- command line

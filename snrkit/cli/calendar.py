@@ -98,7 +98,8 @@ def _write_table(table, path):
 
 def run(args):
     from ..io.systemfile import load_system
-    from ..planning.calendar import parse_observatory, transit_windows, plot_timeline
+    from ..planning.calendar import parse_observatory, transit_windows
+    from ..output.timeline import plot_timeline
     from ..errors import InputError
     from pathlib import Path
     if args.plot and Path(args.plot).suffix.lower() not in (".png", ".pdf", ".svg"):

@@ -71,7 +71,7 @@ def run(args):
     if args.out and chosen_table is not None:
         write_table(chosen_table, args.out)
     if args.plot and chosen_table is not None:
-        from ..planning.calendar import plot_timeline
+        from ..output.timeline import plot_timeline
         plot_timeline(chosen_table, args.plot, title="programme windows (planning estimate)")
     summary = {"hours_total": total, "longest_span_years": max(spans) if spans else None,
                "planets": len(planets),
