@@ -14,7 +14,9 @@ import warnings
 
 import numpy as np
 
-from snrkit.bodies.system import Star, Planet, System
+from snrkit.bodies.star import Star
+from snrkit.bodies.planet import Planet
+from snrkit.bodies.system import System
 
 
 def make_catalogue(n, seed=1):

@@ -12,8 +12,8 @@ __all__ = ["__version__", "Star", "Planet", "System", "load_system",
            "mean_molecular_weight"]
 
 _LAZY = {
-    "Star": "snrkit.bodies.system",
-    "Planet": "snrkit.bodies.system",
+    "Star": "snrkit.bodies.star",
+    "Planet": "snrkit.bodies.planet",
     "System": "snrkit.bodies.system",
     "load_system": "snrkit.io.systemfile",
     "mean_molecular_weight": "snrkit.atmosphere.composition",

@@ -14,7 +14,9 @@ from hypothesis import given, settings, strategies as st
 from snrkit.planning.catalog import (read_catalogue, catalogue_from_table, load_mapping, DEFAULT_COLUMNS,
                             FIELDS, FLAG_COLUMNS, STATUS_CODES)
 from snrkit.errors import InputError, UnitMismatchError, UnknownKeyError, GrazingTransitWarning
-from snrkit.bodies.system import Star, Planet, System
+from snrkit.bodies.star import Star
+from snrkit.bodies.planet import Planet
+from snrkit.bodies.system import System
 from snrkit.io.tables import data_path
 
 DEMO = data_path("demo", "catalogue.ecsv")

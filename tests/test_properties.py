@@ -7,7 +7,9 @@ from hypothesis import given, strategies as st, assume
 
 from snrkit.bodies import metrics as met, geometry as geo
 from snrkit import constants as C
-from snrkit.bodies.system import Star, Planet, System
+from snrkit.bodies.star import Star
+from snrkit.bodies.planet import Planet
+from snrkit.bodies.system import System
 
 pos = st.floats(min_value=1e-2, max_value=1e4, allow_nan=False)
 temps = st.floats(min_value=50.0, max_value=4000.0)

@@ -14,7 +14,9 @@ from snrkit import constants as C
 from snrkit.bodies import geometry as geo
 from snrkit.bodies import metrics as met
 from snrkit.atmosphere.composition import mean_molecular_weight
-from snrkit.bodies.system import Star, Planet, System
+from snrkit.bodies.star import Star
+from snrkit.bodies.planet import Planet
+from snrkit.bodies.system import System
 
 
 def test_iau_2015_nominal_values():

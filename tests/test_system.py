@@ -8,7 +8,9 @@ import astropy.units as u
 
 from snrkit.errors import (InputError, NoTransitError, GrazingTransitWarning,
                            UnitMismatchError)
-from snrkit.bodies.system import Star, Planet, System
+from snrkit.bodies.star import Star
+from snrkit.bodies.planet import Planet
+from snrkit.bodies.system import System
 from snrkit import constants as C
 
 

@@ -9,7 +9,8 @@ from ..errors import InputError
 from .mixture import wavelength_bin_edges
 from .spectrum import transmission_spectrum
 
-__all__ = ["FEATURE_REFERENCE_PLANETS", "FEATURE_WAVELENGTH_RANGE_UM", "FEATURE_RESOLUTION", "band_amplitude_scale_heights", "feature_scale_heights"]
+__all__ = ["FEATURE_REFERENCE_PLANETS", "FEATURE_WAVELENGTH_RANGE_UM", "FEATURE_RESOLUTION",
+           "band_amplitude_scale_heights", "feature_scale_heights"]
 
 
 #: Invented generic reference planets on which preset band amplitudes are computed.

@@ -43,6 +43,7 @@ __all__ = ["transmission_spectrum", "SOLVERS", "DEFAULT_TOP_PRESSURE_PA"]
 DEFAULT_TOP_PRESSURE_PA = 1e-6
 SOLVERS = ("analytic", "layers")
 
+
 def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mass=None,
                           gravity=None, equilibrium_temperature=None, semi_major_axis=None,
                           wavelength_edges=None, resolution=100, solver="analytic",

@@ -147,7 +147,7 @@ def main(argv=None):
     import contextlib
     unusual = contextlib.nullcontext()
     if getattr(args, "allow_unusual", False):       # system.py only when asked for
-        from ..bodies.system import allow_unusual
+        from ..bodies.limits import allow_unusual
         unusual = allow_unusual()
     with warnings.catch_warnings(), np.errstate(all="ignore"), _signals_raise(), unusual:
         # snrkit's own warnings are messages for the user: always print them

@@ -44,7 +44,10 @@ import numpy as np
 from ..errors import InputError, UnknownKeyError
 from ..units import parse_number, scalar_si
 from .tomlfile import read_toml, loads_toml
-from ..bodies.system import Star, Planet, System, BANDS
+from ..bodies.limits import BANDS
+from ..bodies.planet import Planet
+from ..bodies.star import Star
+from ..bodies.system import System
 
 __all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS", "OBSERVATION_KEYS", "TOP_KEYS",
            "OVERHEAD_MAX_HOURS"]
@@ -86,6 +89,7 @@ PLANET_KEYS = {
     "atmosphere": (None, "table"),
     "observation": (None, "table"),
 }
+
 
 def _atmosphere_keys():
     """Keys of a planet's [planet.atmosphere] table: the scenario keys.
@@ -283,7 +287,7 @@ def _system_from_doc(doc, source):
                     atmosphere_temperature=np.array(temps),
                     atmosphere_temperature_factor=np.array(factors),
                     atmospheres=atms, observations=obs, warn_kepler=True)
-    from ..bodies.system import check_plausible
+    from ..bodies.limits import check_plausible
     check_plausible(system)            # unusual values (often a unit mistake) refused
     return system
 

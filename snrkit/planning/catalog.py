@@ -143,7 +143,10 @@ from ..bodies import geometry as geo
 from ..bodies import metrics as met
 from ..constants import G, R_SUN, M_SUN, R_EARTH, M_EARTH, AU, DAY
 from ..errors import InputError, UnitMismatchError, UnknownKeyError, GrazingTransitWarning
-from ..bodies.system import Star, Planet, System, TEFF_RANGE_K, BANDS, LIMITS
+from ..bodies.limits import TEFF_RANGE_K, BANDS, LIMITS
+from ..bodies.planet import Planet
+from ..bodies.star import Star
+from ..bodies.system import System
 
 __all__ = ["read_catalogue", "catalogue_from_table", "load_mapping", "Catalogue",
            "FIELDS", "DEFAULT_COLUMNS", "STATUS_CODES", "FLAG_COLUMNS", "FORMATS"]
@@ -244,6 +247,7 @@ _ADDED = ("input_index", "status", "reason") + FLAG_COLUMNS
 
 
 # ----------------------------------------------------------------------------- mapping
+
 
 def _suggest(word, choices):
     close = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=0.5)
@@ -433,6 +437,7 @@ def _conversion(unit, col, field, spec):
 
 # ----------------------------------------------------------------------------- reading
 
+
 def _text_values(col):
     data = np.asarray(np.ma.getdata(col))
     mask = np.asarray(np.ma.getmaskarray(col), dtype=bool)
@@ -530,6 +535,7 @@ def read_catalogue(path, mapping=None, *, format=None):
 
 
 # ----------------------------------------------------------------------------- screening
+
 
 def _fmt(values):
     return np.char.mod("%.6g", np.asarray(values, dtype=np.float64))
@@ -812,6 +818,7 @@ def _values_table(vals, names):
 
 
 # ----------------------------------------------------------------------------- result
+
 
 class Catalogue:
     """A screened catalogue.
