@@ -95,7 +95,7 @@ def test_limits_command(capsys):
     # `snrkit limits` reports the helper's numbers (checked against the saturation
     # rule in test_photons_precision.py); the scan mode has no bright limit.
     from snrkit.cli.entry import main
-    from snrkit.photons.precision import limiting_magnitudes
+    from snrkit.photons.targets import limiting_magnitudes
     rc = main(["limits", "--mode", "cold6m-prism-lowres", "--mode", "space2.4m-grism-scan",
                "--teff", "3300", "--json"])
     assert rc == 0

@@ -12,8 +12,8 @@ from hypothesis import given, settings, strategies as st
 from snrkit.constants import H_PLANCK, C_LIGHT, HOUR
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.photons.instruments import parse_mode, mode_names, load_mode
-from snrkit.photons.precision import (transit_precision, limiting_magnitudes, SaturationWarning,
-                                      native_bin_edges, system_precision, TERMS)
+from snrkit.photons.precision import transit_precision, SaturationWarning, native_bin_edges, TERMS
+from snrkit.photons.targets import limiting_magnitudes, system_precision
 from snrkit.photons.sed import zero_points
 
 BASE = {

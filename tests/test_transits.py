@@ -298,7 +298,7 @@ def test_datasets_round_trip_through_netcdf(tmp_path):
     # the writer (a global "mode" attribute did, with the scipy engine, the one a
     # plain install has)
     import xarray as xr
-    from snrkit.photons.precision import system_precision
+    from snrkit.photons.targets import system_precision
     system = load_system(ALDER)
     grism = "cold6m-grism-2.4-5um"
     for name, ds in (("result", transits_for_system(system, grism, resolution=30)["dataset"]),

@@ -18,7 +18,7 @@ def add_parser(p):
 
 
 def run(args):
-    from ..photons.precision import limiting_magnitudes
+    from ..photons.targets import limiting_magnitudes
     rows = []
     for mode in args.mode:
         out = limiting_magnitudes(mode, args.teff, args.band, transit_duration=args.duration,

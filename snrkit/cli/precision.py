@@ -155,7 +155,7 @@ def plot_precision(ds, path):
 
 def run(args):
     from ..io.systemfile import load_system
-    from ..photons.precision import system_precision
+    from ..photons.targets import system_precision
     from ..errors import InputError
     if args.transits is not None:
         from ..units import parse_number

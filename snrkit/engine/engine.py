@@ -132,7 +132,7 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
         ``wl``; ``derived``; ``rp`` [R_earth], ``rs`` [R_sun]; ``spec_kw``;
         ``notes``; ``binning`` (a phrase for the outputs).
     """
-    from ..photons.precision import system_precision
+    from ..photons.targets import system_precision
     from ..errors import SnrkitWarning
     import warnings
     d = system.derived_arrays()
