@@ -10,13 +10,15 @@ import pytest
 
 from snrkit.atmosphere import kcache
 from snrkit.atmosphere import opacity
+from snrkit.atmosphere import malkmus
+from snrkit.atmosphere import bands
 
 
 @pytest.fixture
 def cache(tmp_path, monkeypatch):
     """An empty cache folder for the test, and empty in-memory caches around it."""
     monkeypatch.setenv(kcache.CACHE_ENV, str(tmp_path))
-    memo = (opacity._native_kdist, opacity._k_table_cached, opacity._quantile_table)
+    memo = (bands._native_kdist, opacity._k_table_cached, malkmus._quantile_table)
     for f in memo:
         f.cache_clear()
     yield tmp_path
@@ -107,10 +109,10 @@ def test_grid_entries_are_pruned_oldest_first(cache, monkeypatch):
 
 
 def test_cached_kdist_equals_a_fresh_build(cache):
-    first = opacity._native_kdist("CO", 1.0e3, 4)           # built and stored
-    opacity._native_kdist.cache_clear()
-    again = opacity._native_kdist("CO", 1.0e3, 4)           # read back from disk
-    fresh = opacity._molecular_native_quantiles("CO", 1.0e3, opacity._gl(4)[0])
+    first = bands._native_kdist("CO", 1.0e3, 4)           # built and stored
+    bands._native_kdist.cache_clear()
+    again = bands._native_kdist("CO", 1.0e3, 4)           # read back from disk
+    fresh = bands._molecular_native_quantiles("CO", 1.0e3, malkmus._gl(4)[0])
     np.testing.assert_array_equal(first, again)
     # ln k in float32: k to 1e-5 relative of a fresh build wherever it is not negligible
     big = fresh > 1e-60
@@ -119,17 +121,17 @@ def test_cached_kdist_equals_a_fresh_build(cache):
 
 
 def test_quantile_table_cached_bit_identical_and_rebuilt_when_broken(cache):
-    g = tuple(float(v) for v in opacity._gl(4)[0])
-    fresh = opacity._build_quantile_table(np.asarray(g))
-    first = opacity._quantile_table(g)                       # built and stored
+    g = tuple(float(v) for v in malkmus._gl(4)[0])
+    fresh = malkmus._build_quantile_table(np.asarray(g))
+    first = malkmus._quantile_table(g)                       # built and stored
     (path,) = cache.glob("quantiles-*.arr")
-    opacity._quantile_table.cache_clear()
-    again = opacity._quantile_table(g)                       # read back from disk
+    malkmus._quantile_table.cache_clear()
+    again = malkmus._quantile_table(g)                       # read back from disk
     assert first.tobytes() == again.tobytes() == fresh.tobytes()
     # truncated: detected, rebuilt identically and stored again
     path.write_bytes(path.read_bytes()[:100])
-    opacity._quantile_table.cache_clear()
-    rebuilt = opacity._quantile_table(g)
+    malkmus._quantile_table.cache_clear()
+    rebuilt = malkmus._quantile_table(g)
     assert rebuilt.tobytes() == fresh.tobytes() and path.stat().st_size > 1000
 
 
@@ -176,7 +178,7 @@ def test_spectra_identical_with_and_without_the_cache(cache):
               wavelength_edges=np.geomspace(1.0, 5.0, 41))
     built = transmission_spectrum("h2-clear-solar", [12.0], [1.0], **kw)   # empty cache
     assert list(cache.glob("ktab-*.arr"))
-    for f in (opacity._native_kdist, opacity._k_table_cached, opacity._quantile_table):
+    for f in (bands._native_kdist, opacity._k_table_cached, malkmus._quantile_table):
         f.cache_clear()
     read = transmission_spectrum("h2-clear-solar", [12.0], [1.0], **kw)    # from disk
     np.testing.assert_array_equal(built["transit_depth_ppm"].values,
