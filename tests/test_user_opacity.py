@@ -472,7 +472,7 @@ def test_fast_text_reader_equals_the_line_reader(tmp_path_factory, rows, cols, h
                                                   comments, seed):
     # np.loadtxt (the fast path for large files) and the line-by-line reader read the
     # same numbers, names and units from every well-formed text file
-    from snrkit.atmosphere import user_opacity as uo
+    from snrkit.atmosphere import cross_section_files
     rng = np.random.default_rng(seed)
     data = rng.uniform(-1e3, 1e3, (rows, cols)) * 10.0 ** rng.integers(-30, 5, (rows, cols))
     sep = ", " if commas else "  "
@@ -485,8 +485,8 @@ def test_fast_text_reader_equals_the_line_reader(tmp_path_factory, rows, cols, h
         lines.append(sep.join(repr(float(x)) for x in r) + ("  # note" if comments else ""))
     path = tmp_path_factory.mktemp("xs") / "table.txt"
     path.write_text("\n".join(lines) + "\n")
-    fast = uo._read_text_fast(path.read_text())
-    slow = uo._read_text_lines(path.read_text().splitlines(), path, "f")
+    fast = cross_section_files._read_text_fast(path.read_text())
+    slow = cross_section_files._read_text_lines(path.read_text().splitlines(), path, "f")
     assert fast is not None
     assert fast[0] == slow[0] and fast[1] == slow[1]
     for a, b in zip(fast[2], slow[2]):
@@ -494,8 +494,8 @@ def test_fast_text_reader_equals_the_line_reader(tmp_path_factory, rows, cols, h
 
 
 def test_malformed_text_still_names_its_line(tmp_path):
-    from snrkit.atmosphere import user_opacity as uo
+    from snrkit.atmosphere import cross_section_files
     path = tmp_path / "bad.txt"
     path.write_text("1.0 2.0\n3.0 x\n")
     with pytest.raises(InputError, match="line 2"):
-        uo._read_text(path, "f")
+        cross_section_files._read_text(path, "f")
