@@ -19,7 +19,10 @@ from ..errors import InputError, SnrkitError, SnrkitWarning, UnknownKeyError
 from ..io.tables import data_path, read_columns
 from .malkmus import _gl, malkmus_k_quantiles
 
-__all__ = ["MOLECULAR_SPECIES", "ATOMIC_SPECIES", "OPACITY_SPECIES", "NATIVE_RESOLUTION", "REFERENCE_PRESSURE_PA", "PRESSURE_RANGE_PA", "OpacityRangeWarning", "native_wavelength_edges", "opacity_provenance", "table_temperatures", "native_mean_cross_section"]
+__all__ = ["MOLECULAR_SPECIES", "ATOMIC_SPECIES", "OPACITY_SPECIES", "NATIVE_RESOLUTION",
+           "REFERENCE_PRESSURE_PA", "PRESSURE_RANGE_PA", "OpacityRangeWarning",
+           "native_wavelength_edges", "opacity_provenance", "table_temperatures",
+           "native_mean_cross_section"]
 
 
 #: Molecules with Malkmus band tables.

@@ -58,7 +58,8 @@ import astropy.units as u
 from ..errors import InputError, UnknownKeyError
 from ..units import to_si, check_range, as_float_array, parse_number, scalar_si
 
-__all__ = ["DEFAULT_FLOOR_REFERENCE_RESOLUTION", "Mode", "Curve", "load_mode", "mode_names", "list_modes", "parse_mode"]
+__all__ = ["DEFAULT_FLOOR_REFERENCE_RESOLUTION", "Mode", "Curve", "load_mode", "mode_names",
+           "list_modes", "parse_mode"]
 
 #: Resolving power of the bin in which a mode's floor applies when its file
 #: does not say (floors are usually quoted for spectral channels of R ~ 100;

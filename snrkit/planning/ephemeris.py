@@ -17,7 +17,9 @@ from ..errors import InputError, SnrkitWarning
 from ..units import to_si, check_range
 from .timescales import _tdb_jd_of, offline_time
 
-__all__ = ["DEFAULT_PADDING_SIGMA", "DEFAULT_BASELINE_T14", "MAX_RANGE_YEARS", "MAX_WINDOWS", "CalendarWarning", "parse_date", "parse_baseline", "epoch_grid", "timing_sigma", "window_half_width", "predict_transits"]
+__all__ = ["DEFAULT_PADDING_SIGMA", "DEFAULT_BASELINE_T14", "MAX_RANGE_YEARS", "MAX_WINDOWS",
+           "CalendarWarning", "parse_date", "parse_baseline", "epoch_grid", "timing_sigma",
+           "window_half_width", "predict_transits"]
 
 
 #: Padding of each window side in units of the timing uncertainty sigma_n
@@ -32,6 +34,8 @@ MAX_WINDOWS = 2_000_000
 #: Accepted calendar years (UTC with leap seconds starts in 1972; the
 #: built-in ERFA ephemeris epv00 is valid 1900-2100).
 _YEAR_RANGE = (1972, 2099)
+
+
 class CalendarWarning(SnrkitWarning):
     """A calendar input was missing and a documented fallback was used."""
 

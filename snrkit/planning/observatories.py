@@ -16,7 +16,8 @@ from ..units import check_range
 from .ephemeris import parse_date
 from .timescales import offline_time
 
-__all__ = ["DEFAULT_ELONGATION_DEG", "DEFAULT_MIN_ALTITUDE_DEG", "DEFAULT_SUN_ALTITUDE_DEG", "SpaceObservatory", "GroundSite", "parse_observatory"]
+__all__ = ["DEFAULT_ELONGATION_DEG", "DEFAULT_MIN_ALTITUDE_DEG", "DEFAULT_SUN_ALTITUDE_DEG",
+           "SpaceObservatory", "GroundSite", "parse_observatory"]
 
 
 #: Solar-elongation range [deg] of the generic "cold space telescope" class
@@ -27,6 +28,8 @@ DEFAULT_MIN_ALTITUDE_DEG = 30.0
 #: Highest Sun altitude [deg] at a ground site: the Sun 12 deg below the horizon
 #: is the definition of the end of nautical twilight.
 DEFAULT_SUN_ALTITUDE_DEG = -12.0
+
+
 @dataclasses.dataclass(frozen=True)
 class SpaceObservatory:
     """A space observatory constrained by solar elongation.

@@ -335,7 +335,6 @@ def _statistic(kind):
     return TEST_STATISTICS.get(kind, TEST_STATISTICS["nested"])
 
 
-
 def _with_magnitudes(catalogue, status, reason):
     """The usable rows that have a stellar magnitude; the others get ``missing_magnitude``."""
     system, good = catalogue.system, catalogue.good_index

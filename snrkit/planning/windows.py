@@ -26,6 +26,8 @@ __all__ = ["MAX_LIGHT_TIME_S", "transit_windows"]
 #: Largest barycentric light-travel-time correction [s]: aphelion distance
 #: 1.0167 au over c (used as extra padding when the sky position is unknown).
 MAX_LIGHT_TIME_S = 1.0167 * AU / C_LIGHT
+
+
 def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BASELINE_T14,
                     padding_sigma=DEFAULT_PADDING_SIGMA):
     """Windows to schedule for every predicted transit in a date range.

@@ -14,7 +14,9 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["check_sigma", "check_probability", "significance_from_delta_chi2", "critical_delta_chi2", "delta_chi2_for_significance", "expected_statistic", "detection_probability", "noncentrality_for_probability"]
+__all__ = ["check_sigma", "check_probability", "significance_from_delta_chi2",
+           "critical_delta_chi2", "delta_chi2_for_significance", "expected_statistic",
+           "detection_probability", "noncentrality_for_probability"]
 
 
 def check_sigma(sigma, field="sigma"):

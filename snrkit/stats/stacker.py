@@ -14,7 +14,8 @@ from .probability import (check_probability, check_sigma, detection_probability,
     noncentrality_for_probability, significance_from_delta_chi2)
 from .likelihood import nested_delta_chi2
 
-__all__ = ["transits_needed", "asymptotic_delta_chi2", "contamination_factor", "LIMITING_TERMS", "default_curve_transits", "stack_transits", "stack_needed"]
+__all__ = ["transits_needed", "asymptotic_delta_chi2", "contamination_factor", "LIMITING_TERMS",
+           "default_curve_transits", "stack_transits", "stack_needed"]
 
 
 def transits_needed(lambda_of_n, target_lambda, n_max, *, lambda_one=None):
