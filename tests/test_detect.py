@@ -6,6 +6,7 @@ from hypothesis import given, strategies as st
 from scipy import stats
 
 from snrkit.stats import stacker
+from snrkit.stats import search
 from snrkit.stats import likelihood
 from snrkit.stats import probability
 from snrkit.errors import InputError
@@ -193,9 +194,9 @@ def test_monte_carlo_template_amplitude_matches_one_dof():
 def test_contamination_factor_rackham():
     # Rackham, Apai & Giampapa 2018, ApJ 853, 122, eq. 2: epsilon = 1/(1 - f(1 - F_s/F_p)).
     # Limit of completely dark spots (contrast 0) covering 1%: epsilon = 1/0.99.
-    assert stacker.contamination_factor(0.01, 0.0) == pytest.approx(1 / 0.99)
-    assert stacker.contamination_factor(0.0, 0.3) == 1.0
-    assert stacker.contamination_factor(0.0, 1.0, 0.1, 1.2) < 1.0   # faculae make depths shallower
+    assert search.contamination_factor(0.01, 0.0) == pytest.approx(1 / 0.99)
+    assert search.contamination_factor(0.0, 0.3) == 1.0
+    assert search.contamination_factor(0.0, 1.0, 0.1, 1.2) < 1.0   # faculae make depths shallower
 
 
 @given(st.floats(min_value=5.0, max_value=500.0), st.floats(min_value=1.0, max_value=200.0),
@@ -242,7 +243,7 @@ def test_asymptote_is_per_planet():
     # asymptote infinite.
     r = np.stack([feature(), feature()])
     floor = np.stack([np.full(WL.size, 15.0), np.where(np.arange(WL.size) == 20, 0.0, 15.0)])
-    lam = stacker.asymptotic_delta_chi2(r, floor)
+    lam = search.asymptotic_delta_chi2(r, floor)
     assert np.isfinite(lam[0]) and np.isinf(lam[1])
     assert lam[0] == pytest.approx(np.sum((r[0] - r[0].mean()) ** 2) / 15.0 ** 2, rel=1e-10)
 

@@ -12,6 +12,7 @@ from scipy import special, stats
 
 from snrkit.stats import probability
 from snrkit.stats import stacker
+from snrkit.stats import search
 
 from stacker_reference import (bisection_transits_needed, reference_transits_needed,
                                scipy_noncentrality)
@@ -109,7 +110,7 @@ def test_public_search_equals_bisection_on_monotone_functions(seed, n_max, kind)
     top = lam(np.full(m, n_max))
     target = top * rng.uniform(0.0, 1.3, m)
     target[:3] = (0.0, top[3] * 2.0, lam(np.full(m, 1))[2])
-    got = stacker.transits_needed(lam, target, n_max)
+    got = search.transits_needed(lam, target, n_max)
     np.testing.assert_array_equal(got, bisection_transits_needed(lam, target, n_max))
 
 

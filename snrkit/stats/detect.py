@@ -2,8 +2,9 @@
 
 This module gathers the detection statistics in one namespace; the code
 lives in :mod:`snrkit.stats.likelihood` (the statistic),
-:mod:`snrkit.stats.probability` (significances and probabilities) and
-:mod:`snrkit.stats.stacker` (transits needed, curves).
+:mod:`snrkit.stats.probability` (significances and probabilities),
+:mod:`snrkit.stats.search` (transits needed) and :mod:`snrkit.stats.stacker`
+(the stacker and its curves).
 
 Every question snrkit answers is a likelihood-ratio test between two nested
 models evaluated on the noise-free ("Asimov") data set, with the same bins,
@@ -62,8 +63,9 @@ from .likelihood import NO_SIGNAL_DEPTH_RTOL, nested_delta_chi2, noise_per_bin, 
 from .probability import (check_probability, check_sigma, critical_delta_chi2,
                           delta_chi2_for_significance, detection_probability, expected_statistic,
                           noncentrality_for_probability, significance_from_delta_chi2)
-from .stacker import (LIMITING_TERMS, asymptotic_delta_chi2, contamination_factor,
-                      default_curve_transits, stack_needed, stack_transits, transits_needed)
+from .search import asymptotic_delta_chi2, contamination_factor, transits_needed
+from .stacker import (LIMITING_TERMS,
+                      default_curve_transits, stack_needed, stack_transits)
 
 __all__ = [
     "noise_per_bin", "profiled_delta_chi2", "nested_delta_chi2",
