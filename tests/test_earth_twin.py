@@ -14,7 +14,7 @@ Scale height at the tropopause: H = R* T / (M0 g0) = 6.34 km for 216.65 K.
 import numpy as np
 import pytest
 
-from snrkit.atmosphere.profiles import us_standard_atmosphere_1976
+from snrkit.atmosphere.standard_atmosphere import us_standard_atmosphere_1976
 from snrkit.atmosphere.spectrum import transmission_spectrum
 from snrkit.atmosphere.mixture import wavelength_bin_edges
 

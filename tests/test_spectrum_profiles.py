@@ -8,6 +8,7 @@ from hypothesis import given, settings, strategies as st
 from scipy.integrate import quad
 
 from snrkit.atmosphere import profiles as P
+from snrkit.atmosphere import refraction
 from snrkit.constants import K_B, M_U, R_EARTH, R_SUN, AU
 from snrkit.errors import InputError
 
@@ -108,9 +109,9 @@ def test_refraction_floor_earth_sun():
     # (Betremieux & Kaltenegger 2014, ApJ 791, 7; Robinson, Fortney & Hubbard 2017,
     # ApJ 850, 128; value from memory).  We use an isothermal 255 K air atmosphere.
     air = {"N2": 0.7808, "O2": 0.2095, "Ar": 0.0093, "CO2": 0.0004}
-    nu = P.mixture_refractivity(air)
+    nu = refraction.mixture_refractivity(air)
     assert float(nu) == pytest.approx(2.93e-4, rel=0.02)   # air at STP, handbook value
-    p = P.refraction_floor_pressure(nu, P.IsothermalProfile(255.0), 28.96, R_EARTH, 9.8,
+    p = refraction.refraction_floor_pressure(nu, P.IsothermalProfile(255.0), 28.96, R_EARTH, 9.8,
                                     R_SUN, AU)
     assert 0.12e5 < p[0] < 0.3e5
 
@@ -121,6 +122,6 @@ def test_refraction_floor_scaling(a_au, rs):
     # isothermal: p_max proportional to (R_* + R_p)/a (Robinson et al. 2017 scaling)
     prof = P.IsothermalProfile(300.0)
     args = (2.9e-4, prof, 28.0, R_EARTH, 9.8)
-    p1 = P.refraction_floor_pressure(*args, rs * R_SUN, a_au * AU)[0]
-    p2 = P.refraction_floor_pressure(*args, rs * R_SUN, 2 * a_au * AU)[0]
+    p1 = refraction.refraction_floor_pressure(*args, rs * R_SUN, a_au * AU)[0]
+    p2 = refraction.refraction_floor_pressure(*args, rs * R_SUN, 2 * a_au * AU)[0]
     assert p1 / p2 == pytest.approx(2.0, rel=1e-9)

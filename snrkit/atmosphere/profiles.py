@@ -8,12 +8,15 @@ Compute layer (SI, numpy, leading ``planet`` axis):
   :class:`TabulatedProfile` -- temperature as a function of pressure (the
   second is the analytic irradiated grey atmosphere of Guillot 2010, A&A 520,
   A27, eq. 29; the third interpolates a user's pressure-temperature table);
-* :func:`us_standard_atmosphere_1976` -- temperature and pressure of the
-  U.S. Standard Atmosphere 1976 below 86 km (the Earth reference of the
-  tests);
+* :func:`snrkit.atmosphere.standard_atmosphere.us_standard_atmosphere_1976`
+  -- temperature and pressure of the U.S. Standard Atmosphere 1976 below
+  86 km (the Earth reference of the tests), in its own module;
 * :func:`hydrostatic_radius` -- radius of each level from hydrostatic
   equilibrium of an ideal gas with gravity falling off as ``1/r**2``;
 * :func:`scale_height` -- ``H = k T / (mu m_u g)``.
+
+Refraction (the refractivity of a mixture and the floor it sets) is in
+:mod:`snrkit.atmosphere.refraction`.
 
 All arrays carry a leading planet axis: parameters have shape ``(n_planet,)``
 and level arrays ``(n_planet, n_levels)``.
@@ -24,21 +27,8 @@ import numpy as np
 from ..constants import K_B, M_U
 from ..errors import InputError
 
-__all__ = [
-    "DEFAULT_N_LAYERS",
-    "MIN_N_LAYERS",
-    "pressure_levels",
-    "scale_height",
-    "IsothermalProfile",
-    "GreyTwoStreamProfile",
-    "TabulatedProfile",
-    "us_standard_atmosphere_1976",
-    "US1976_LAYERS",
-    "hydrostatic_radius",
-    "REFRACTIVITY_STP",
-    "mixture_refractivity",
-    "refraction_floor_pressure",
-]
+__all__ = ["DEFAULT_N_LAYERS", "MIN_N_LAYERS", "pressure_levels", "scale_height", "IsothermalProfile",
+           "GreyTwoStreamProfile", "TabulatedProfile", "hydrostatic_radius"]
 
 #: Default number of layers of the chord-integration grid.
 DEFAULT_N_LAYERS = 150
@@ -294,77 +284,6 @@ class TabulatedProfile:
         return self.factor * np.interp(np.log(self.reference_pressure_Pa), self._lnp, self._t)
 
 
-#: U.S. Standard Atmosphere 1976 (NOAA/NASA/USAF 1976, Table 4): base
-#: geopotential height [m'] and temperature gradient [K per m'] of the seven
-#: layers below 84.852 km'.  The constants below are the standard's defining
-#: values (sea level 288.15 K and 101325 Pa, g0 = 9.80665 m s-2,
-#: R* = 8.31432 J mol-1 K-1, M0 = 28.9644 g/mol, r0 = 6356.766 km for the
-#: geopotential conversion); they agree with the tabulations read at
-#: crnslab.org/util/atmo.php and scipp.ucsc.edu (outreach page "US Standard
-#: Atmosphere, 1976"), which cite the standard.
-US1976_LAYERS = ((0.0, -0.0065), (11000.0, 0.0), (20000.0, 0.001), (32000.0, 0.0028),
-                 (47000.0, 0.0), (51000.0, -0.0028), (71000.0, -0.002))
-_US76_T0 = 288.15
-_US76_P0 = 101325.0
-_US76_G0 = 9.80665
-_US76_R = 8.31432
-_US76_M0 = 28.9644e-3
-_US76_R0 = 6356766.0
-_US76_TOP_GEOPOTENTIAL = 84852.0
-
-
-def us_standard_atmosphere_1976(altitude_m, geopotential=False):
-    """Temperature and pressure of the U.S. Standard Atmosphere 1976 below 86 km.
-
-    Piecewise-linear temperature in geopotential height with hydrostatic
-    pressure, ``P = P_b (T_b/T)^(g0 M0/(R* L))`` in gradient layers and
-    ``P = P_b exp(-g0 M0 (h - h_b)/(R* T_b))`` in isothermal ones (NOAA, NASA
-    & USAF 1976, "U.S. Standard Atmosphere, 1976", eqs. 23 and 33a-b, Table 4;
-    equation numbers from memory).  Geometric altitude ``z`` converts to
-    geopotential height ``h = r0 z / (r0 + z)``.  The molecular-weight
-    correction above 80 km (at most 0.04 per cent in temperature) is left out.
-
-    Parameters
-    ----------
-    altitude_m : float or array_like
-        Altitude [m], 0 to 86 km geometric (84.852 km geopotential).
-    geopotential : bool
-        Altitudes are geopotential heights (default: geometric).
-
-    Returns
-    -------
-    temperature_K, pressure_Pa : numpy.ndarray
-        Same shape as ``altitude_m``.
-
-    Examples
-    --------
-    >>> t, p = us_standard_atmosphere_1976(11000.0, geopotential=True)
-    >>> round(float(t), 2), round(float(p))
-    (216.65, 22632)
-    """
-    z = np.asarray(altitude_m, dtype=np.float64)
-    h = z if geopotential else _US76_R0 * z / (_US76_R0 + z)
-    if np.any(~np.isfinite(h)) or np.any(h < 0) or np.any(h > _US76_TOP_GEOPOTENTIAL + 0.1):
-        raise InputError("altitude", float(np.max(z)) if np.all(np.isfinite(z)) else "non-finite",
-                         "0 to 84.852 km geopotential (86 km geometric)")
-    k = _US76_G0 * _US76_M0 / _US76_R
-    tb, pb = [_US76_T0], [_US76_P0]
-    for (h0, lapse), (h1, _) in zip(US1976_LAYERS[:-1], US1976_LAYERS[1:]):
-        t1 = tb[-1] + lapse * (h1 - h0)
-        pb.append(pb[-1] * ((tb[-1] / t1) ** (k / lapse) if lapse else
-                            np.exp(-k * (h1 - h0) / tb[-1])))
-        tb.append(t1)
-    bases = np.array([b for b, _ in US1976_LAYERS])
-    i = np.clip(np.searchsorted(bases, h, side="right") - 1, 0, bases.size - 1)
-    lapse = np.array([g for _, g in US1976_LAYERS])[i]
-    t_b, p_b = np.array(tb)[i], np.array(pb)[i]
-    t = t_b + lapse * (h - bases[i])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        p = np.where(lapse != 0, p_b * (t_b / t) ** (k / np.where(lapse != 0, lapse, 1.0)),
-                     p_b * np.exp(-k * (h - bases[i]) / t_b))
-    return t, p
-
-
 def _gauss_legendre(n):
     x, w = np.polynomial.legendre.leggauss(n)
     return 0.5 * (x + 1.0), 0.5 * w
@@ -439,89 +358,3 @@ def hydrostatic_radius(pressure_levels_Pa, profile, mu_g_mol, reference_radius_m
     return r
 
 
-#: Refractivity ``n - 1`` of pure gases at 0 degC and 1 atm, visible light
-#: (about 589 nm).  Handbook values (e.g. Kaye & Laby, "Tables of Physical and
-#: Chemical Constants", refractive index of gases) -- values from memory;
-#: dispersion across 0.3-30 um changes them by a few per cent, which moves the
-#: refraction floor by the same fraction of its pressure.
-REFRACTIVITY_STP = {
-    "H2": 1.32e-4, "He": 3.5e-5, "N2": 2.97e-4, "O2": 2.71e-4, "Ar": 2.81e-4,
-    "CO2": 4.49e-4, "CH4": 4.44e-4, "H2O": 2.54e-4, "CO": 3.38e-4, "NH3": 3.76e-4,
-}
-#: Refractivity assumed for a species without a value above (typical small
-#: molecule; common practice, no source).  Only matters for trace gases.
-REFRACTIVITY_FALLBACK = 3.0e-4
-#: Loschmidt number density at 273.15 K and 101325 Pa [m-3] (CODATA 2018).
-LOSCHMIDT = 101325.0 / (K_B * 273.15)
-
-
-def mixture_refractivity(mixing_ratios):
-    """Refractivity at STP of a gas mixture, ``sum_i x_i (n_i - 1)``.
-
-    Parameters
-    ----------
-    mixing_ratios : dict of str to array_like
-        Volume mixing ratios (summing to one).
-
-    Returns
-    -------
-    numpy.ndarray
-        Refractivity at 273.15 K, 101325 Pa (dimensionless).
-    """
-    total = 0.0
-    for name, x in mixing_ratios.items():
-        total = total + np.asarray(x, dtype=np.float64) * REFRACTIVITY_STP.get(
-            name, REFRACTIVITY_FALLBACK)
-    return np.asarray(total, dtype=np.float64)
-
-
-def refraction_floor_pressure(refractivity_stp, profile, mu_g_mol, planet_radius_m,
-                              gravity_m_s2, stellar_radius_m, semi_major_axis_m, n_iter=4):
-    """Deepest pressure a refracted ray from the star can reach the observer from [Pa].
-
-    A ray grazing an exponential atmosphere at radius ``r`` is bent by
-    ``omega = nu(r) sqrt(2 pi r / H)`` (``nu = n - 1`` at the tangent point;
-    the classical result for an isothermal atmosphere, e.g. Baum & Code 1953,
-    AJ 58, 108).  Rays bent by more than the angle ``(R_* + R_p)/a`` subtended
-    from the planet by the far stellar limb cannot come from the stellar disc
-    (Sidis & Sari 2010; Betremieux & Kaltenegger 2014; Robinson, Fortney &
-    Hubbard 2017, ApJ 850, 128, who give the analytic treatment).  Hence
-
-    .. math:: \\nu_{max} = \\frac{R_* + R_p}{a}\\sqrt{\\frac{H}{2\\pi R_p}},\\qquad
-              p_{max} = \\frac{\\nu_{max}}{\\nu_{STP}} n_{L} k_B T(p_{max}),
-
-    with ``n_L`` the Loschmidt density.  We could not read Robinson et al.
-    (2017) while writing this; the expression is derived from the bending
-    angle above and written from memory of their approach.  It is solved by
-    fixed-point iteration for a non-isothermal profile.
-
-    Parameters
-    ----------
-    refractivity_stp : array_like, shape (n_planet,)
-        Mixture refractivity at STP (:func:`mixture_refractivity`).
-    profile : IsothermalProfile or GreyTwoStreamProfile
-    mu_g_mol, planet_radius_m, gravity_m_s2, stellar_radius_m, semi_major_axis_m : array_like
-        Shape (n_planet,); SI units, mu in g/mol.
-    n_iter : int
-        Fixed-point iterations for the temperature at the floor.
-
-    Returns
-    -------
-    numpy.ndarray, shape (n_planet,)
-        Floor pressure [Pa].
-    """
-    nu0 = _planet_axis(refractivity_stp, "refractivity")
-    rp = _planet_axis(planet_radius_m, "planet_radius")
-    g = _planet_axis(gravity_m_s2, "gravity")
-    rs = _planet_axis(stellar_radius_m, "stellar_radius")
-    a = _planet_axis(semi_major_axis_m, "semi_major_axis")
-    mu = _planet_axis(mu_g_mol, "mean_molecular_weight")
-    theta = (rs + rp) / a
-    t = profile.reference_temperature()
-    p = None
-    for _ in range(max(1, int(n_iter))):
-        h = scale_height(t, mu, g)
-        nu_max = theta * np.sqrt(h / (2.0 * np.pi * rp))
-        p = nu_max / nu0 * LOSCHMIDT * K_B * t
-        t = profile.temperature(p[:, None])[:, 0]
-    return p

@@ -126,8 +126,8 @@ def _solve(sc, source, edges, rp, rs, g0, teq, a_m, solver, n_layers, n_g, p_top
     for the same planets (it depends on the temperatures, not on the radius),
     so the calibration's second solve does not rebuild it.
     """
-    from .profiles import (pressure_levels, hydrostatic_radius, scale_height,
-                           mixture_refractivity, refraction_floor_pressure)
+    from .profiles import pressure_levels, hydrostatic_radius, scale_height
+    from .refraction import mixture_refractivity, refraction_floor_pressure
     npl = rp.shape[0]
     T = sc.temperature(teq) * np.ones(npl)
     mu = np.full(npl, sc.mean_molecular_weight)
