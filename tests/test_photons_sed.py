@@ -8,9 +8,8 @@ from hypothesis import given, settings, strategies as st
 
 from snrkit.constants import R_SUN, PC, H_PLANCK, C_LIGHT, K_B
 from snrkit.errors import InputError, UnitMismatchError, UnknownKeyError
-from snrkit.photons.sed import (planck_flambda, planck_spectrum, read_spectrum, zero_points,
-                                synthetic_magnitude, stellar_flux_density, band_names,
-                                band_response, StellarSpectrum)
+from snrkit.photons.sed import planck_flambda, zero_points, band_names, band_response
+from snrkit.photons.stellar_spectrum import planck_spectrum, read_spectrum, synthetic_magnitude, stellar_flux_density, StellarSpectrum
 from snrkit.io.tables import read_table
 
 

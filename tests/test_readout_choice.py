@@ -71,7 +71,7 @@ def test_choice_never_needs_more_transits_than_the_unsaturated_readout():
 def _peaks(system):
     from snrkit.photons.binning import native_bin_edges
     from snrkit.photons.noise import bin_photon_rates
-    from snrkit.photons.sed import planck_spectrum
+    from snrkit.photons.stellar_spectrum import planck_spectrum
     mode = load_mode(PRISM)
     spec = planck_spectrum(system.star.teff_K).normalised(system.star.magnitude("J"), "J")
     rates = bin_photon_rates(mode, spec, native_bin_edges(mode))

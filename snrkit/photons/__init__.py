@@ -15,7 +15,7 @@
 from .instruments import Mode, load_mode, mode_names, list_modes
 from .precision import transit_precision, SaturationWarning
 from .targets import system_precision, limiting_magnitudes
-from .sed import stellar_flux_density, synthetic_magnitude, read_spectrum, planck_spectrum
+from .stellar_spectrum import stellar_flux_density, synthetic_magnitude, read_spectrum, planck_spectrum
 
 __all__ = ["Mode", "load_mode", "mode_names", "list_modes", "transit_precision",
            "system_precision", "limiting_magnitudes", "SaturationWarning",

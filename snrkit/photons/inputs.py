@@ -6,7 +6,7 @@ import astropy.units as u
 
 from ..errors import InputError
 from ..units import to_si, as_float_array, check_range
-from .sed import planck_spectrum, read_spectrum, StellarSpectrum
+from .stellar_spectrum import planck_spectrum, read_spectrum, StellarSpectrum
 
 __all__ = []
 
