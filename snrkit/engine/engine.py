@@ -29,7 +29,8 @@ from ..errors import InputError
 from ..stats import detect as dt
 from ..stats import forecast as fc
 from ..stats import hypotheses as hy
-from ..constants import HOUR, R_EARTH, M_EARTH, R_SUN, AU
+from ..constants import HOUR, R_EARTH, M_EARTH
+from .observe import _noted, observe
 
 __all__ = ["observe", "scenario_context", "evaluate", "parse_test", "contamination_templates",
            "DEFAULT_MAX_TRANSITS", "MAX_TRANSITS_LIMIT", "MAX_UNCERTAINTY_DRAWS"]
@@ -41,6 +42,7 @@ DEFAULT_MAX_TRANSITS = 500
 MAX_TRANSITS_LIMIT = 100000
 #: Largest number of planet-parameter draws (memory grows with draws x bins).
 MAX_UNCERTAINTY_DRAWS = 20000
+
 
 def parse_test(test=None, species=None, against=None):
     """Normalise the test description to ``(kind, argument)``.
@@ -88,112 +90,6 @@ def contamination_templates(depth_ppm, star_teff_K, wavelength_um, spot_fraction
     fac = planck_lambda(lam, teff + facula_temperature_contrast_K)
     eps = dt.contamination_factor(spot_fraction, spot / phot, facula_fraction, fac / phot)
     return eps, np.asarray(depth_ppm) * (eps - 1.0)
-
-
-
-
-
-def _edges_from_precision(prec):
-    lo = np.asarray(prec["wavelength_low"].values, dtype=np.float64)
-    hi = np.asarray(prec["wavelength_high"].values, dtype=np.float64)
-    if lo.ndim > 1:
-        lo, hi = lo[0], hi[0]
-    if not np.allclose(lo[1:], hi[:-1], rtol=1e-9):
-        raise InputError("wavelength bins", "gaps between bins", "contiguous bins")
-    return np.concatenate([lo, hi[-1:]])
-
-
-def _resolution_arg(resolution):
-    """None -> the shared default; "native" -> the mode's own bins (None downstream)."""
-    from ..photons.precision import DEFAULT_RESOLUTION
-    if resolution is None:
-        return DEFAULT_RESOLUTION
-    if isinstance(resolution, str) and resolution.strip().lower() == "native":
-        return None
-    return resolution
-
-
-def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
-            floor_averages_down=None, baseline=None, solver="analytic", readout=None):
-    """Precision of the mode on the test's bins, and the keywords for spectra on them.
-
-    ``resolution`` None uses :data:`snrkit.photons.precision.DEFAULT_RESOLUTION`
-    (unless ``bin_edges`` are given); ``"native"`` the mode's own bins.
-    With automatic readout the result carries every readout candidate
-    (``options``), so the test can choose; ``readout="unsaturated"`` keeps
-    only the largest unsaturated number of groups.
-
-    Returns
-    -------
-    dict
-        ``white``, ``floor`` and ``saturated`` (planet, bin) for the
-        unsaturated readout; ``groups``, ``duty`` (planet); ``options`` or
-        None; ``floor_averages``; ``precision`` (the Dataset); ``edges_um``,
-        ``wl``; ``derived``; ``rp`` [R_earth], ``rs`` [R_sun]; ``spec_kw``;
-        ``notes``; ``binning`` (a phrase for the outputs).
-    """
-    from ..photons.targets import system_precision
-    from ..errors import SnrkitWarning
-    import warnings
-    d = system.derived_arrays()
-    names = [str(x) for x in system.names]
-    res_arg = None if bin_edges is not None else _resolution_arg(resolution)
-    unsaturated = isinstance(readout, str) and readout == "unsaturated"
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", SnrkitWarning)
-        prec = system_precision(system, mode, resolution=res_arg, bin_edges=bin_edges,
-                                floor_ppm=floor_ppm, floor_averages_down=floor_averages_down,
-                                baseline=baseline, readout="auto" if unsaturated else readout,
-                                warn=True, readout_options=not unsaturated)
-    budget = prec["noise_budget_ppm"]
-    white_terms = [t for t in budget["term"].values if t != "floor"]
-    white = np.sqrt((budget.sel(term=white_terms) ** 2).sum("term", skipna=False))
-    white = np.asarray(white.transpose("planet", "wavelength").values, dtype=np.float64)
-    floor = np.broadcast_to(np.asarray(prec["floor_per_bin_ppm"].values, dtype=np.float64),
-                            white.shape)
-    edges_um = _edges_from_precision(prec)
-    options = None
-    if "option_groups" in prec:
-        options = {"groups": np.asarray(prec["option_groups"].values, dtype=np.int64),
-                   "duty": np.asarray(prec["option_duty_cycle"].values, dtype=np.float64),
-                   "white": np.asarray(prec["option_white_noise_ppm"].values, dtype=np.float64),
-                   "saturated": np.asarray(prec["option_saturated"].values, dtype=bool)}
-    binning = ("bin edges given" if bin_edges is not None else
-               "the mode's native bins" if res_arg is None else f"R = {float(res_arg):g}")
-    return {
-        "derived": d, "precision": prec, "notes": [str(w.message) for w in caught],
-        "white": white, "floor": floor, "options": options,
-        "groups": np.asarray(prec["groups_per_integration"].values, dtype=np.int64),
-        "duty": np.asarray(prec["duty_cycle"].values, dtype=np.float64),
-        "floor_averages": bool(prec.attrs.get("floor_averages_down", False)),
-        "saturated": np.asarray(prec["saturated"].transpose("planet", "wavelength").values, dtype=bool),
-        "edges_um": edges_um, "wl": np.sqrt(edges_um[1:] * edges_um[:-1]), "binning": binning,
-        "rp": d["radius_m"] / R_EARTH, "rs": system.star.radius_m / R_SUN,
-        # the model is calibrated to the observed depth as this mode measures it in white
-        # light: the band average weighted by the detected photons per bin
-        "spec_kw": dict(planet_mass=d["mass_kg"] / M_EARTH,
-                        equilibrium_temperature=d["equilibrium_temperature_K"],
-                        semi_major_axis=d["semi_major_axis_m"] / AU, wavelength_edges=edges_um,
-                        planet_names=names, solver=solver,
-                        calibration_weights=np.asarray(
-                            prec["photon_rate"].transpose("planet", "wavelength").values,
-                            dtype=np.float64)),
-    }
-
-
-def _noted(notes, fn, *args, **kwargs):
-    """``fn(*args, **kwargs)`` with snrkit's own warnings added to ``notes``."""
-    import warnings
-    from ..errors import SnrkitWarning
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", SnrkitWarning)
-        out = fn(*args, **kwargs)
-    for w in caught:
-        if isinstance(w.message, SnrkitWarning):
-            notes.append(str(w.message))
-        else:
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-    return out
 
 
 def _check_options(system, sigma, probabilities, n_max, uncertainty_draws, overhead_hours, seed):
@@ -405,7 +301,6 @@ def _alternative_spectrum(arg, rp, rs, edges_um, spec_kw, transmission_spectrum,
     other = load_scenario(arg)
     ds = transmission_spectrum(other, rp, rs, **spec_kw)
     return np.asarray(ds["transit_depth_ppm"].values, dtype=np.float64), other.name
-
 
 
 def evaluate(system, modes, scenarios, *, resolution=None, bin_edges=None, floor_ppm=None,

@@ -65,8 +65,6 @@ STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere
             "escaping_atmosphere", "stellar_contamination")
 
 
-
-
 def transits_for_system(system, mode, scenario=None, **options):
     """How many transits each planet needs to pass a test, and what they cost.
 
@@ -172,16 +170,6 @@ def transits_for_system(system, mode, scenario=None, **options):
     ds = ds.isel(planet=order)
     notes = list(dict.fromkeys(n for _, r in parts for n in r["notes"]))
     return {"planets": planets, "dataset": ds, "test": parts[0][1]["test"], "notes": notes}
-
-
-
-
-
-
-
-
-
-
 
 
 def _one_scenario(system, mode, scenario, *, resolution=None, bin_edges=None, floor_ppm=None,

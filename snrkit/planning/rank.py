@@ -19,13 +19,11 @@ import numpy as np
 
 from ..errors import InputError
 from ..constants import R_EARTH, M_EARTH
+from .rank_table import (SORT_KEYS, _STATUS_CLASS, _empty_columns, _ranked_table, _resolution_label,
+                         _sort_key, _statistic)
 
 __all__ = ["rank_catalogue", "SORT_KEYS", "FILTER_KEYS", "DEFAULT_CHUNK"]
 
-#: Sort keys: name -> (column, descending)
-SORT_KEYS = {"hours": ("hours_total", False), "transits": ("transits_needed", False),
-             "tsm": ("tsm", True), "esm": ("esm", True),
-             "significance": ("significance_per_transit", True)}
 #: Accepted filter keys (see :func:`rank_catalogue`).
 FILTER_KEYS = ("radius_min", "radius_max", "teq_min", "teq_max", "habitable_zone_only",
                "magnitude_max", "magnitude_min", "band")
@@ -120,27 +118,14 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
         ``escape_warning``; ``meta`` holds the settings and
         the status counts.
     """
-    from astropy.table import Table, MaskedColumn
     from ..engine.engine import parse_test
     from ..atmosphere.scenarios import load_scenario
     from ..stats import detect as dt
     if each_scenario:
-        from astropy.table import vstack
-        specs = [scenarios] if isinstance(scenarios, (str, dict)) else list(scenarios)
-        parts = [rank_catalogue(catalogue, modes, [sp], test=test, sigma=sigma, n_max=n_max,
-                                resolution=resolution, sort_by=sort_by, filters=filters,
-                                chunk=chunk, progress=progress, overhead_hours=overhead_hours,
-                                readout=readout, min_jeans=min_jeans)
-                 for sp in specs]
-        for part in parts:               # label every row, rejected ones too
-            part["scenario"] = [part.meta["scenarios"][0]] * len(part)
-        out = vstack(parts, metadata_conflicts="silent")
-        out.meta = dict(parts[0].meta)
-        out.meta["scenarios"] = [p.meta["scenarios"][0] for p in parts]
-        out.meta["status_counts"] = {k: sum(p.meta["status_counts"].get(k, 0) for p in parts)
-                                     for k in set().union(*(p.meta["status_counts"] for p in parts))}
-        out.meta["each_scenario"] = True
-        return out
+        return _rank_each_scenario(catalogue, modes, scenarios, dict(
+            test=test, sigma=sigma, n_max=n_max, resolution=resolution, sort_by=sort_by,
+            filters=filters, chunk=chunk, progress=progress, overhead_hours=overhead_hours,
+            readout=readout, min_jeans=min_jeans))
     kind, arg = parse_test(test)
     sigma = dt.check_sigma(sigma)
     filters = _check_filters(filters)
@@ -152,68 +137,19 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     if not scs:
         raise InputError("scenario", scenarios, "at least one scenario")
     _sort_key(sort_by)                        # validate before the long run
-
     n_rows = len(catalogue.table)
-    out = {c: np.full(n_rows, np.nan) for c in _FLOAT_COLUMNS}
-    out["transits_needed"] = np.zeros(n_rows, dtype=np.int64)
-    out["groups_per_integration"] = np.zeros(n_rows, dtype=np.int64)
-    out["escape_warning"] = np.zeros(n_rows, dtype=bool)
-    out["bins_saturated"] = np.zeros(n_rows, dtype=np.int64)
-    out["mode"] = np.full(n_rows, "", dtype=object)
-    out["scenario"] = np.full(n_rows, "", dtype=object)
-    out["limiting_term"] = np.full(n_rows, "", dtype=object)
-    out["habitable_zone"] = np.full(n_rows, "", dtype=object)
-    out["mass_estimated"] = np.zeros(n_rows, dtype=bool)
+    out = _empty_columns(n_rows)
     status = np.array([str(s) for s in catalogue.status], dtype=object)
     reason = np.array([str(r) for r in catalogue.reason], dtype=object)
     names = np.array([str(x) for x in catalogue.names], dtype=object)
-
-    import warnings
-    from ..errors import SnrkitWarning
     notes = {}
     system, good = _with_magnitudes(catalogue, status, reason)
     if system is not None and len(good):
-        d = system.derived_arrays()
-        quick = {sc.name: _quick_feature_ppm(sc, d) for sc in scs}
-
-        def quick_by_scenario(chosen, idx):
-            q = np.full(idx.size, np.nan)
-            for name, values in quick.items():
-                q[chosen == name] = values[idx[chosen == name]]
-            return q
-
-        out["radius_earth"][good] = d["radius_m"] / R_EARTH
-        out["mass_earth"][good] = d["mass_kg"] / M_EARTH
-        out["mass_estimated"][good] = d["mass_estimated"]
-        out["equilibrium_temperature_K"][good] = d["equilibrium_temperature_K"]
-        out["tsm"][good] = d["tsm"]
-        out["esm"][good] = d["esm"]
-        out["habitable_zone"][good] = d["hz_position"]
-        starts = list(range(0, len(good), max(int(chunk), 1)))
-        best_status = np.full(len(good), "", dtype=object)
-        best_reason = np.full(len(good), "", dtype=object)
         run_kw = dict(test=test, sigma=sigma, n_max=n_max, resolution=resolution,
                       probabilities=(), overhead_hours=overhead_hours, readout=readout,
                       min_jeans=min_jeans)
-        for done, s0 in enumerate(starts, 1):
-            idx = np.arange(s0, min(s0 + int(chunk), len(good)))
-            with warnings.catch_warnings(record=True) as caught:
-                warnings.simplefilter("always", SnrkitWarning)
-                res = _run_chunk(system.take(idx), modes, scs, run_kw)
-            for w in caught:
-                notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
-            notes.update({n[:300]: None for n in res["notes"][:3]})
-            best = _best_combination(res["columns"])
-            gi = good[idx]
-            for c in _ENGINE_COLUMNS:
-                out[c][gi] = best[c]
-            out["quick_feature_ppm"][gi] = quick_by_scenario(best["scenario"], idx)
-            best_status[idx] = best["status"]
-            best_reason[idx] = best["reason"]
-            if progress is not None:
-                progress(done, len(starts))
-        status[good] = best_status
-        reason[good] = best_reason
+        _evaluate_rows(system, good, modes, scs, run_kw, chunk, progress, out, status, reason,
+                       notes)
     # filters
     ok = status == "ok"
     filt = _apply_filters(filters, catalogue, out, ok)
@@ -228,111 +164,70 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     rank = np.zeros(n_rows, dtype=np.int64)
     n_ok = int(ok.sum())
     rank[order[:n_ok]] = np.arange(1, n_ok + 1)
-
-    t = Table()
-    t["input_index"] = np.arange(n_rows)
-    t["name"] = names.astype(str)
-    t["status"] = status.astype(str)
-    t["reason"] = reason.astype(str)
-    # unranked rows and unreached targets are masked (null in ECSV, None in JSON), never 0
-    t["rank"] = MaskedColumn(rank, mask=rank == 0)
-    for c in ("mode", "scenario"):
-        t[c] = out[c].astype(str)
-    for c in _OUTPUT_ORDER:
-        t[c] = out[c] if out[c].dtype != object else out[c].astype(str)
-    t["transits_needed"] = MaskedColumn(out["transits_needed"], mask=out["transits_needed"] == 0)
-    t["hours_total"] = MaskedColumn(out["hours_total"], mask=~np.isfinite(out["hours_total"]))
-    for c, unit in _UNITS.items():
-        t[c].unit = unit
-    for c, text in _DESCRIPTIONS.items():
-        t[c].description = text
-    counts = {str(s): int(np.sum(status == s)) for s in np.unique(status)}
-    t.meta.update({"test": kind if arg is None else f"{kind}:{arg}", "target_sigma": sigma,
-                   "modes": list(modes), "scenarios": [s.name for s in scs],
-                   "resolution": _resolution_label(resolution), "max_transits": int(n_max),
-                   "test_statistic": _statistic(kind),
-                   "sort_by": sort_by, "status_counts": counts, "rows": int(n_rows),
-                   "notes": list(notes)[:50],
-                   "note": "planning estimates; official observatory tools govern real proposals"})
-    return t
+    return _ranked_table(n_rows, names, status, reason, rank, out, notes, dict(
+        test=kind if arg is None else f"{kind}:{arg}", target_sigma=sigma, modes=list(modes),
+        scenarios=[s.name for s in scs], resolution=_resolution_label(resolution),
+        max_transits=int(n_max), test_statistic=_statistic(kind), sort_by=sort_by))
 
 
-_FLOAT_COLUMNS = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
-                  "quick_feature_ppm", "significance_per_transit", "hours_per_transit",
-                  "hours_total", "duty_cycle", "jeans_parameter")
-_OUTPUT_ORDER = ("radius_earth", "mass_earth", "mass_estimated", "equilibrium_temperature_K",
-                 "tsm", "esm", "habitable_zone", "quick_feature_ppm", "significance_per_transit",
-                 "transits_needed", "hours_per_transit", "hours_total", "limiting_term",
-                 "groups_per_integration", "duty_cycle", "bins_saturated", "jeans_parameter",
-                 "escape_warning")
-_OUTPUT_COLUMNS = set(_OUTPUT_ORDER) | {"name", "input_index"}
-_UNITS = {"radius_earth": "earthRad", "mass_earth": "earthMass", "equilibrium_temperature_K": "K",
-          "hours_per_transit": "h", "hours_total": "h"}
-#: What each column holds (every column has a unit or a description).
-_DESCRIPTIONS = {
-    "input_index": "row of the input catalogue (0-based)",
-    "name": "planet name from the catalogue",
-    "radius_earth": "planet radius", "mass_earth": "planet mass",
-    "equilibrium_temperature_K": "equilibrium temperature (zero albedo, full redistribution)",
-    "hours_per_transit": "hours of one visit (transit, baseline and overhead)",
-    "status": "ok, or why the row is not ranked (see reason)",
-    "reason": "why the row is not ranked (empty when ok)",
-    "rank": "1 = best by the sort key among rows with status ok; null when not ranked",
-    "mode": "instrument mode of the best combination", "scenario": "atmosphere scenario of it",
-    "mass_estimated": "true when the mass comes from the mass-radius relation",
-    "tsm": "transmission spectroscopy metric (Kempton et al. 2018, eq. 1), dimensionless",
-    "esm": "emission spectroscopy metric (Kempton et al. 2018, eq. 4), dimensionless",
-    "habitable_zone": "position against the habitable zone (Kopparapu et al. 2014)",
-    "quick_feature_ppm": "quick estimate N_H x 2 H Rp / Rs^2 of the band amplitude, ppm",
-    "significance_per_transit": "significance of the test after one transit, sigma",
-    "transits_needed": "transits to reach the target significance; null when not reached",
-    "hours_total": "programme hours for those transits; null when not reached",
-    "limiting_term": "what limits the test (white noise, noise floor, ...)",
-    "groups_per_integration": "detector readout chosen for the test",
-    "duty_cycle": "fraction of the exposure time that collects light",
-    "bins_saturated": "wavelength bins left out because they saturate",
-    "jeans_parameter": "restricted Jeans escape parameter (Fossati et al. 2017), dimensionless",
-    "escape_warning": "true for hydrogen-rich scenarios with a Jeans parameter below 20",
-}
+def _rank_each_scenario(catalogue, modes, scenarios, kw):
+    """``each_scenario=True``: one ranking per scenario, stacked, every row labelled."""
+    from astropy.table import vstack
+    specs = [scenarios] if isinstance(scenarios, (str, dict)) else list(scenarios)
+    parts = [rank_catalogue(catalogue, modes, [sp], **kw) for sp in specs]
+    for part in parts:               # label every row, rejected ones too
+        part["scenario"] = [part.meta["scenarios"][0]] * len(part)
+    out = vstack(parts, metadata_conflicts="silent")
+    out.meta = dict(parts[0].meta)
+    out.meta["scenarios"] = [p.meta["scenarios"][0] for p in parts]
+    out.meta["status_counts"] = {k: sum(p.meta["status_counts"].get(k, 0) for p in parts)
+                                 for k in set().union(*(p.meta["status_counts"] for p in parts))}
+    out.meta["each_scenario"] = True
+    return out
 
 
-_STATUS_CLASS = {"ok": 0, "not_reachable": 1, "stellar_contamination": 1, "no_signal": 2,
-                 "unbound_atmosphere": 2, "escaping_atmosphere": 2, "saturated": 3,
-                 "bad_value": 4}
-_NUMERIC_SORT = ("radius_earth", "mass_earth", "equilibrium_temperature_K", "tsm", "esm",
-                 "quick_feature_ppm", "significance_per_transit", "transits_needed",
-                 "hours_per_transit", "hours_total")
+def _evaluate_rows(system, good, modes, scs, run_kw, chunk, progress, out, status, reason, notes):
+    """Run the engine over the good rows in chunks and fill ``out``, ``status``, ``reason``."""
+    import warnings
+    from ..errors import SnrkitWarning
+    d = system.derived_arrays()
+    quick = {sc.name: _quick_feature_ppm(sc, d) for sc in scs}
 
+    def quick_by_scenario(chosen, idx):
+        q = np.full(idx.size, np.nan)
+        for name, values in quick.items():
+            q[chosen == name] = values[idx[chosen == name]]
+        return q
 
-def _sort_key(sort_by):
-    """(column, descending) from ``KEY`` or ``KEY:asc`` / ``KEY:desc``."""
-    text = str(sort_by)
-    name, _, direction = text.partition(":")
-    if name in SORT_KEYS:
-        col, desc = SORT_KEYS[name]
-    elif name in _NUMERIC_SORT:
-        col, desc = name, False
-    else:
-        keys = list(dict.fromkeys(list(SORT_KEYS) + list(_NUMERIC_SORT)))
-        raise InputError("sort", sort_by, "one of " + ", ".join(keys)
-                         + ", optionally with :asc or :desc")
-    if direction:
-        if direction not in ("asc", "desc"):
-            raise InputError("sort", sort_by, "KEY, KEY:asc or KEY:desc")
-        desc = direction == "desc"
-    return col, desc
-
-
-def _resolution_label(resolution):
-    from ..photons.precision import DEFAULT_RESOLUTION
-    if resolution is None:
-        return float(DEFAULT_RESOLUTION)
-    return resolution if isinstance(resolution, str) else float(resolution)
-
-
-def _statistic(kind):
-    from ..engine.transits import TEST_STATISTICS
-    return TEST_STATISTICS.get(kind, TEST_STATISTICS["nested"])
+    out["radius_earth"][good] = d["radius_m"] / R_EARTH
+    out["mass_earth"][good] = d["mass_kg"] / M_EARTH
+    out["mass_estimated"][good] = d["mass_estimated"]
+    out["equilibrium_temperature_K"][good] = d["equilibrium_temperature_K"]
+    out["tsm"][good] = d["tsm"]
+    out["esm"][good] = d["esm"]
+    out["habitable_zone"][good] = d["hz_position"]
+    starts = list(range(0, len(good), max(int(chunk), 1)))
+    best_status = np.full(len(good), "", dtype=object)
+    best_reason = np.full(len(good), "", dtype=object)
+    for done, s0 in enumerate(starts, 1):
+        idx = np.arange(s0, min(s0 + int(chunk), len(good)))
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", SnrkitWarning)
+            res = _run_chunk(system.take(idx), modes, scs, run_kw)
+        for w in caught:
+            notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
+        notes.update({n[:300]: None for n in res["notes"][:3]})
+        best = _best_combination(res["columns"])
+        gi = good[idx]
+        for c in _ENGINE_COLUMNS:
+            out[c][gi] = best[c]
+        out["quick_feature_ppm"][gi] = quick_by_scenario(best["scenario"], idx)
+        best_status[idx] = best["status"]
+        best_reason[idx] = best["reason"]
+        if progress is not None:
+            progress(done, len(starts))
+    status[good] = best_status
+    reason[good] = best_reason
 
 
 def _with_magnitudes(catalogue, status, reason):
