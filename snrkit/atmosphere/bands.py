@@ -9,7 +9,6 @@ methods and sources are described.
 """
 
 import json
-import warnings
 from functools import lru_cache
 
 import numpy as np
@@ -379,18 +378,6 @@ def native_mean_cross_section(species, temperature_K=296.0, pressure_Pa=None):
         return np.bincount(idx, weights=sig * w, minlength=_N_NATIVE)
     s_mean, _, smooth = _molecular_table()[species]
     return s_mean[j[0]] + smooth[j[0]]
-
-
-def _clamp(values, lo, hi, field, unit):
-    v = np.asarray(values, dtype=np.float64)
-    if not np.all(np.isfinite(v)):
-        raise InputError(field, "non-finite value", f"finite values in {unit}")
-    if np.any(v < lo) or np.any(v > hi):
-        warnings.warn(OpacityRangeWarning(
-            f"{field}: values outside the opacity tables' range {lo:g}-{hi:g} {unit} "
-            f"(got {v.min():g}-{v.max():g}); clamped to the range"), stacklevel=3)
-        v = np.clip(v, lo, hi)
-    return v
 
 
 def _check_species(species):

@@ -68,6 +68,7 @@ width.  By default it is evaluated at :data:`REFERENCE_PRESSURE_PA`; a
 1/T) on a grid of one point per decade.
 """
 
+import warnings
 from functools import lru_cache
 
 import numpy as np
@@ -75,8 +76,9 @@ import numpy as np
 from ..errors import InputError
 from .malkmus import _check_ng, _gl
 from .bands import (_check_species, REFERENCE_PRESSURE_PA, _KDIST_DATA, _LAMBDA_MAX_M,
-    _LAMBDA_MIN_M, _LN_K_FLOOR, _N_INTERNAL_G, _N_NATIVE, _PRESSURE_GRID_PA, _clamp, _gl_edges,
-    _grouped_rebin, _interval_means, _native_kdist, native_wavelength_edges, table_temperatures)
+                    _LAMBDA_MIN_M, _LN_K_FLOOR, _N_INTERNAL_G, _N_NATIVE, _PRESSURE_GRID_PA,
+                    _gl_edges, _grouped_rebin, _interval_means, _native_kdist,
+                    native_wavelength_edges, table_temperatures)
 
 # the public face of the opacity sources: names whose code lives in bands and malkmus
 from .bands import (ATOMIC_SPECIES, MOLECULAR_SPECIES, NATIVE_RESOLUTION,  # noqa: F401
@@ -360,3 +362,15 @@ def combine_random_overlap(k_list, vmr_list, g_weights):
             out[full] = _resort_pair(mix[full], b[full], w)
         mix = out
     return mix.reshape(shape)
+
+
+def _clamp(values, lo, hi, field, unit):
+    v = np.asarray(values, dtype=np.float64)
+    if not np.all(np.isfinite(v)):
+        raise InputError(field, "non-finite value", f"finite values in {unit}")
+    if np.any(v < lo) or np.any(v > hi):
+        warnings.warn(OpacityRangeWarning(
+            f"{field}: values outside the opacity tables' range {lo:g}-{hi:g} {unit} "
+            f"(got {v.min():g}-{v.max():g}); clamped to the range"), stacklevel=3)
+        v = np.clip(v, lo, hi)
+    return v

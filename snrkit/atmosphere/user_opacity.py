@@ -82,7 +82,7 @@ from .cross_section_files import (_blocks_from_table, _blocks_to_table, _check_s
     read_cross_sections)
 from .user_kdist import _LN_FLOOR, _layout, _quantiles_on_layout
 # public names whose code lives in cross_section_files and user_kdist
-from .cross_section_files import MIN_POINTS  # noqa: F401
+from .cross_section_checks import MIN_POINTS  # noqa: F401
 from .user_kdist import sorted_k_distribution  # noqa: F401
 
 __all__ = ["MIN_POINTS", "OUTSIDE_POLICIES", "read_cross_sections", "sorted_k_distribution",
