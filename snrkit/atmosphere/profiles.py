@@ -135,6 +135,7 @@ class IsothermalProfile:
         return self.temperature_K.copy()
 
 
+# size: the Guillot 2010 profile with its equation in the docstring; four short methods
 class GreyTwoStreamProfile:
     """Analytic irradiated grey atmosphere of Guillot (2010, A&A 520, A27, eq. 29).
 

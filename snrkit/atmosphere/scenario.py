@@ -47,6 +47,7 @@ COLD_TRAP_KEYS = {"gas": "a species of mixing_ratios (not the fill gas)",
 _DEFAULT_REFERENCE_PRESSURE_BAR = 1.0
 
 
+# size: a frozen dataclass: one documented field per scenario key, and five short methods
 @dataclasses.dataclass(frozen=True)
 class Scenario:
     """A validated atmosphere scenario (SI units).

@@ -168,6 +168,7 @@ class _SpeciesTable:
         return k
 
 
+# size: the opacity-source interface (seven methods, the longest 52 lines) over users' tables
 class UserOpacitySource:
     """An opacity source in which user cross-section tables replace line opacity.
 

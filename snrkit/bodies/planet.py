@@ -14,6 +14,7 @@ from .star import _Frozen, _opt, _size
 __all__ = ["Planet"]
 
 
+# size: an immutable record: __init__ checks each field (61 lines, estimates in helpers), then one-line properties
 class Planet(_Frozen):
     """One or more transiting planets.
 
@@ -80,18 +81,7 @@ class Planet(_Frozen):
                     *LIMITS["planet.mass_uncertainty"])
         a_a = _opt(semi_major_axis, "planet.semi_major_axis", u.au,
                    *LIMITS["planet.semi_major_axis"])
-        b_a = np.asarray(np.nan)
-        inc_a = np.asarray(np.nan)
-        if impact_parameter is not None:
-            b_a = as_float_array(impact_parameter, "planet.impact_parameter")
-            check_range(b_a, "planet.impact_parameter", *LIMITS["planet.impact_parameter"],
-                        allow_nan=True)
-        if inclination is not None:
-            inc_a = to_si(inclination, "planet.inclination", u.deg, 0.0, 180.0, allow_nan=True)
-        both = ~np.isnan(b_a) & ~np.isnan(inc_a)
-        if np.any(both):
-            raise InputError("planet.inclination", inclination,
-                             "only one of impact_parameter and inclination per planet")
+        b_a, inc_a = _impact_or_inclination(impact_parameter, inclination)
         ecc = as_float_array(eccentricity, "planet.eccentricity")
         check_range(ecc, "planet.eccentricity", 0.0, 1.0, high_inclusive=False)
         omega = to_si(periastron_argument, "planet.periastron_argument", u.deg, -360.0, 360.0)
@@ -113,20 +103,7 @@ class Planet(_Frozen):
                   *(() if names is None else (names,)))
         bc = lambda a: np.broadcast_to(a, (n,)).astype(np.float64)  # noqa: E731
         rad, mass_a, msig = bc(rad), bc(mass_a), bc(msig)
-        est = np.isnan(mass_a)
-        if est.any():
-            m_est, sig_dex = met.mass_from_radius(rad)
-            bad = est & np.isnan(m_est)
-            if bad.any():
-                r = float(rad[bad][0] / R_EARTH)
-                raise InputError("planet.mass", None,
-                                 "a measured mass for radii above "
-                                 f"{met.MASS_RADIUS_MAX_EARTH_RADII} R_earth",
-                                 detail=f"radius {r:.4g} R_earth is beyond the mass-radius relation")
-            mass_a = np.where(est, m_est, mass_a)
-            # 1-sigma of a log-normal scatter, quoted as the mean of the upper/lower offsets
-            sig_abs = m_est * (10 ** sig_dex - 10 ** (-sig_dex)) / 2
-            msig = np.where(est & np.isnan(msig), sig_abs, msig)
+        mass_a, msig, est = _masses(rad, mass_a, msig)
         self._set("_n", n)
         self._set("_radius", rad)
         self._set("_radius_sigma", bc(rsig))
@@ -174,3 +151,40 @@ class Planet(_Frozen):
     impact_parameter_assumed = property(lambda self: self._b_assumed,
                                         doc="True where b = 0 was assumed")
     name = property(lambda self: self._name, doc="planet names")
+
+
+def _impact_or_inclination(impact_parameter, inclination):
+    """The impact parameter or the inclination [rad] of each planet (NaN where not given)."""
+    b_a = np.asarray(np.nan)
+    inc_a = np.asarray(np.nan)
+    if impact_parameter is not None:
+        b_a = as_float_array(impact_parameter, "planet.impact_parameter")
+        check_range(b_a, "planet.impact_parameter", *LIMITS["planet.impact_parameter"],
+                    allow_nan=True)
+    if inclination is not None:
+        inc_a = to_si(inclination, "planet.inclination", u.deg, 0.0, 180.0, allow_nan=True)
+    both = ~np.isnan(b_a) & ~np.isnan(inc_a)
+    if np.any(both):
+        raise InputError("planet.inclination", inclination,
+                         "only one of impact_parameter and inclination per planet")
+    return b_a, inc_a
+
+
+def _masses(rad, mass_a, msig):
+    """Masses [kg] and their 1-sigma, estimated from the radius where missing (Chen & Kipping
+    2017), and which were estimated."""
+    est = np.isnan(mass_a)
+    if est.any():
+        m_est, sig_dex = met.mass_from_radius(rad)
+        bad = est & np.isnan(m_est)
+        if bad.any():
+            r = float(rad[bad][0] / R_EARTH)
+            raise InputError("planet.mass", None,
+                             "a measured mass for radii above "
+                             f"{met.MASS_RADIUS_MAX_EARTH_RADII} R_earth",
+                             detail=f"radius {r:.4g} R_earth is beyond the mass-radius relation")
+        mass_a = np.where(est, m_est, mass_a)
+        # 1-sigma of a log-normal scatter, quoted as the mean of the upper/lower offsets
+        sig_abs = m_est * (10 ** sig_dex - 10 ** (-sig_dex)) / 2
+        msig = np.where(est & np.isnan(msig), sig_abs, msig)
+    return mass_a, msig, est

@@ -54,6 +54,7 @@ def _size(*arrays):
     return shape[0] if shape else 1
 
 
+# size: an immutable record: __init__ checks each field (57 lines), then one-line properties
 class Star(_Frozen):
     """A host star.
 

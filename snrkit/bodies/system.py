@@ -27,6 +27,7 @@ from .planet import Planet
 __all__ = ["System", "derive", "common_observation"]
 
 
+# size: an immutable record: __init__ (44 lines, its checks in helpers), one-line properties and short methods
 class System(_Frozen):
     """A star with one or more planets (or a catalogue: one star entry per planet).
 
@@ -104,62 +105,9 @@ class System(_Frozen):
         self._set("observations", tuple(observations) if observations is not None else (None,) * n)
 
         rs, ms = star.radius_m, star.mass_kg
-        a = planet._a.copy()
-        miss = np.isnan(a)
-        a[miss] = geo.semi_major_axis_from_period(planet._period[miss], ms[miss] + planet._mass[miss])
-        inside = a <= rs + planet._radius
-        if inside.any():
-            i = int(np.flatnonzero(inside)[0])
-            raise InputError(f"planet.semi_major_axis ({planet.name[i]})", f"{a[i] / AU:.4g} au",
-                             "an orbit outside the star (a > R_star + R_planet)")
-        # An eccentric orbit must also keep its periastron outside the star
-        # (otherwise b, i and the durations have no meaning).
-        peri_inside = a * (1 - planet._ecc) <= rs + planet._radius
-        if peri_inside.any():
-            i = int(np.flatnonzero(peri_inside)[0])
-            raise InputError(f"planet.eccentricity ({planet.name[i]})", f"{planet._ecc[i]:.4g}",
-                             f"e < 1 - (R_star + R_planet) / a = "
-                             f"{1 - (rs[i] + planet._radius[i]) / a[i]:.4g}",
-                             detail="the periastron a (1 - e) would lie inside the star")
-        given = ~miss
-        a_kep = geo.semi_major_axis_from_period(planet._period, ms + planet._mass)
-        self._set("kepler_mismatch", given & (np.abs(a / a_kep - 1) > KEPLER_TOLERANCE))
-        if warn_kepler and self.kepler_mismatch.any():
-            off = self.kepler_mismatch
-            names_off = planet.name[off]
-            shown = ", ".join(names_off[:5]) + (f" and {off.sum() - 5} more" if off.sum() > 5 else "")
-            warnings.warn(f"semi-major axis of {shown} differs by more than "
-                          f"{KEPLER_TOLERANCE:.0%} from Kepler's third law with the period "
-                          "and the star's mass; the given value is used", SnrkitWarning,
-                          stacklevel=2)
-        aor = a / rs
-        k = planet._radius / rs
-        too_big = k >= 1
-        if too_big.any():
-            i = int(np.flatnonzero(too_big)[0])
-            raise InputError(f"planet.radius ({planet.name[i]})",
-                             f"{planet._radius[i] / R_EARTH:.4g} R_earth",
-                             f"a radius below the star's ({rs[i] / R_EARTH:.4g} R_earth)",
-                             detail="transmission estimates need Rp/Rs < 1")
-        b = planet._b.copy()
-        inc = planet._inc.copy()
-        from_inc = np.isnan(b)
-        b[from_inc] = geo.impact_parameter_from_inclination(aor[from_inc], inc[from_inc],
-                                                            planet._ecc[from_inc],
-                                                            planet._omega[from_inc])
-        inc[~from_inc] = geo.inclination_from_impact_parameter(aor[~from_inc], b[~from_inc],
-                                                               planet._ecc[~from_inc],
-                                                               planet._omega[~from_inc])
-        no_transit = b >= 1 + k
-        if no_transit.any():
-            i = int(np.flatnonzero(no_transit)[0])
-            raise NoTransitError(f"planet.impact_parameter ({planet.name[i]})", f"{b[i]:.4g}",
-                                 f"b < 1 + Rp/Rs = {1 + k[i]:.4g} (otherwise there is no transit)")
-        grazing = b > 1 - k
-        if grazing.any():
-            names = ", ".join(planet.name[grazing])
-            warnings.warn(f"grazing transit for {names}: b > 1 - Rp/Rs, so T23 = 0 and the "
-                          "depth is less than (Rp/Rs)^2", GrazingTransitWarning, stacklevel=2)
+        a, miss = _semi_major_axis(planet, rs, ms)
+        self._set("kepler_mismatch", _kepler_mismatch(planet, a, ms, miss, warn_kepler))
+        b, inc, grazing = _transit_geometry(planet, rs, a)
         self._set("_a", a)
         self._set("_b", b)
         self._set("_inc", inc)
@@ -258,6 +206,77 @@ class System(_Frozen):
             t[f"hz_{lim}"] = d[f"hz_{lim}"]
         t.meta["units_note"] = "transit_depth and annulus_per_scale_height in ppm"
         return t
+
+
+def _semi_major_axis(planet, rs, ms):
+    """Semi-major axes [m] (from Kepler's third law where missing), orbits outside the star."""
+    a = planet._a.copy()
+    miss = np.isnan(a)
+    a[miss] = geo.semi_major_axis_from_period(planet._period[miss], ms[miss] + planet._mass[miss])
+    inside = a <= rs + planet._radius
+    if inside.any():
+        i = int(np.flatnonzero(inside)[0])
+        raise InputError(f"planet.semi_major_axis ({planet.name[i]})", f"{a[i] / AU:.4g} au",
+                         "an orbit outside the star (a > R_star + R_planet)")
+    # An eccentric orbit must also keep its periastron outside the star
+    # (otherwise b, i and the durations have no meaning).
+    peri_inside = a * (1 - planet._ecc) <= rs + planet._radius
+    if peri_inside.any():
+        i = int(np.flatnonzero(peri_inside)[0])
+        raise InputError(f"planet.eccentricity ({planet.name[i]})", f"{planet._ecc[i]:.4g}",
+                         f"e < 1 - (R_star + R_planet) / a = "
+                         f"{1 - (rs[i] + planet._radius[i]) / a[i]:.4g}",
+                         detail="the periastron a (1 - e) would lie inside the star")
+    return a, miss
+
+
+def _kepler_mismatch(planet, a, ms, miss, warn_kepler):
+    """Planets whose given semi-major axis disagrees with Kepler's third law (a flag)."""
+    given = ~miss
+    a_kep = geo.semi_major_axis_from_period(planet._period, ms + planet._mass)
+    mismatch = given & (np.abs(a / a_kep - 1) > KEPLER_TOLERANCE)
+    if warn_kepler and mismatch.any():
+        off = mismatch
+        names_off = planet.name[off]
+        shown = ", ".join(names_off[:5]) + (f" and {off.sum() - 5} more" if off.sum() > 5 else "")
+        warnings.warn(f"semi-major axis of {shown} differs by more than "
+                      f"{KEPLER_TOLERANCE:.0%} from Kepler's third law with the period "
+                      "and the star's mass; the given value is used", SnrkitWarning,
+                      stacklevel=3)
+    return mismatch
+
+
+def _transit_geometry(planet, rs, a):
+    """Impact parameters and inclinations (each from the other), transiting, grazing flagged."""
+    aor = a / rs
+    k = planet._radius / rs
+    too_big = k >= 1
+    if too_big.any():
+        i = int(np.flatnonzero(too_big)[0])
+        raise InputError(f"planet.radius ({planet.name[i]})",
+                         f"{planet._radius[i] / R_EARTH:.4g} R_earth",
+                         f"a radius below the star's ({rs[i] / R_EARTH:.4g} R_earth)",
+                         detail="transmission estimates need Rp/Rs < 1")
+    b = planet._b.copy()
+    inc = planet._inc.copy()
+    from_inc = np.isnan(b)
+    b[from_inc] = geo.impact_parameter_from_inclination(aor[from_inc], inc[from_inc],
+                                                        planet._ecc[from_inc],
+                                                        planet._omega[from_inc])
+    inc[~from_inc] = geo.inclination_from_impact_parameter(aor[~from_inc], b[~from_inc],
+                                                           planet._ecc[~from_inc],
+                                                           planet._omega[~from_inc])
+    no_transit = b >= 1 + k
+    if no_transit.any():
+        i = int(np.flatnonzero(no_transit)[0])
+        raise NoTransitError(f"planet.impact_parameter ({planet.name[i]})", f"{b[i]:.4g}",
+                             f"b < 1 + Rp/Rs = {1 + k[i]:.4g} (otherwise there is no transit)")
+    grazing = b > 1 - k
+    if grazing.any():
+        names = ", ".join(planet.name[grazing])
+        warnings.warn(f"grazing transit for {names}: b > 1 - Rp/Rs, so T23 = 0 and the "
+                      "depth is less than (Rp/Rs)^2", GrazingTransitWarning, stacklevel=3)
+    return b, inc, grazing
 
 
 def derive(system):

@@ -162,6 +162,7 @@ def _radius_fraction(system, d):
     return np.where(np.isfinite(sig) & (sig > 0), sig, DEFAULT_RADIUS_FRACTION)
 
 
+# size: one scenario's steps in the order the engine takes them; each step is a call
 def scenario_context(system, obs, mode, scenario, *, test=None, species=None, against=None,
                      sigma=5.0, probabilities=(0.5, 0.9), n_max=DEFAULT_MAX_TRANSITS,
                      overhead_hours=None, contamination=None, uncertainty_draws=0, seed=0,

@@ -233,6 +233,7 @@ def _values_table(vals, names):
 # ----------------------------------------------------------------------------- result
 
 
+# size: a class of eight short accessors (the longest 38 lines) over the screened tables
 class Catalogue:
     """A screened catalogue.
 

@@ -50,6 +50,7 @@ def _check_filters(filters):
     return f
 
 
+# size: the docstring documents every option of the public ranking; the body is a list of steps, each a helper
 def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=500,
                    resolution=None, sort_by="hours", filters=None, chunk=DEFAULT_CHUNK,
                    progress=None, overhead_hours=None, each_scenario=False, readout=None,

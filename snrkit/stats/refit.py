@@ -110,6 +110,7 @@ def _bounded_minimum(cost, start, lows, highs):
     return min(cands, key=cost)
 
 
+# size: one bounded fit, read top to bottom: the parameters, their bounds, the minimiser, the result
 def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fraction, spec_kw,
                transmission_spectrum, null_scale=None):
     """Best-fitting null spectrum per planet over the chosen continuum parameters.

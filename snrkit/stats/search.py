@@ -64,6 +64,7 @@ def transits_needed(lambda_of_n, target_lambda, n_max, *, lambda_one=None):
 _SECANT_ROUNDS = 6
 
 
+# size: one secant search with its integer check; split, the iteration would not read as one
 def _search_transits(lam_at, target, n_max, lam_one, lam_limit=None):
     """Smallest N in [1, n_max] with lambda(N) >= target, per element (flat arrays).
 

@@ -41,6 +41,7 @@ def _per_dof(dof_arr, fn):
 _CHUNK_VALUES = 1 << 18
 
 
+# size: a class of six short methods (the longest 20 lines) sharing the stacker's arrays
 class _Stack:
     """The statistic of one stacking problem as a function of N, over the batch.
 
@@ -169,6 +170,7 @@ def _check_stack_inputs(sigma, probabilities, n_max, templates, null_templates):
                                               else null_templates)
 
 
+# size: the docstring documents the stacker's options and outputs; the body is a list of steps
 def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
                    null_templates=None, alt_templates=None, template_sigma=None,
                    template_mean=None, null_scale=None, floor=0.0, floor_averages=False, dof=1,
