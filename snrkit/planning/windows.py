@@ -80,20 +80,7 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
         without a constraint (light time not removed; windows widened by
         :data:`MAX_LIGHT_TIME_S` on each side).
     """
-    from astropy.table import Table
-    if isinstance(observatory, str):
-        observatory = parse_observatory(observatory)
-    if observatory is not None and not isinstance(observatory, (SpaceObservatory, GroundSite)):
-        raise InputError("observatory", observatory,
-                         "'space', 'site:LON,LAT[,ELEV_M]', 'none', a SpaceObservatory or GroundSite")
-    mult, base_s = parse_baseline(baseline)
-    if isinstance(padding_sigma, bool):
-        raise InputError("padding_sigma", padding_sigma, "a number of sigma in [0, 10]")
-    try:
-        k = float(padding_sigma)
-    except (TypeError, ValueError):
-        raise InputError("padding_sigma", padding_sigma, "a number of sigma in [0, 10]") from None
-    check_range(np.asarray(k), "padding_sigma", 0.0, 10.0, unit_label="sigma")
+    observatory, mult, base_s, k = _window_options(observatory, baseline, padding_sigma)
 
     t0, per, s_t0, s_p = _ephemeris(system)
     t_start, t_end = _range(start, end)
@@ -114,15 +101,48 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
                       f"{MAX_LIGHT_TIME_S:.0f} s on each side", CalendarWarning, stacklevel=2)
     t14 = np.asarray(system.derived_arrays()["t14_s"], dtype=np.float64)
 
-    margin = 2.0 * MAX_LIGHT_TIME_S / DAY
+    location = observatory.location() if isinstance(observatory, GroundSite) else None
     lo, hi = _tdb_jd_of(t_start), _tdb_jd_of(t_end)
+    idx, n, bary, sig, obs, ltt, ra, dec, known = _predicted(t0, per, s_t0, s_p, lo, hi, ra_all,
+                                                             dec_all, no_pos, location)
+    half = window_half_width(t14[idx], mult, base_s, sig, k) + np.where(known, 0.0,
+                                                                       MAX_LIGHT_TIME_S)
+    _warn_overlapping_windows(system, idx, half)
+    start_jd = obs - half / DAY
+    end_jd = obs + half / DAY
+
+    ok, reason, extra = _observability(observatory, start_jd, end_jd, obs, ra, dec)
+    return _windows_table(system, idx, n, bary, sig, obs, ltt, half, start_jd, end_jd, location, ok,
+                          reason, extra, _meta(observatory, t_start, t_end, mult, base_s, k, obs))
+
+
+def _window_options(observatory, baseline, padding_sigma):
+    """The observatory (parsed), the baseline (multiple of T14, seconds) and the padding [sigma]."""
+    if isinstance(observatory, str):
+        observatory = parse_observatory(observatory)
+    if observatory is not None and not isinstance(observatory, (SpaceObservatory, GroundSite)):
+        raise InputError("observatory", observatory,
+                         "'space', 'site:LON,LAT[,ELEV_M]', 'none', a SpaceObservatory or GroundSite")
+    mult, base_s = parse_baseline(baseline)
+    if isinstance(padding_sigma, bool):
+        raise InputError("padding_sigma", padding_sigma, "a number of sigma in [0, 10]")
+    try:
+        k = float(padding_sigma)
+    except (TypeError, ValueError):
+        raise InputError("padding_sigma", padding_sigma, "a number of sigma in [0, 10]") from None
+    check_range(np.asarray(k), "padding_sigma", 0.0, 10.0, unit_label="sigma")
+    return observatory, mult, base_s, k
+
+
+def _predicted(t0, per, s_t0, s_p, lo, hi, ra_all, dec_all, no_pos, location):
+    """Predicted transits whose observer time falls in [lo, hi] (TDB JD), in time order."""
+    margin = 2.0 * MAX_LIGHT_TIME_S / DAY
     idx, n = epoch_grid(t0, per, lo - margin, hi + margin)
     bary = t0[idx] + n * (per[idx] / DAY)
     sig = timing_sigma(s_t0[idx], s_p[idx], n)
     ra, dec = ra_all[idx], dec_all[idx]
     known = ~no_pos[idx]
 
-    location = observatory.location() if isinstance(observatory, GroundSite) else None
     obs = bary.copy()
     ltt = np.zeros_like(bary)
     if known.any():
@@ -133,13 +153,11 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
     order = np.argsort(obs, kind="stable")
     idx, n, bary, sig, obs, ltt, ra, dec, known = (a[order] for a in
                                                    (idx, n, bary, sig, obs, ltt, ra, dec, known))
+    return idx, n, bary, sig, obs, ltt, ra, dec, known
 
-    half = window_half_width(t14[idx], mult, base_s, sig, k) + np.where(known, 0.0,
-                                                                       MAX_LIGHT_TIME_S)
-    _warn_overlapping_windows(system, idx, half)
-    start_jd = obs - half / DAY
-    end_jd = obs + half / DAY
 
+def _observability(observatory, start_jd, end_jd, obs, ra, dec):
+    """Whether each window is observable, why not, and the extreme angles seen."""
     extra = {}
     if observatory is None or obs.size == 0:
         ok = np.ones(obs.size, dtype=bool)
@@ -152,7 +170,13 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
         ok, reason, extra = _space_constraints(observatory, start_jd, end_jd, ra, dec)
     else:
         ok, reason, extra = _ground_constraints(observatory, start_jd, end_jd, obs, ra, dec)
+    return ok, reason, extra
 
+
+def _windows_table(system, idx, n, bary, sig, obs, ltt, half, start_jd, end_jd, location, ok,
+                   reason, extra, meta):
+    """The windows Table, one row per predicted transit, with the settings in its metadata."""
+    from astropy.table import Table
     tab = Table()
     tab["planet"] = np.asarray(system.planet.name)[idx].astype(str)
     tab["epoch"] = n.astype(np.int64)
@@ -172,7 +196,7 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
     for name, col in extra.items():
         tab[name] = np.asarray(col, dtype=np.float64)
         tab[name].unit = u.deg
-    tab.meta.update(_meta(observatory, t_start, t_end, mult, base_s, k, obs))
+    tab.meta.update(meta)
     tab.meta["planets"] = [str(x) for x in system.planet.name]
     return tab
 
