@@ -71,48 +71,57 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
     total = 0.0
     spans = []
     for rec in res["planets"]:
-        rows = table[table["planet"] == rec["name"]]
-        obs_rows = rows[np.asarray(rows["observable"], dtype=bool)]
-        n = rec["transits_needed"]
-        chosen = obs_rows[:n] if n else obs_rows[:0]
-        hours = float(np.sum(np.asarray(chosen["duration_hours"], dtype=np.float64)) + overhead * len(chosen)) \
-            if n else None
-        # the windows carry k sigma_n of timing padding on each side; transits_for_system's
-        # hours (T14 + baseline + overhead per visit) do not
-        k_pad = float(table.meta.get("padding_sigma", cal.DEFAULT_PADDING_SIGMA))
-        padding = float(np.sum(2.0 * k_pad * np.asarray(chosen["sigma_minutes"], dtype=np.float64)) / 60.0)
-        if len(chosen):
-            with cal.offline_time():   # dates past the bundled leap-second table
-                a = Time(str(chosen["start_utc"][0]), scale="utc")
-                b = Time(str(chosen["end_utc"][-1]), scale="utc")
-                span = float(b.jd - a.jd)
-        else:
-            span = None
-        enough = bool(n) and len(chosen) == n
+        record, hours, span, enough = _planet_plan(rec, table, overhead, years)
         if hours is not None and enough:
             total += hours
         if span is not None and enough:
             spans.append(span)
-        planets.append({
-            "name": rec["name"], "scenario": rec["scenario"], "test": rec["test"],
-            "status": rec["status"] if rec["status"] != "ok" or enough else "not_enough_windows",
-            "reason": rec["reason"] if rec["status"] != "ok" else (
-                "" if enough else f"only {len(obs_rows)} observable windows in {years:g} years; "
-                                  f"{n} needed"),
-            "transits_needed": n, "windows_found": int(len(rows)),
-            "observable_windows": int(len(obs_rows)),
-            "observable_fraction": float(len(obs_rows) / len(rows)) if len(rows) else 0.0,
-            "enough_windows": enough, "hours_total": hours if enough else None,
-            "timing_padding_hours": padding if enough else None, "padding_sigma": k_pad,
-            "span_days": span if enough else None,
-            "span_years": (span / 365.25) if (span is not None and enough) else None,
-            "windows": [{"epoch": int(r["epoch"]), "mid_utc": str(r["mid_utc"]),
-                         "start_utc": str(r["start_utc"]), "end_utc": str(r["end_utc"]),
-                         "sigma_minutes": float(r["sigma_minutes"])} for r in chosen],
-        })
+        planets.append(record)
     return {"planets": planets, "table": table,
             "programme": {"hours_total": total, "longest_span_years":
                           (max(spans) / 365.25) if spans else None,
                           "planets_complete": int(sum(p["enough_windows"] for p in planets)),
                           "planets": len(planets)},
             "notes": res["notes"]}
+
+
+def _planet_plan(rec, table, overhead, years):
+    """One planet's record: its windows, the first ``transits_needed`` observable ones, hours."""
+    from astropy.time import Time
+    from . import calendar as cal
+    rows = table[table["planet"] == rec["name"]]
+    obs_rows = rows[np.asarray(rows["observable"], dtype=bool)]
+    n = rec["transits_needed"]
+    chosen = obs_rows[:n] if n else obs_rows[:0]
+    hours = float(np.sum(np.asarray(chosen["duration_hours"], dtype=np.float64)) + overhead * len(chosen)) \
+        if n else None
+    # the windows carry k sigma_n of timing padding on each side; transits_for_system's
+    # hours (T14 + baseline + overhead per visit) do not
+    k_pad = float(table.meta.get("padding_sigma", cal.DEFAULT_PADDING_SIGMA))
+    padding = float(np.sum(2.0 * k_pad * np.asarray(chosen["sigma_minutes"], dtype=np.float64)) / 60.0)
+    if len(chosen):
+        with cal.offline_time():   # dates past the bundled leap-second table
+            a = Time(str(chosen["start_utc"][0]), scale="utc")
+            b = Time(str(chosen["end_utc"][-1]), scale="utc")
+            span = float(b.jd - a.jd)
+    else:
+        span = None
+    enough = bool(n) and len(chosen) == n
+    record = {
+        "name": rec["name"], "scenario": rec["scenario"], "test": rec["test"],
+        "status": rec["status"] if rec["status"] != "ok" or enough else "not_enough_windows",
+        "reason": rec["reason"] if rec["status"] != "ok" else (
+            "" if enough else f"only {len(obs_rows)} observable windows in {years:g} years; "
+                              f"{n} needed"),
+        "transits_needed": n, "windows_found": int(len(rows)),
+        "observable_windows": int(len(obs_rows)),
+        "observable_fraction": float(len(obs_rows) / len(rows)) if len(rows) else 0.0,
+        "enough_windows": enough, "hours_total": hours if enough else None,
+        "timing_padding_hours": padding if enough else None, "padding_sigma": k_pad,
+        "span_days": span if enough else None,
+        "span_years": (span / 365.25) if (span is not None and enough) else None,
+        "windows": [{"epoch": int(r["epoch"]), "mid_utc": str(r["mid_utc"]),
+                     "start_utc": str(r["start_utc"]), "end_utc": str(r["end_utc"]),
+                     "sigma_minutes": float(r["sigma_minutes"])} for r in chosen],
+    }
+    return record, hours, span, enough
