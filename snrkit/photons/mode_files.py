@@ -78,118 +78,10 @@ def parse_mode(data, path="<mapping>"):
     path : str
         Where it came from (for messages).
     """
-    allowed_top = {"name", "description", "sources", *_SCHEMA}
-    for key in data:
-        if key not in allowed_top:
-            raise UnknownKeyError(key, data[key], "top-level keys " + ", ".join(sorted(allowed_top)))
-    for key in ("name", "description"):
-        if not isinstance(data.get(key), str) or not data[key].strip():
-            raise InputError(key, data.get(key), "a non-empty text", detail=f"in {path}")
-    sources = data.get("sources", {})
-    if not isinstance(sources, dict):
-        raise InputError("sources", sources, "a table of text entries")
-    vals = {}
-    spectro = data.get("spectrograph", {})
-    lam_range = None
-    for table, keys in _SCHEMA.items():
-        section = data.get(table, {})
-        if not isinstance(section, dict):
-            raise InputError(table, section, f"a [{table}] table")
-        for key in section:
-            if key not in keys:
-                raise UnknownKeyError(f"{table}.{key}", section[key],
-                                      f"keys of [{table}]: " + ", ".join(keys))
-        if table == "spectrograph":
-            for k in ("wavelength_min_um", "wavelength_max_um"):
-                if k not in spectro:
-                    raise InputError(f"spectrograph.{k}", None, "a wavelength in um",
-                                     detail=f"required key missing in {path}")
-            lo = scalar_si(spectro["wavelength_min_um"], "spectrograph.wavelength_min_um",
-                             u.um, 0.05, 1000.0)
-            hi = scalar_si(spectro["wavelength_max_um"], "spectrograph.wavelength_max_um",
-                             u.um, 0.05, 1000.0)
-            if hi <= lo:
-                raise InputError("spectrograph.wavelength_max_um", hi * 1e6,
-                                 f"greater than wavelength_min_um = {lo*1e6:.4g} um")
-            lam_range = (lo, hi)
-        for key, (kind, unit, low, high, required) in keys.items():
-            fname = f"{table}.{key}"
-            if key not in section:
-                if required:
-                    raise InputError(fname, None, _describe(kind, unit, low, high),
-                                     detail=f"required key missing in {path}")
-                continue
-            v = section[key]
-            if kind == "num":
-                if isinstance(v, bool) or not isinstance(v, (int, float, str)):
-                    raise InputError(fname, v, _describe(kind, unit, low, high))
-                vals[fname] = scalar_si(v, fname, unit or u.dimensionless_unscaled,
-                                          low, high)
-            elif kind == "int":
-                if isinstance(v, bool) or not isinstance(v, int):
-                    raise InputError(fname, v, _describe(kind, unit, low, high))
-                check_range(parse_number(v, fname, integer=True), fname, low, high)
-                vals[fname] = int(v)
-            elif kind == "groups":
-                if v == "auto":
-                    vals[fname] = None
-                elif isinstance(v, int) and not isinstance(v, bool):
-                    check_range(parse_number(v, fname, integer=True), fname, low, high)
-                    vals[fname] = int(v)
-                else:
-                    raise InputError(fname, v, "\"auto\" or a whole number >= 2")
-            elif kind == "curve":
-                vals[fname] = _curve(v, fname, low, high, lam_range)
-            elif kind == "bool":
-                if not isinstance(v, bool):
-                    raise InputError(fname, v, "true or false")
-                vals[fname] = v
-            elif kind == "text":
-                if v not in _SCHEMES:
-                    raise InputError(fname, v, "one of " + ", ".join(_SCHEMES))
-                vals[fname] = v
-
-    # collecting area
-    if "telescope.collecting_area_m2" in vals:
-        if "telescope.diameter_m" in vals:
-            raise InputError("telescope", "collecting_area_m2 and diameter_m",
-                             "only one of collecting_area_m2 or diameter_m")
-        area = vals["telescope.collecting_area_m2"]
-    elif "telescope.diameter_m" in vals:
-        d = vals["telescope.diameter_m"]
-        area = np.pi * d**2 / 4.0 * (1.0 - vals.get("telescope.obscured_area_fraction", 0.0))
-    else:
-        raise InputError("telescope.collecting_area_m2", None,
-                         "an area in m2 (or telescope.diameter_m)",
-                         detail=f"required key missing in {path}")
-    if area <= 0:
-        raise InputError("telescope.collecting_area_m2", area, "a positive area")
-
-    scheme = vals["readout.scheme"]
-    need = (["readout.frame_time_s", "detector.full_well_electrons",
-             "detector.usable_well_fraction", "spectrograph.brightest_pixel_fraction"]
-            if scheme == "up-the-ramp" else
-            ["readout.exposure_time_s", "readout.reads_per_exposure", "readout.duty_cycle"])
-    for fname in need:
-        if fname not in vals:
-            table, key = fname.split(".")
-            kind, unit, low, high, _ = _SCHEMA[table][key]
-            raise InputError(fname, None, _describe(kind, unit, low, high),
-                             detail=f"required for readout.scheme = \"{scheme}\" in {path}")
-    for fname in ("readout.frame_time_s", "readout.exposure_time_s"):
-        if fname in vals and vals[fname] <= 0:
-            raise InputError(fname, vals[fname], "a positive time in s")
-    if "readout.duty_cycle" in vals and vals["readout.duty_cycle"] <= 0:
-        raise InputError("readout.duty_cycle", vals["readout.duty_cycle"],
-                         "a fraction in (0, 1] (no light is collected at 0)")
-    min_g = vals.get("readout.min_groups", 2)
-    max_g = vals.get("readout.max_groups", 100)
-    if max_g < min_g:
-        raise InputError("readout.max_groups", max_g, f">= readout.min_groups = {min_g}")
-    fixed = vals.get("readout.groups_per_integration")
-    if fixed is not None and not (min_g <= fixed <= max_g):
-        raise InputError("readout.groups_per_integration", fixed,
-                         f"between min_groups = {min_g} and max_groups = {max_g}")
+    sources = _top_level(data, path)
+    vals, lam_range = _section_values(data, path)
+    area = _collecting_area(vals, path)
+    scheme, min_g, max_g, fixed = _readout_settings(vals, path)
     nan = float("nan")
     const0 = Curve(np.zeros(0), np.array([nan]))
     return Mode(
@@ -221,6 +113,144 @@ def parse_mode(data, path="<mapping>"):
         sources={str(k): str(v) for k, v in sources.items()},
         path=path,
     )
+
+
+def _top_level(data, path):
+    """Check the top-level keys, name and description; return the [sources] table."""
+    allowed_top = {"name", "description", "sources", *_SCHEMA}
+    for key in data:
+        if key not in allowed_top:
+            raise UnknownKeyError(key, data[key], "top-level keys " + ", ".join(sorted(allowed_top)))
+    for key in ("name", "description"):
+        if not isinstance(data.get(key), str) or not data[key].strip():
+            raise InputError(key, data.get(key), "a non-empty text", detail=f"in {path}")
+    sources = data.get("sources", {})
+    if not isinstance(sources, dict):
+        raise InputError("sources", sources, "a table of text entries")
+    return sources
+
+
+def _section_values(data, path):
+    """Every key of every table, checked and in SI: {"table.key": value}, and the range [m]."""
+    vals = {}
+    spectro = data.get("spectrograph", {})
+    lam_range = None
+    for table, keys in _SCHEMA.items():
+        section = data.get(table, {})
+        if not isinstance(section, dict):
+            raise InputError(table, section, f"a [{table}] table")
+        for key in section:
+            if key not in keys:
+                raise UnknownKeyError(f"{table}.{key}", section[key],
+                                      f"keys of [{table}]: " + ", ".join(keys))
+        if table == "spectrograph":
+            lam_range = _spectral_range(spectro, path)
+        for key, (kind, unit, low, high, required) in keys.items():
+            fname = f"{table}.{key}"
+            if key not in section:
+                if required:
+                    raise InputError(fname, None, _describe(kind, unit, low, high),
+                                     detail=f"required key missing in {path}")
+                continue
+            vals[fname] = _value(kind, section[key], fname, unit, low, high, lam_range)
+    return vals, lam_range
+
+
+def _spectral_range(spectro, path):
+    """(shortest, longest) wavelength [m] of the spectrograph."""
+    for k in ("wavelength_min_um", "wavelength_max_um"):
+        if k not in spectro:
+            raise InputError(f"spectrograph.{k}", None, "a wavelength in um",
+                             detail=f"required key missing in {path}")
+    lo = scalar_si(spectro["wavelength_min_um"], "spectrograph.wavelength_min_um",
+                   u.um, 0.05, 1000.0)
+    hi = scalar_si(spectro["wavelength_max_um"], "spectrograph.wavelength_max_um",
+                   u.um, 0.05, 1000.0)
+    if hi <= lo:
+        raise InputError("spectrograph.wavelength_max_um", hi * 1e6,
+                         f"greater than wavelength_min_um = {lo*1e6:.4g} um")
+    return (lo, hi)
+
+
+def _value(kind, v, fname, unit, low, high, lam_range):
+    """One key's value, checked against its kind and range."""
+    if kind == "num":
+        if isinstance(v, bool) or not isinstance(v, (int, float, str)):
+            raise InputError(fname, v, _describe(kind, unit, low, high))
+        return scalar_si(v, fname, unit or u.dimensionless_unscaled, low, high)
+    elif kind == "int":
+        if isinstance(v, bool) or not isinstance(v, int):
+            raise InputError(fname, v, _describe(kind, unit, low, high))
+        check_range(parse_number(v, fname, integer=True), fname, low, high)
+        return int(v)
+    elif kind == "groups":
+        if v == "auto":
+            return None
+        elif isinstance(v, int) and not isinstance(v, bool):
+            check_range(parse_number(v, fname, integer=True), fname, low, high)
+            return int(v)
+        else:
+            raise InputError(fname, v, "\"auto\" or a whole number >= 2")
+    elif kind == "curve":
+        return _curve(v, fname, low, high, lam_range)
+    elif kind == "bool":
+        if not isinstance(v, bool):
+            raise InputError(fname, v, "true or false")
+        return v
+    elif kind == "text":
+        if v not in _SCHEMES:
+            raise InputError(fname, v, "one of " + ", ".join(_SCHEMES))
+        return v
+
+
+def _collecting_area(vals, path):
+    """Collecting area [m2] from collecting_area_m2, or from diameter_m and the obscured fraction."""
+    if "telescope.collecting_area_m2" in vals:
+        if "telescope.diameter_m" in vals:
+            raise InputError("telescope", "collecting_area_m2 and diameter_m",
+                             "only one of collecting_area_m2 or diameter_m")
+        area = vals["telescope.collecting_area_m2"]
+    elif "telescope.diameter_m" in vals:
+        d = vals["telescope.diameter_m"]
+        area = np.pi * d**2 / 4.0 * (1.0 - vals.get("telescope.obscured_area_fraction", 0.0))
+    else:
+        raise InputError("telescope.collecting_area_m2", None,
+                         "an area in m2 (or telescope.diameter_m)",
+                         detail=f"required key missing in {path}")
+    if area <= 0:
+        raise InputError("telescope.collecting_area_m2", area, "a positive area")
+
+    return area
+
+
+def _readout_settings(vals, path):
+    """The readout scheme, its required keys, and the range of groups per integration."""
+    scheme = vals["readout.scheme"]
+    need = (["readout.frame_time_s", "detector.full_well_electrons",
+             "detector.usable_well_fraction", "spectrograph.brightest_pixel_fraction"]
+            if scheme == "up-the-ramp" else
+            ["readout.exposure_time_s", "readout.reads_per_exposure", "readout.duty_cycle"])
+    for fname in need:
+        if fname not in vals:
+            table, key = fname.split(".")
+            kind, unit, low, high, _ = _SCHEMA[table][key]
+            raise InputError(fname, None, _describe(kind, unit, low, high),
+                             detail=f"required for readout.scheme = \"{scheme}\" in {path}")
+    for fname in ("readout.frame_time_s", "readout.exposure_time_s"):
+        if fname in vals and vals[fname] <= 0:
+            raise InputError(fname, vals[fname], "a positive time in s")
+    if "readout.duty_cycle" in vals and vals["readout.duty_cycle"] <= 0:
+        raise InputError("readout.duty_cycle", vals["readout.duty_cycle"],
+                         "a fraction in (0, 1] (no light is collected at 0)")
+    min_g = vals.get("readout.min_groups", 2)
+    max_g = vals.get("readout.max_groups", 100)
+    if max_g < min_g:
+        raise InputError("readout.max_groups", max_g, f">= readout.min_groups = {min_g}")
+    fixed = vals.get("readout.groups_per_integration")
+    if fixed is not None and not (min_g <= fixed <= max_g):
+        raise InputError("readout.groups_per_integration", fixed,
+                         f"between min_groups = {min_g} and max_groups = {max_g}")
+    return scheme, min_g, max_g, fixed
 
 
 def _describe(kind, unit, low, high):
