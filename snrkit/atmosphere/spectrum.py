@@ -28,22 +28,25 @@ g-weights (the bin-average depth, not the depth of the bin-mean opacity).
 import numpy as np
 
 from ..errors import InputError
-from .mixture import _CIA_SPECIES, _default_opacity_source, wavelength_bin_edges
+from .mixture import _CIA_SPECIES, _default_opacity_source
 from .solve import (RADIUS_CALIBRATIONS, _calibrated, _calibration_weights, _shift_radius,
     _solve_depth)
+from .spectrum_inputs import _checked_scenarios, _grids, _planet_arrays
+# public names whose code lives in the modules above
+from .spectrum_inputs import DEFAULT_TOP_PRESSURE_PA  # noqa: F401
+from .mixture import wavelength_bin_edges  # noqa: F401
 
-__all__ = ["transmission_spectrum", "SOLVERS", "DEFAULT_TOP_PRESSURE_PA"]
+__all__ = ["transmission_spectrum", "wavelength_bin_edges", "SOLVERS", "DEFAULT_TOP_PRESSURE_PA"]
 
 # ---------------------------------------------------------------------------
 # Public layer
 # ---------------------------------------------------------------------------
 
-#: Default top of the model atmosphere [Pa] (1e-11 bar; high enough above the
-#: strongest band centres of the presets at R = 1000).
-DEFAULT_TOP_PRESSURE_PA = 1e-6
 SOLVERS = ("analytic", "layers")
 
 
+# size: the docstring documents every parameter of the public spectrum function; the body
+# is the per-scenario loop, its checks and assembly in helpers
 def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mass=None,
                           gravity=None, equilibrium_temperature=None, semi_major_axis=None,
                           wavelength_edges=None, resolution=100, solver="analytic",
@@ -139,68 +142,15 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         ``wavelength`` (bin centres, um), ``wavelength_lower`` and
         ``wavelength_upper`` (um).  Units are in each variable's attrs.
     """
-    import astropy.units as u
-    from ..constants import G
-    from ..units import to_si
-    from .profiles import DEFAULT_N_LAYERS, scale_height
-    from .scenarios import load_scenario
+    from .profiles import scale_height
 
-    many = isinstance(scenario, (list, tuple))
-    specs = list(scenario) if many else [scenario]
-    if not specs:
-        raise InputError("scenario", scenario, "at least one scenario")
-    scenarios = [load_scenario(s) for s in specs]
-    for sc in scenarios:
-        if not sc.featureless and not sc.mixing_ratios:
-            raise InputError(f"scenario {sc.name!r}: mixing_ratios", None,
-                             "a table of species = volume mixing ratio (a spectrum needs the "
-                             "gases, not only a mean molecular weight)")
-    names = [s.name for s in scenarios]
-    if len(set(names)) != len(names):
-        raise InputError("scenario", names, "scenarios with distinct names")
+    many, scenarios, names = _checked_scenarios(scenario)
     if solver not in SOLVERS:
         raise InputError("solver", solver, " or ".join(SOLVERS))
-    rp = np.atleast_1d(to_si(planet_radius, "planet_radius", u.earthRad, 0.0, None,
-                             low_inclusive=False))
-    rs = np.atleast_1d(to_si(stellar_radius, "stellar_radius", u.solRad, 0.0, None,
-                             low_inclusive=False))
-    if (planet_mass is None) == (gravity is None):
-        raise InputError("planet_mass/gravity", None, "exactly one of planet_mass or gravity")
-    if gravity is not None:
-        g0 = np.atleast_1d(to_si(gravity, "gravity", u.m / u.s**2, 0.0, None, low_inclusive=False))
-    else:
-        mp = np.atleast_1d(to_si(planet_mass, "planet_mass", u.earthMass, 0.0, None,
-                                 low_inclusive=False))
-        g0 = G * mp / np.broadcast_to(rp, np.broadcast_shapes(rp.shape, mp.shape)) ** 2
-    teq = (np.atleast_1d(to_si(equilibrium_temperature, "equilibrium_temperature", u.K, 0.0,
-                               None, low_inclusive=False))
-           if equilibrium_temperature is not None else np.array([np.nan]))
-    a_m = (np.atleast_1d(to_si(semi_major_axis, "semi_major_axis", u.AU, 0.0, None,
-                               low_inclusive=False))
-           if semi_major_axis is not None else np.array([np.nan]))
-    if refraction and semi_major_axis is None:
-        raise InputError("semi_major_axis", None, "a distance (needed for refraction=True)")
-    try:
-        rp, rs, g0, teq, a_m = (np.array(v, dtype=np.float64) for v in
-                                np.broadcast_arrays(rp, rs, g0, teq, a_m))
-    except ValueError:
-        raise InputError("planet arrays", "shapes " + ", ".join(
-            str(np.shape(v)) for v in (rp, rs, g0, teq, a_m)), "arrays of one common length") from None
-    if rp.ndim != 1:
-        raise InputError("planet_radius", f"shape {rp.shape}", "a scalar or 1-D array")
+    rp, rs, g0, teq, a_m = _planet_arrays(planet_radius, stellar_radius, planet_mass, gravity,
+                                          equilibrium_temperature, semi_major_axis, refraction)
     npl = rp.shape[0]
-    if wavelength_edges is None:
-        edges = wavelength_bin_edges(resolution)
-    else:
-        edges = to_si(wavelength_edges, "wavelength_edges", u.um, 0.0, None, low_inclusive=False)
-        if edges.ndim != 1 or edges.size < 2 or np.any(np.diff(edges) <= 0):
-            raise InputError("wavelength_edges", f"{edges.size} values",
-                             "at least 2 strictly increasing wavelengths")
-    if isinstance(n_g, bool) or not isinstance(n_g, (int, np.integer)) or not 1 <= n_g <= 64:
-        raise InputError("n_g", n_g, "an integer in [1, 64]")
-    n_layers = DEFAULT_N_LAYERS if n_layers is None else n_layers
-    p_top = (DEFAULT_TOP_PRESSURE_PA if top_pressure is None else
-             float(to_si(top_pressure, "top_pressure", u.Pa, 0.0, None, low_inclusive=False)))
+    edges, n_layers, p_top = _grids(wavelength_edges, resolution, n_g, n_layers, top_pressure)
     if planet_names is None:
         planet_names = [f"planet {i}" for i in range(npl)] if npl > 1 else ["planet"]
     planet_names = [str(n) for n in planet_names]
@@ -231,22 +181,35 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         _warn_extended(sc, h, rp, planet_names)
         ds = _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0 + delta)
         if contributions:
-            import xarray as xr
-            wanted = None if contributions is True else set(contributions)
-            absorbers = ([] if sc.featureless else
-                         [k for k in sc.mixing_ratios if _absorbs(source, k)
-                          and (wanted is None or k in wanted)])
-            rows = []
-            for sp in absorbers:
-                d_x, _ = _solve_depth(sc, rp=r0, g0=g0c, exclude=sp, **solve_kw)
-                rows.append(_shift_radius(d_x, rs, delta) * 1e6)
-            data = (np.stack(rows, axis=1) if rows else np.zeros((npl, 0, edges.size - 1)))
-            contrib.append(xr.DataArray(
-                data, dims=("planet", "species", "wavelength"),
-                coords={"species": absorbers},
-                attrs={"units": "ppm", "long_name": "transit depth with this species' opacity "
-                       "removed (mean molecular weight unchanged)"}))
+            contrib.append(_contribution(sc, source, contributions, r0, g0c, rs, delta, npl,
+                                         edges, solve_kw))
         datasets.append(ds)
+    return _combined(datasets, contrib, scenarios, names, many,
+                     _attributes(solver, n_g, p_top, refraction, radius_calibration,
+                                 calibration_band, n_layers))
+
+
+def _contribution(sc, source, contributions, r0, g0c, rs, delta, npl, edges, solve_kw):
+    """Depths [ppm] with each (wanted) absorber's opacity removed: (planet, species, wavelength)."""
+    import xarray as xr
+    wanted = None if contributions is True else set(contributions)
+    absorbers = ([] if sc.featureless else
+                 [k for k in sc.mixing_ratios if _absorbs(source, k)
+                  and (wanted is None or k in wanted)])
+    rows = []
+    for sp in absorbers:
+        d_x, _ = _solve_depth(sc, rp=r0, g0=g0c, exclude=sp, **solve_kw)
+        rows.append(_shift_radius(d_x, rs, delta) * 1e6)
+    data = (np.stack(rows, axis=1) if rows else np.zeros((npl, 0, edges.size - 1)))
+    return xr.DataArray(
+        data, dims=("planet", "species", "wavelength"),
+        coords={"species": absorbers},
+        attrs={"units": "ppm", "long_name": "transit depth with this species' opacity "
+               "removed (mean molecular weight unchanged)"})
+
+
+def _attributes(solver, n_g, p_top, refraction, radius_calibration, calibration_band, n_layers):
+    """The settings and the method, as Dataset attributes."""
     attrs = {"solver": solver, "n_g": int(n_g), "top_pressure_Pa": p_top,
              "refraction_limit": int(bool(refraction)), "radius_calibration": radius_calibration,
              "calibration_band_um": ("bins" if calibration_band is None else
@@ -257,6 +220,11 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
                         "over k-distribution g-points")}
     if solver == "layers":
         attrs["n_layers"] = int(n_layers)
+    return attrs
+
+
+def _combined(datasets, contrib, scenarios, names, many, attrs):
+    """One Dataset (or one per scenario along a ``scenario`` axis), contributions included."""
     if not many:
         out = datasets[0]
         out = out.assign_coords(scenario=scenarios[0].name)
@@ -362,9 +330,3 @@ def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0):
     if np.any(np.isfinite(ex["refraction_floor"])):
         ds["refraction_floor_bar"] = ("planet", ex["refraction_floor"] / 1e5, {"units": "bar"})
     return ds
-
-
-# ---------------------------------------------------------------------------
-# Band amplitude in scale heights (the quick estimate's N_H)
-# ---------------------------------------------------------------------------
-
