@@ -245,7 +245,6 @@ def plot_spectrum(ds, path, scenario_species=None):
 
 
 def run(args):
-    import numpy as np
     from ..errors import InputError
     from ..io.systemfile import load_system
     from ..atmosphere.spectrum import wavelength_bin_edges
@@ -258,18 +257,7 @@ def run(args):
     if args.layers is not None and args.solver != "layers":
         raise InputError("--layers", args.layers, "only with --solver layers")
     scenarios = [load_scenario(s, field="--scenario") for s in (args.scenario or [])]
-    source = None
-    if args.cross_sections:
-        from ..atmosphere.user_opacity import UserOpacitySource
-        tables = {}
-        for item in args.cross_sections:
-            species, sep, path = (part.strip() for part in item.partition("="))
-            if not sep or not species or not path:
-                raise InputError("--cross-sections", item, "SPECIES=FILE, e.g. H2O=h2o.csv")
-            if species in tables:
-                raise InputError("--cross-sections", item, "each species at most once")
-            tables[species] = path
-        source = UserOpacitySource(tables)
+    source = _opacity_source(args.cross_sections) if args.cross_sections else None
     calib = "reference-pressure" if args.radius_at_reference_pressure else "observed-depth"
     band = tuple(args.white_light)
     if calib == "observed-depth":
@@ -292,43 +280,70 @@ def run(args):
         plot_spectrum(ds, args.plot, species)
     rows = _summary_rows(ds)
     if args.json:
-        out = {
-            "solver": args.solver,
-            "resolution": args.resolution,
-            "wavelength_um": ds["wavelength"].values,
-            "wavelength_lower_um": ds["wavelength_lower"].values,
-            "wavelength_upper_um": ds["wavelength_upper"].values,
-            "spectra": rows,
-        }
-        if len(rows) == 1:
-            for key in ("planet", "scenario", "transit_depth_ppm", "scale_height_km",
-                        "annulus_ppm_per_scale_height"):
-                out[key] = rows[0][key]
-        else:
-            for key in ("planet", "scenario", "transit_depth_ppm", "scale_height_km",
-                        "annulus_ppm_per_scale_height"):
-                out[key] = [r[key] for r in rows]
-        # The per-planet convention of every snrkit command: a "planets" list
-        # whose objects carry the keys (first scenario at the top of each,
-        # every scenario in its "spectra" list).
-        planets = {}
-        for r in rows:
-            entry = planets.setdefault(r["planet"], {"name": r["planet"],
-                                                     "wavelength_um": ds["wavelength"].values,
-                                                     "spectra": []})
-            entry["spectra"].append({k: v for k, v in r.items() if k != "planet"})
-        for entry in planets.values():
-            first = entry["spectra"][0]
-            for key in ("scenario", "transit_depth_ppm", "scale_height_km",
-                        "annulus_ppm_per_scale_height"):
-                entry[key] = first[key]
-        out["planets"] = list(planets.values())
-        if args.out:
-            out["out"] = str(args.out)
-        if args.plot:
-            out["plot"] = str(args.plot)
-        print_json(out)
+        print_json(_json_summary(args, ds, rows))
         return 0
+    _print_summary(args, ds, rows, lo, hi, band, calib)
+    return 0
+
+
+def _opacity_source(items):
+    """A UserOpacitySource from the ``--cross-sections SPECIES=FILE`` items."""
+    from ..errors import InputError
+    from ..atmosphere.user_opacity import UserOpacitySource
+    tables = {}
+    for item in items:
+        species, sep, path = (part.strip() for part in item.partition("="))
+        if not sep or not species or not path:
+            raise InputError("--cross-sections", item, "SPECIES=FILE, e.g. H2O=h2o.csv")
+        if species in tables:
+            raise InputError("--cross-sections", item, "each species at most once")
+        tables[species] = path
+    return UserOpacitySource(tables)
+
+
+def _json_summary(args, ds, rows):
+    """The JSON object of the spectra: the bins, one entry per spectrum, a ``planets`` list."""
+    out = {
+        "solver": args.solver,
+        "resolution": args.resolution,
+        "wavelength_um": ds["wavelength"].values,
+        "wavelength_lower_um": ds["wavelength_lower"].values,
+        "wavelength_upper_um": ds["wavelength_upper"].values,
+        "spectra": rows,
+    }
+    if len(rows) == 1:
+        for key in ("planet", "scenario", "transit_depth_ppm", "scale_height_km",
+                    "annulus_ppm_per_scale_height"):
+            out[key] = rows[0][key]
+    else:
+        for key in ("planet", "scenario", "transit_depth_ppm", "scale_height_km",
+                    "annulus_ppm_per_scale_height"):
+            out[key] = [r[key] for r in rows]
+    # The per-planet convention of every snrkit command: a "planets" list
+    # whose objects carry the keys (first scenario at the top of each,
+    # every scenario in its "spectra" list).
+    planets = {}
+    for r in rows:
+        entry = planets.setdefault(r["planet"], {"name": r["planet"],
+                                                 "wavelength_um": ds["wavelength"].values,
+                                                 "spectra": []})
+        entry["spectra"].append({k: v for k, v in r.items() if k != "planet"})
+    for entry in planets.values():
+        first = entry["spectra"][0]
+        for key in ("scenario", "transit_depth_ppm", "scale_height_km",
+                    "annulus_ppm_per_scale_height"):
+            entry[key] = first[key]
+    out["planets"] = list(planets.values())
+    if args.out:
+        out["out"] = str(args.out)
+    if args.plot:
+        out["plot"] = str(args.plot)
+    return out
+
+
+def _print_summary(args, ds, rows, lo, hi, band, calib):
+    """The plain-text summary: settings, one line per spectrum, the depths per bin."""
+    import numpy as np
     print(f"solver {args.solver}, R = {args.resolution:g}, {lo:g}-{hi:g} um, "
           f"{ds.sizes['wavelength']} bins; "
           + (f"model depth averaged over {band[0]:g}-{band[1]:g} um equals the observed depth"
@@ -357,4 +372,3 @@ def run(args):
         print(f"\nwrote {args.out}")
     if args.plot:
         print(f"wrote {args.plot}")
-    return 0
