@@ -163,7 +163,25 @@ def read_user_spectrum(path, depth_kind, *, wavelength_column=None, depth_column
     if wcol == dcol:
         raise InputError("depth_column", dcol, "a column other than the wavelength column")
 
-    file_unit = table[wcol].unit
+    unit = _wavelength_unit(table[wcol].unit, wavelength_unit, wcol, path)
+    raw_w = _as_float(table[wcol], f"column {wcol}")
+    try:
+        lam = (raw_w * unit).to_value(u.um, equivalencies=u.spectral())
+    except u.UnitConversionError:
+        raise UnitMismatchError("wavelength_unit", str(unit),
+                                "a length, frequency, wavenumber or energy unit") from None
+    d = _as_float(table[dcol], f"column {dcol}")
+    lam, d = _checked_values(lam, d, raw_w, wcol, dcol, depth_kind, path)
+    ppm = {"ppm": d, "percent": d * 1e4, "fraction": d * 1e6, "radius-ratio": d * d * 1e6}[depth_kind]
+    return xr.Dataset(
+        {"transit_depth_ppm": ("wavelength", ppm, {"units": "ppm"})},
+        coords={"wavelength": ("wavelength", lam, {"units": "um"})},
+        attrs={"source_file": str(path), "wavelength_column": wcol, "depth_column": dcol,
+               "depth_kind": depth_kind, "wavelength_unit_in_file": str(unit)})
+
+
+def _wavelength_unit(file_unit, wavelength_unit, wcol, path):
+    """The unit of the spectral column: the one given, the file's, and they must agree."""
     if wavelength_unit is not None:
         try:
             unit = u.Unit(wavelength_unit)
@@ -178,13 +196,11 @@ def read_user_spectrum(path, depth_kind, *, wavelength_column=None, depth_column
     else:
         raise UnitMismatchError("wavelength_unit", None, "a unit such as um, nm, Angstrom, cm-1",
                                 detail=f"column {wcol!r} of {path.name} carries no unit")
-    raw_w = _as_float(table[wcol], f"column {wcol}")
-    try:
-        lam = (raw_w * unit).to_value(u.um, equivalencies=u.spectral())
-    except u.UnitConversionError:
-        raise UnitMismatchError("wavelength_unit", str(unit),
-                                "a length, frequency, wavenumber or energy unit") from None
-    d = _as_float(table[dcol], f"column {dcol}")
+    return unit
+
+
+def _checked_values(lam, d, raw_w, wcol, dcol, depth_kind, path):
+    """Wavelengths [um] and depths, finite, in range and in increasing wavelength order."""
     for name, arr in ((wcol, lam), (dcol, d)):
         bad = ~np.isfinite(arr)
         if bad.any():
@@ -219,12 +235,7 @@ def read_user_spectrum(path, depth_kind, *, wavelength_column=None, depth_column
                          "strictly increasing (or strictly decreasing) wavelengths",
                          detail=f"{what} value")
     lam, d = lam[order], d[order]
-    ppm = {"ppm": d, "percent": d * 1e4, "fraction": d * 1e6, "radius-ratio": d * d * 1e6}[depth_kind]
-    return xr.Dataset(
-        {"transit_depth_ppm": ("wavelength", ppm, {"units": "ppm"})},
-        coords={"wavelength": ("wavelength", lam, {"units": "um"})},
-        attrs={"source_file": str(path), "wavelength_column": wcol, "depth_column": dcol,
-               "depth_kind": depth_kind, "wavelength_unit_in_file": str(unit)})
+    return lam, d
 
 
 def sample_edges(x):
