@@ -144,59 +144,11 @@ def _validate(t, where, source):
     if not isinstance(desc, str):
         raise InputError(f"{where}.description", desc, "text")
     fill = t.get("fill_gas")
-    masses = species_molar_masses()
-    if "mixing_ratios" in t:
-        mr = t["mixing_ratios"]
-        if not isinstance(mr, dict):
-            raise InputError(f"{where}.mixing_ratios", mr, "a table such as { N2 = 0.78, O2 = 0.21 }")
-        mr = {k: parse_number(v, f"{where}.mixing_ratios.{k}", 0.0, 1.0) for k, v in mr.items()}
-        if fill is not None and not isinstance(fill, str):
-            raise InputError(f"{where}.fill_gas", fill, "a species name")
-        x = normalise_mixing_ratios(mr, fill_gas=fill, field=f"{where}.mixing_ratios")
-        x = {k: float(v) for k, v in x.items()}
-        mu = float(sum(x[k] * masses[k] for k in x))
-        if "mean_molecular_weight" in t:
-            raise InputError(f"{where}.mean_molecular_weight", t["mean_molecular_weight"],
-                             "either mixing_ratios or mean_molecular_weight, not both")
-    elif "mean_molecular_weight" in t:
-        if fill is not None:
-            raise InputError(f"{where}.fill_gas", fill, "only together with mixing_ratios")
-        mu = _number(t, "mean_molecular_weight", where, 0.0, None, low_inclusive=False)
-        x = {}
-    else:
-        raise InputError(f"{where}.mixing_ratios", None,
-                         "a table of species = volume mixing ratio (or a mean_molecular_weight)")
+    x, mu = _composition(t, where, fill)
 
-    temp = None
-    if "temperature" in t:
-        temp = scalar_si(t["temperature"], f"{where}.temperature", u.K, *TEMPERATURE_RANGE_K)
-        if "temperature_factor" in t:
-            raise InputError(f"{where}.temperature_factor", t["temperature_factor"],
-                             "either temperature or temperature_factor, not both")
-    factor = _number(t, "temperature_factor", where, 0.0, None, False) if "temperature_factor" in t else 1.0
-    prof = t.get("temperature_profile", "isothermal")
-    if prof not in TEMPERATURE_PROFILES:
-        close = difflib.get_close_matches(str(prof), TEMPERATURE_PROFILES, n=1, cutoff=0.4)
-        raise InputError(f"{where}.temperature_profile", prof, " or ".join(TEMPERATURE_PROFILES),
-                         detail=f"did you mean {close[0]!r}?" if close else "")
-    tint = (scalar_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0,
-                      TEMPERATURE_RANGE_K[1])
-            if "internal_temperature" in t else 0.0)
-    kth = (scalar_si(t["thermal_opacity"], f"{where}.thermal_opacity", u.m**2 / u.kg, 0.0,
-                       low_inclusive=False) if "thermal_opacity" in t else 1e-3)
-    gam = (_number(t, "visible_to_thermal_ratio", where, 0.0, None, False)
-           if "visible_to_thermal_ratio" in t else 0.4)
+    temp, factor, prof, tint, kth, gam = _temperature_rule(t, where)
 
-    p_ref = (_pressure(t, "reference_pressure", where) if "reference_pressure" in t
-             else _DEFAULT_REFERENCE_PRESSURE_BAR * 1e5)
-    p_surf = _pressure(t, "surface_pressure", where) if "surface_pressure" in t else None
-    p_cloud = _pressure(t, "cloud_top_pressure", where) if "cloud_top_pressure" in t else None
-    if p_surf is not None and p_ref > p_surf * (1 + 1e-9):
-        raise InputError(f"{where}.reference_pressure", f"{p_ref / 1e5:.6g} bar",
-                         f"at most the surface pressure ({p_surf / 1e5:.6g} bar)")
-    if p_surf is not None and p_cloud is not None and p_cloud >= p_surf:
-        raise InputError(f"{where}.cloud_top_pressure", f"{p_cloud / 1e5:.6g} bar",
-                         f"below the surface pressure ({p_surf / 1e5:.6g} bar)")
+    p_ref, p_surf, p_cloud = _pressures(t, where)
     haze = _number(t, "haze_enhancement", where, 0.0) if "haze_enhancement" in t else 0.0
     slope = _number(t, "haze_slope", where) if "haze_slope" in t else -4.0
     feat = t.get("featureless", False)
@@ -226,6 +178,72 @@ def _validate(t, where, source):
                     featureless=feat, feature_scale_heights=n_h, source=source,
                     provenance={str(k): str(v) for k, v in prov.items()},
                     temperature_table=table, cold_trap=trap, mixing_ratio_profiles=profiles)
+
+
+def _composition(t, where, fill):
+    """Mixing ratios (normalised, fill gas included) and the mean molecular weight [g/mol]."""
+    masses = species_molar_masses()
+    if "mixing_ratios" in t:
+        mr = t["mixing_ratios"]
+        if not isinstance(mr, dict):
+            raise InputError(f"{where}.mixing_ratios", mr, "a table such as { N2 = 0.78, O2 = 0.21 }")
+        mr = {k: parse_number(v, f"{where}.mixing_ratios.{k}", 0.0, 1.0) for k, v in mr.items()}
+        if fill is not None and not isinstance(fill, str):
+            raise InputError(f"{where}.fill_gas", fill, "a species name")
+        x = normalise_mixing_ratios(mr, fill_gas=fill, field=f"{where}.mixing_ratios")
+        x = {k: float(v) for k, v in x.items()}
+        mu = float(sum(x[k] * masses[k] for k in x))
+        if "mean_molecular_weight" in t:
+            raise InputError(f"{where}.mean_molecular_weight", t["mean_molecular_weight"],
+                             "either mixing_ratios or mean_molecular_weight, not both")
+    elif "mean_molecular_weight" in t:
+        if fill is not None:
+            raise InputError(f"{where}.fill_gas", fill, "only together with mixing_ratios")
+        mu = _number(t, "mean_molecular_weight", where, 0.0, None, low_inclusive=False)
+        x = {}
+    else:
+        raise InputError(f"{where}.mixing_ratios", None,
+                         "a table of species = volume mixing ratio (or a mean_molecular_weight)")
+    return x, mu
+
+
+def _temperature_rule(t, where):
+    """Temperature [K] or factor x Teq, the profile kind and the grey two-stream parameters."""
+    temp = None
+    if "temperature" in t:
+        temp = scalar_si(t["temperature"], f"{where}.temperature", u.K, *TEMPERATURE_RANGE_K)
+        if "temperature_factor" in t:
+            raise InputError(f"{where}.temperature_factor", t["temperature_factor"],
+                             "either temperature or temperature_factor, not both")
+    factor = _number(t, "temperature_factor", where, 0.0, None, False) if "temperature_factor" in t else 1.0
+    prof = t.get("temperature_profile", "isothermal")
+    if prof not in TEMPERATURE_PROFILES:
+        close = difflib.get_close_matches(str(prof), TEMPERATURE_PROFILES, n=1, cutoff=0.4)
+        raise InputError(f"{where}.temperature_profile", prof, " or ".join(TEMPERATURE_PROFILES),
+                         detail=f"did you mean {close[0]!r}?" if close else "")
+    tint = (scalar_si(t["internal_temperature"], f"{where}.internal_temperature", u.K, 0.0,
+                      TEMPERATURE_RANGE_K[1])
+            if "internal_temperature" in t else 0.0)
+    kth = (scalar_si(t["thermal_opacity"], f"{where}.thermal_opacity", u.m**2 / u.kg, 0.0,
+                       low_inclusive=False) if "thermal_opacity" in t else 1e-3)
+    gam = (_number(t, "visible_to_thermal_ratio", where, 0.0, None, False)
+           if "visible_to_thermal_ratio" in t else 0.4)
+    return temp, factor, prof, tint, kth, gam
+
+
+def _pressures(t, where):
+    """Reference, surface and cloud-top pressures [Pa], in a consistent order."""
+    p_ref = (_pressure(t, "reference_pressure", where) if "reference_pressure" in t
+             else _DEFAULT_REFERENCE_PRESSURE_BAR * 1e5)
+    p_surf = _pressure(t, "surface_pressure", where) if "surface_pressure" in t else None
+    p_cloud = _pressure(t, "cloud_top_pressure", where) if "cloud_top_pressure" in t else None
+    if p_surf is not None and p_ref > p_surf * (1 + 1e-9):
+        raise InputError(f"{where}.reference_pressure", f"{p_ref / 1e5:.6g} bar",
+                         f"at most the surface pressure ({p_surf / 1e5:.6g} bar)")
+    if p_surf is not None and p_cloud is not None and p_cloud >= p_surf:
+        raise InputError(f"{where}.cloud_top_pressure", f"{p_cloud / 1e5:.6g} bar",
+                         f"below the surface pressure ({p_surf / 1e5:.6g} bar)")
+    return p_ref, p_surf, p_cloud
 
 
 def _number_list(value, field, low, high, unit, low_inclusive=True):
