@@ -92,6 +92,8 @@ def _f_plane(tau):
     return np.where(pos, val, 0.0)
 
 
+# size: the reference solver the fast kernel is tested against: its Newton steps and the
+# H/R corrections share closures over the precomputed constants and read as one algorithm
 def analytic_radius(line_sigma, continuum_sigma, cia_coefficient, temperature_K, mu_g_mol,
                     reference_radius_m, reference_pressure_Pa, reference_gravity_m_s2,
                     floor_pressure_Pa, top_pressure_Pa, max_iter=60):

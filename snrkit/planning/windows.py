@@ -28,6 +28,7 @@ __all__ = ["MAX_LIGHT_TIME_S", "transit_windows"]
 MAX_LIGHT_TIME_S = 1.0167 * AU / C_LIGHT
 
 
+# size: the docstring documents the options and every column; the body is a list of steps
 def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BASELINE_T14,
                     padding_sigma=DEFAULT_PADDING_SIGMA):
     """Windows to schedule for every predicted transit in a date range.
