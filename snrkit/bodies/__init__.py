@@ -4,8 +4,8 @@
   the validated, immutable ``Star``, ``Planet`` and ``System`` and ``derive()``;
 * :mod:`snrkit.bodies.limits` -- the physical and the usual ranges of their numbers;
 * :mod:`snrkit.bodies.geometry` -- Kepler's third law and transit geometry (Winn 2010);
-* :mod:`snrkit.bodies.metrics` -- Teq, insolation, scale height, TSM/ESM, masses from radii;
-* :mod:`snrkit.bodies.habitable_zone` -- the Kopparapu et al. 2013/2014 limits;
+* :mod:`snrkit.bodies.metrics` -- Teq, insolation, scale height, TSM/ESM, masses from radii,
+  the Kopparapu et al. 2013/2014 habitable-zone limits;
 * :mod:`snrkit.bodies.describe` -- the records of ``snrkit describe``.
 """
 
