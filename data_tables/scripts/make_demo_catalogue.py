@@ -3,7 +3,7 @@
 Every star and planet in it is made up (names "Demo-NNNN" and "Demo-NNNN b"),
 drawn with a fixed random seed (:data:`SEED`) so the file is reproducible.
 It is written in snrkit's default catalogue layout (see the docstring of
-``snrkit/catalog.py``), with the units in the column metadata.
+``snrkit/planning/mapping.py``), with the units in the column metadata.
 
 Method
 ------

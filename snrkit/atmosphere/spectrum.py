@@ -30,7 +30,7 @@ import numpy as np
 from ..errors import InputError
 from .mixture import _CIA_SPECIES, _default_opacity_source
 from .solve import (RADIUS_CALIBRATIONS, _calibrated, _calibration_weights, _shift_radius,
-    _solve_depth)
+                    _solve_depth)
 from .spectrum_inputs import _checked_scenarios, _grids, _planet_arrays
 # public names whose code lives in the modules above
 from .spectrum_inputs import DEFAULT_TOP_PRESSURE_PA  # noqa: F401

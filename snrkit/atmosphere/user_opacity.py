@@ -79,7 +79,7 @@ import numpy as np
 
 from ..errors import InputError
 from .cross_section_files import (_blocks_from_table, _blocks_to_table, _check_species,
-    read_cross_sections)
+                                  read_cross_sections)
 from .user_kdist import _LN_FLOOR, _layout, _quantiles_on_layout
 # public names whose code lives in cross_section_files and user_kdist
 from .cross_section_checks import MIN_POINTS  # noqa: F401

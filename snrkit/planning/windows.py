@@ -16,7 +16,7 @@ from ..errors import InputError
 from ..units import check_range
 from .timescales import _tdb_jd_of, _utc_isot, observer_times, offline_time
 from .ephemeris import (CalendarWarning, DEFAULT_BASELINE_T14, DEFAULT_PADDING_SIGMA, _ephemeris,
-    _range, epoch_grid, parse_baseline, timing_sigma, window_half_width)
+                        _range, epoch_grid, parse_baseline, timing_sigma, window_half_width)
 from .observability import _ground_constraints, _space_constraints
 from .observatories import GroundSite, SpaceObservatory, parse_observatory
 

@@ -11,7 +11,7 @@ import numpy as np
 
 from ..errors import InputError
 from .probability import (check_probability, check_sigma, detection_probability, expected_statistic,
-    noncentrality_for_probability, significance_from_delta_chi2)
+                          noncentrality_for_probability, significance_from_delta_chi2)
 from .likelihood import nested_delta_chi2
 from .search import _asymptote, _linear_transits_needed, _search_transits
 
