@@ -20,7 +20,8 @@ from snrkit.planning import ephemeris
 from snrkit.planning import observability
 from snrkit.planning import timescales
 from snrkit.planning.observatories import GroundSite, SpaceObservatory
-from snrkit.planning.timescales import offline_time, bjd_to_utc
+from snrkit.planning.timescales import offline_time
+from snrkit.planning.observatories import bjd_to_utc
 from snrkit.planning.windows import transit_windows
 from snrkit.planning.ephemeris import predict_transits, epoch_grid, timing_sigma
 from snrkit.constants import DAY, AU, C_LIGHT

@@ -196,6 +196,39 @@ def test_no_cycles_between_packages():
             visit(u)
 
 
+def test_no_cycles_between_modules():
+    # one planet's path never climbs back up: no module imports, even lazily, a
+    # module that imports it back (Tarjan's strongly connected components)
+    graph = {m: {t for _, t in _imports(m) if t != m} for m in MODULES}
+    index, low, stack, on_stack, cycles = {}, {}, [], set(), []
+
+    def visit(v):
+        index[v] = low[v] = len(index)
+        stack.append(v)
+        on_stack.add(v)
+        for w in graph[v]:
+            if w not in index:
+                visit(w)
+                low[v] = min(low[v], low[w])
+            elif w in on_stack:
+                low[v] = min(low[v], index[w])
+        if low[v] == index[v]:
+            component = []
+            while True:
+                w = stack.pop()
+                on_stack.discard(w)
+                component.append(w)
+                if w == v:
+                    break
+            if len(component) > 1:
+                cycles.append(sorted(component))
+
+    for v in sorted(graph):
+        if v not in index:
+            visit(v)
+    assert not cycles, cycles
+
+
 def test_the_rules_can_fail():
     # the checks above see a lazy import inside a function, and resolve `from . import x`
     tree_imports = _imports("snrkit.engine.engine")

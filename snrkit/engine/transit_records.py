@@ -14,7 +14,34 @@ from ..stats import hypotheses as hy
 from ..constants import HOUR, G, K_B, M_U
 
 __all__ = ["planet_records", "result_dataset", "status_and_reason", "statuses", "columns",
-           "COLUMNS"]
+           "COLUMNS", "MAX_SCALE_HEIGHT_RATIO", "HYDROGEN_RICH_MU", "JEANS_PARAMETER_MIN",
+           "TEST_STATISTICS"]
+
+
+#: Largest scale height, as a fraction of the planet radius, at which a scenario
+#: is treated as a bound hydrostatic atmosphere (R/H >= 10; a planet with a
+#: smaller ratio loses its atmosphere hydrodynamically -- cf. the Jeans escape
+#: parameter of Fossati et al. 2017, A&A 598, A90; threshold: common practice,
+#: no source).
+MAX_SCALE_HEIGHT_RATIO = 0.1
+#: Escape screening informs, it does not delete.  For hydrogen-rich scenarios
+#: (mean molecular weight below HYDROGEN_RICH_MU, g/mol) the restricted Jeans
+#: escape parameter Lambda = G Mp m_H / (k Teq Rp) -- the hydrogen-atom mass
+#: and the equilibrium temperature, the definition of Fossati et al. 2017, A&A
+#: 598, A90, who find that envelopes below about 20 are lost by "boil-off"
+#: (value from memory) -- is reported with every answer, and a value below
+#: JEANS_PARAMETER_MIN adds a warning (``escape_warning``).  A planet is left out
+#: only when the caller sets ``min_jeans`` (status ``escaping_atmosphere``).
+HYDROGEN_RICH_MU = 4.0
+JEANS_PARAMETER_MIN = 20.0
+
+#: What each test's statistic is, as stated in every output.
+TEST_STATISTICS = {
+    "nested": "one-sided likelihood ratio q0 between nested models, 1 degree of freedom, "
+              "Z = sqrt(Delta chi^2) (Cowan et al. 2011)",
+    hy.GOODNESS_OF_FIT: "goodness of fit of a flat line, chi^2 with bins - 1 degrees of freedom "
+                        "(model-agnostic; not a detection of the scenario)",
+}
 
 
 def _none_if_nan(x):
@@ -25,12 +52,11 @@ def _unbound(ctx):
     """Scale-height ratio, Jeans parameter, the unbound mask and the escape flags per planet.
 
     Unbound (status ``unbound_atmosphere``): H/Rp above
-    :data:`snrkit.engine.transits.MAX_SCALE_HEIGHT_RATIO`, where a hydrostatic
+    :data:`MAX_SCALE_HEIGHT_RATIO`, where a hydrostatic
     atmosphere is not a valid model.  Escaping: a hydrogen-rich scenario with a
     restricted Jeans parameter below the threshold (a warning; an exclusion
     only below the caller's ``min_jeans``).
     """
-    from .transits import MAX_SCALE_HEIGHT_RATIO, JEANS_PARAMETER_MIN, HYDROGEN_RICH_MU
     d, sc = ctx["obs"]["derived"], ctx["sc"]
     h_km = np.asarray(ctx["truth_ds"]["scale_height_km"].values, dtype=np.float64)
     h_over_r = h_km * 1e3 / d["radius_m"]
@@ -46,7 +72,6 @@ def _unbound(ctx):
 def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_r, jeans,
                       excluded):
     """Status word and reason sentence of planet ``i``."""
-    from .transits import MAX_SCALE_HEIGHT_RATIO
     res, used, obs, sc = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"]
     prec = obs["precision"]
     share = ctx["extra"]["bias_share"][i]
@@ -84,7 +109,6 @@ def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_
 
 
 def _test_words(ctx, i):
-    from .transits import TEST_STATISTICS
     kind, arg = ctx["kind"], ctx["arg"]
     gof = kind == hy.GOODNESS_OF_FIT
     name = kind if arg is None else f"{kind}:{arg}"
@@ -181,7 +205,6 @@ def columns(ctx):
 
 def planet_records(ctx):
     """One JSON-ready dict per planet, and the notes to print."""
-    from .transits import JEANS_PARAMETER_MIN
     res, used, obs, sc, hours = ctx["res"], ctx["used"], ctx["obs"], ctx["sc"], ctx["hours"]
     d = obs["derived"]
     names = [str(x) for x in ctx["system"].names]

@@ -24,6 +24,8 @@ from ..errors import InputError
 from ..stats import detect as dt
 from ..stats.refit import REFIT_PARAMETERS
 from ..stats import hypotheses as hy
+from .transit_records import (HYDROGEN_RICH_MU, JEANS_PARAMETER_MIN,  # noqa: F401
+                              MAX_SCALE_HEIGHT_RATIO, TEST_STATISTICS)
 from .engine import (observe, scenario_context, parse_test, contamination_templates,  # noqa: F401
                      DEFAULT_MAX_TRANSITS, MAX_TRANSITS_LIMIT, _noted,
                      _hours)
@@ -33,33 +35,9 @@ __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamin
            "MAX_SCALE_HEIGHT_RATIO", "JEANS_PARAMETER_MIN", "HYDROGEN_RICH_MU", "STATUSES",
            "TEST_STATISTICS"]
 
-#: Largest scale height, as a fraction of the planet radius, at which a scenario
-#: is treated as a bound hydrostatic atmosphere (R/H >= 10; a planet with a
-#: smaller ratio loses its atmosphere hydrodynamically -- cf. the Jeans escape
-#: parameter of Fossati et al. 2017, A&A 598, A90; threshold: common practice,
-#: no source).
-MAX_SCALE_HEIGHT_RATIO = 0.1
-#: Escape screening informs, it does not delete.  For hydrogen-rich scenarios
-#: (mean molecular weight below HYDROGEN_RICH_MU, g/mol) the restricted Jeans
-#: escape parameter Lambda = G Mp m_H / (k Teq Rp) -- the hydrogen-atom mass
-#: and the equilibrium temperature, the definition of Fossati et al. 2017, A&A
-#: 598, A90, who find that envelopes below about 20 are lost by "boil-off"
-#: (value from memory) -- is reported with every answer, and a value below
-#: JEANS_PARAMETER_MIN adds a warning (``escape_warning``).  A planet is left out
-#: only when the caller sets ``min_jeans`` (status ``escaping_atmosphere``).
-HYDROGEN_RICH_MU = 4.0
-JEANS_PARAMETER_MIN = 20.0
-
 #: Test kinds: "atmosphere" (vs a flat line), "species" (one molecule removed),
 #: "against" (another scenario), and the goodness of fit of a flat line.
 TESTS = ("atmosphere", "species", "against", hy.GOODNESS_OF_FIT)
-#: What each test's statistic is, as stated in every output.
-TEST_STATISTICS = {
-    "nested": "one-sided likelihood ratio q0 between nested models, 1 degree of freedom, "
-              "Z = sqrt(Delta chi^2) (Cowan et al. 2011)",
-    hy.GOODNESS_OF_FIT: "goodness of fit of a flat line, chi^2 with bins - 1 degrees of freedom "
-                        "(model-agnostic; not a detection of the scenario)",
-}
 #: Per-planet statuses.
 STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere",
             "escaping_atmosphere", "stellar_contamination")

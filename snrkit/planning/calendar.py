@@ -82,8 +82,8 @@ from .observability import (GROUND_SAMPLE_MINUTES, SPACE_SAMPLE_HOURS, altitude_
                             elongation_deg, in_any_season)
 from .observatories import (DEFAULT_ELONGATION_DEG, DEFAULT_MIN_ALTITUDE_DEG,
                             DEFAULT_SUN_ALTITUDE_DEG, GroundSite, SpaceObservatory,
-                            parse_observatory)
-from .timescales import bjd_to_utc, observer_times, offline_time
+                            bjd_to_utc, parse_observatory)
+from .timescales import observer_times, offline_time
 from .windows import MAX_LIGHT_TIME_S, transit_windows
 
 __all__ = [

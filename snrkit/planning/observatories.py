@@ -12,12 +12,12 @@ import numpy as np
 import astropy.units as u
 
 from ..errors import InputError
-from ..units import check_range
+from ..units import check_range, to_si
 from .ephemeris import parse_date
-from .timescales import offline_time
+from .timescales import _times, observer_times, offline_time
 
 __all__ = ["DEFAULT_ELONGATION_DEG", "DEFAULT_MIN_ALTITUDE_DEG", "DEFAULT_SUN_ALTITUDE_DEG",
-           "SpaceObservatory", "GroundSite", "parse_observatory"]
+           "SpaceObservatory", "GroundSite", "parse_observatory", "bjd_to_utc"]
 
 
 #: Solar-elongation range [deg] of the generic "cold space telescope" class
@@ -189,3 +189,35 @@ def parse_observatory(text, elongation=None, min_altitude=None, sun_altitude=Non
             kw["sun_altitude"] = float(sun_altitude)
         return GroundSite(*vals, **kw)
     raise InputError("--observatory", text, allowed)
+
+
+def bjd_to_utc(bjd_tdb, ra, dec, location=None):
+    """Convert BJD_TDB to the UTC time at which the event is seen by the observer.
+
+    Parameters
+    ----------
+    bjd_tdb : float or array_like
+        Barycentric Julian dates in TDB [days].
+    ra, dec : Quantity, float or array_like
+        Target ICRS position (default unit deg).
+    location : astropy.coordinates.EarthLocation or GroundSite, optional
+        Observer; the geocentre when ``None``.
+
+    Returns
+    -------
+    utc : astropy.time.Time
+        UTC times at the observer.
+    light_time : astropy.units.Quantity
+        Barycentric light-travel-time correction removed [s] (UTC_obs =
+        BJD - light_time, before the TDB -> UTC scale change).
+    """
+    ra_r = to_si(ra, "star.right_ascension", u.deg, 0.0, 360.0, high_inclusive=False)
+    dec_r = to_si(dec, "star.declination", u.deg, -90.0, 90.0)
+    bary = np.asarray(bjd_tdb, dtype=np.float64)
+    check_range(bary, "bjd_tdb", 2.0e6, 3.0e6, unit_label="d")
+    bary, ra_r, dec_r = np.broadcast_arrays(bary, ra_r, dec_r)
+    loc = location.location() if isinstance(location, GroundSite) else location
+    obs, delta = observer_times(bary.ravel(), ra_r.ravel(), dec_r.ravel(), loc)
+    with offline_time():
+        utc = _times(obs.reshape(bary.shape), location=loc).utc
+    return utc, delta.reshape(bary.shape) * u.s
