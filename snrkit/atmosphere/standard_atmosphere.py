@@ -1,4 +1,4 @@
-"""The U.S. Standard Atmosphere 1976 as a tabulated profile (temperature and composition to 86 km)."""
+"""The U.S. Standard Atmosphere 1976 below 86 km: temperature and pressure (the Earth reference)."""
 
 import numpy as np
 

@@ -3,7 +3,8 @@
 A space observatory (geocentre) with a solar-elongation range and optional
 seasons, or a ground site (longitude, latitude, elevation) with target- and
 Sun-altitude limits; :func:`parse_observatory` reads ``space``,
-``site:LON,LAT[,ELEV_M]`` or ``none``.
+``site:LON,LAT[,ELEV_M]`` or ``none``; :func:`bjd_to_utc` gives the UTC time
+of a barycentric time as seen at the geocentre or at a site.
 """
 
 import dataclasses

@@ -1,9 +1,10 @@
-"""The stacker: significance against the number of transits, and the transits needed.
+"""The stacker: significance against the number of transits, probabilities, the limiting term.
 
-Closed form where lambda(N) = N lambda(1) (the noise averages down), else a
-few vectorized secant steps on 1/lambda against 1/N with an exact integer
-check; detection probabilities and the limiting term (:func:`stack_transits`),
-and :func:`stack_needed`, the part the readout choice compares.
+The transits needed come from :mod:`snrkit.stats.search` (closed form where
+lambda(N) = N lambda(1), else a few vectorized secant steps on 1/lambda against
+1/N with an exact integer check); here the significance curves, detection
+probabilities and the limiting term (:func:`stack_transits`), and
+:func:`stack_needed`, the part the readout choice compares.
 """
 
 
