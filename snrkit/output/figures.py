@@ -43,7 +43,7 @@ def plot_transits(result, path, seed=0):
     Parameters
     ----------
     result : dict
-        Output of :func:`snrkit.engine.transits.transits_for_system`.
+        Output of :func:`snrkit.transits.transits_for_system`.
     path : str or pathlib.Path
         PNG file to write.
     seed : int
