@@ -17,6 +17,7 @@ from snrkit.atmosphere import analytic
 from snrkit.atmosphere import solve
 from snrkit.atmosphere import mixture
 from snrkit.atmosphere import analytic_kernel as ak
+from snrkit.atmosphere import analytic_lattice as al
 
 SCENARIOS = ["h2-clear-solar", {"scenario": "n2-o2-temperate", "cold_trap": {}}, "h2-cloudy-solar",
              "n2-o2-temperate"]
@@ -40,7 +41,7 @@ def test_planet_alone_equals_planet_in_catalogue(scenario, monkeypatch):
     p = _planets(40)
     edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6) * 1e6
     whole = _spectrum(p, slice(None), edges, scenario)
-    ak.clear_lattice_cache()                         # a fresh process, other chunk sizes
+    al.clear_lattice_cache()                         # a fresh process, other chunk sizes
     monkeypatch.setattr(ak, "CHUNK_ELEMENTS", 997)
     monkeypatch.setattr(solve, "_CHUNK_ELEMENTS", 20_000)
     for i in range(0, 40, 9):
@@ -59,7 +60,7 @@ def _kernel_setup(scenario, n, seed):
     nodes = solve._line_shape_pressures(src)
     p = _planets(n, seed=seed)
     t = sc.temperature(p["teq"]) * np.ones(n)
-    lat = ak.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
+    lat = al.lattice_opacity(src, sc.mixing_ratios, (sc.haze_enhancement, sc.haze_slope), edges,
                              8, None, nodes, t)
     r0 = p["rp"] * 6.371e6
     g0 = 6.674e-11 * p["mp"] * 5.972e24 / r0 ** 2
@@ -180,7 +181,7 @@ def test_range_note_on_every_call():
     edges = mixture.wavelength_bin_edges(30, 0.6e-6, 5.0e-6)
     for _ in range(2):
         with pytest.warns(OpacityRangeWarning, match="3500"):
-            ak.lattice_opacity(src, sc.mixing_ratios, (0.0, -4.0), edges, 8, None, None,
+            al.lattice_opacity(src, sc.mixing_ratios, (0.0, -4.0), edges, 8, None, None,
                                np.array([3500.0]))
 
 
