@@ -90,7 +90,7 @@ def _chain(system, stem, out, summary):
     import json
     from ..transits import transits_for_system
     from ..atmosphere.scenarios import load_scenario
-    from ..plots import plot_transits
+    from ..output.figures import plot_transits
     from ..io.atomic import atomic_write_text
     from ._common import jsonable
     from .spectrum import spectra_for_system, write_spectrum, WHITE_LIGHT_UM
@@ -142,7 +142,7 @@ def _catalogue_and_plan(files, out, summary):
     from ..catalog import read_catalogue
     from ..rank import rank_catalogue
     from ..plan import programme_plan
-    from ..plots import plot_ranking
+    from ..output.figures import plot_ranking
     from ..io.systemfile import load_system
     from ..io.atomic import atomic_path, atomic_write_text
     from ..tables import data_path

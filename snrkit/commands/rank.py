@@ -105,7 +105,7 @@ def run(args):
     if args.out:
         write_table(table, args.out)
     if args.plot:
-        from ..plots import plot_ranking
+        from ..output.figures import plot_ranking
         plot_ranking(table, args.plot)
     if args.json:
         rows = []

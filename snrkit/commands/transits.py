@@ -208,7 +208,7 @@ def run(args):
         return _run_several(results, args)
     res = results[0]
     if args.plot:
-        from ..plots import plot_transits
+        from ..output.figures import plot_transits
         plot_transits(res, args.plot, seed=args.seed)
     if args.json:
         print_json({"planets": res["planets"], "notes": res["notes"]})

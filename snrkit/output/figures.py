@@ -12,7 +12,7 @@ __all__ = ["plot_transits", "simulated_spectrum", "display_bins", "plot_ranking"
 def _format(path):
     """Figure format from the file name (png, pdf or svg)."""
     from pathlib import Path
-    from .errors import InputError
+    from ..errors import InputError
     fmt = Path(path).suffix.lower().lstrip(".")
     if fmt not in ("png", "pdf", "svg"):
         raise InputError("plot file", str(path), "a name ending in .png, .pdf or .svg")
@@ -32,7 +32,7 @@ def simulated_spectrum(model_ppm, white_ppm, floor_ppm, n_transits, floor_averag
     The white part scatters as sigma_1 / sqrt(N); a non-averaging floor is a
     single draw shared by the N transits (it does not average down).
     """
-    from .detect import noise_per_bin
+    from ..detect import noise_per_bin
     sig = noise_per_bin(white_ppm, n_transits, floor_ppm, floor_averages)
     return model_ppm + rng.normal(0.0, 1.0, np.shape(model_ppm)) * sig, sig
 
@@ -50,7 +50,7 @@ def plot_transits(result, path, seed=0):
         Seed of the simulated noise realisation.
     """
     from matplotlib.figure import Figure
-    from .io.atomic import atomic_path
+    from ..io.atomic import atomic_path
     ds = result["dataset"]
     planets = result["planets"]
     n = len(planets)
@@ -111,7 +111,7 @@ def plot_transits(result, path, seed=0):
 def plot_ranking(table, path, top=20):
     """Hours to the target against TSM (log axes) for the ranked rows of a ranking table."""
     from matplotlib.figure import Figure
-    from .io.atomic import atomic_path
+    from ..io.atomic import atomic_path
     ok = np.asarray(table["rank"]) > 0
     tsm = np.asarray(table["tsm"], dtype=np.float64)[ok]
     hours = np.asarray(table["hours_total"], dtype=np.float64)[ok]
