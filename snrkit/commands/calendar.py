@@ -98,7 +98,7 @@ def _write_table(table, path):
 
 def run(args):
     from ..io.systemfile import load_system
-    from ..calendar import parse_observatory, transit_windows, plot_timeline
+    from ..calendar import parse_observatory, transit_windows
     from ..errors import InputError
     from pathlib import Path
     if args.plot and Path(args.plot).suffix.lower() not in (".png", ".pdf", ".svg"):
@@ -119,7 +119,8 @@ def run(args):
     if args.plot:
         if not Path(args.plot).parent.is_dir():
             raise InputError("--plot", args.plot, "a file in an existing folder")
-        plot_timeline(table, args.plot)
+        from ..output.figures import plot_timeline, save_figure
+        save_figure(plot_timeline(table), args.plot, "--plot", dpi=120)
     if args.json:
         print_json(windows_json(table))
     else:
