@@ -61,7 +61,7 @@ def new_axes(ax, figsize, layout="constrained"):
     return fig, fig.add_subplot(1, 1, 1)
 
 
-def plain_log_ticks(axis, lo, hi, max_ticks=8):
+def plain_log_ticks(axis, lo, hi, max_ticks=9):
     """Plain-number ticks (0.6, 1, 2, 5, ...) on a logarithmic ``axis`` spanning ``lo``..``hi``.
 
     matplotlib's default labels minor ticks of a short log range as
@@ -111,8 +111,9 @@ def _overlaps(box, boxes):
 def place_labels(ax, x, y, labels, fontsize=6.5, avoid=None):
     """Label points without overlaps: each label takes the first free spot around its point.
 
-    Candidate spots are the eight positions around the point; a spot is free
-    when the label's box (measured by the renderer) overlaps no label placed
+    Candidate spots are the eight positions around the point, then the same
+    three and five times farther (with a leader line); a spot is free when
+    the label's box (its size measured by the renderer) overlaps no label placed
     before, no marker (the labelled points and the points ``avoid = (x, y)``)
     and stays inside the axes.  Labels with no free spot
     are left out.  Call after the axes' limits and the figure's layout are
@@ -137,22 +138,27 @@ def place_labels(ax, x, y, labels, fontsize=6.5, avoid=None):
             (6, 0, "left", "center"), (-6, 0, "right", "center")]
     # farther spots, joined to the point by a thin leader line
     spots = near + [(dx * k, dy * k, ha, va) for k in (3, 5) for dx, dy, ha, va in near]
+    scale = fig.dpi / 72.0                     # points to pixels
     placed, left_out = [], 0
     for (px, py), xv, yv, text in zip(pts, x, y, labels):
+        probe = ax.text(0, 0, text, fontsize=fontsize, transform=None)
+        ext = probe.get_window_extent(renderer)     # the label's size, measured once
+        probe.remove()
+        w, h = ext.width * 1.05, ext.height * 1.1
         for dx, dy, ha, va in spots:
-            far = abs(dx) + abs(dy) > 12
-            ann = ax.annotate(text, (xv, yv), xytext=(dx, dy), textcoords="offset points",
-                              ha=ha, va=va, fontsize=fontsize,
-                              arrowprops=dict(arrowstyle="-", lw=0.4, color="0.4", shrinkA=0,
-                                              shrinkB=2) if far else None)
-            box = ann.get_window_extent(renderer).expanded(1.05, 1.1)
+            x0 = px + dx * scale - {"left": 0.0, "center": w / 2, "right": w}[ha]
+            y0 = py + dy * scale - {"bottom": 0.0, "center": h / 2, "top": h}[va]
+            box = Bbox.from_bounds(x0, y0, w, h)
             inside = (box.x0 >= frame.x0 and box.x1 <= frame.x1 and box.y0 >= frame.y0
                       and box.y1 <= frame.y1)
             if inside and not _overlaps(box, occupied):
+                far = abs(dx) + abs(dy) > 12
                 occupied.append(box)
-                placed.append(ann)
+                placed.append(ax.annotate(
+                    text, (xv, yv), xytext=(dx, dy), textcoords="offset points", ha=ha, va=va,
+                    fontsize=fontsize, arrowprops=dict(arrowstyle="-", lw=0.4, color="0.4", shrinkA=0,
+                                                       shrinkB=2) if far else None))
                 break
-            ann.remove()
         else:
             left_out += 1
     return placed, left_out

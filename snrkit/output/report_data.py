@@ -8,7 +8,8 @@ The report computes nothing itself: each number comes from a public function
 report holds exactly the numbers the page prints.
 """
 
-__all__ = ["planet_entry", "gather_targets", "gather_catalogue", "table_provenance",
+__all__ = ["planet_entry", "gather_targets", "gather_catalogue", "table_provenance", "chosen_windows",
+           "merge_windows",
            "DEFAULT_MODE", "DEFAULT_SCENARIO"]
 
 #: Mode of planets whose system file names none (the demo's default).
@@ -121,12 +122,12 @@ def gather_targets(paths, mode=None, scenario=None, species=(), sigma=5.0, start
                                            uncertainty_draws=uncertainty_draws, seed=seed)
                        for g in [None] + gases]
             plan = programme_plan(one, m, sc, sigma=sigma, start=start, years=years)
-            tables.append(_chosen_windows(plan))
+            tables.append(chosen_windows(plan))
             entries.append(planet_entry(system, i, Path(path).name, results, plan["planets"][0]))
     return entries, merge_windows(tables)
 
 
-def _chosen_windows(plan):
+def chosen_windows(plan):
     """The windows a plan chose, as a table (every window of the calendar otherwise dropped)."""
     import numpy as np
     chosen = {(p["name"], w["epoch"]) for p in plan["planets"] for w in p["windows"]}
