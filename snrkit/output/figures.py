@@ -275,9 +275,10 @@ def plot_timeline(table, title=None, ax=None, fit_windows=False):
     ax.xaxis.set_major_locator(loc)
     ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc))
     ax.set_xlabel("date (UTC, at the observer)")
-    ax.legend(handles=[Patch(facecolor="tab:green", label="observable"),
-                       Patch(facecolor="0.72", label="not observable")],
-              loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0.0,
+    shown = set(np.asarray(table["observable"], dtype=bool).tolist()) if len(table) else {True, False}
+    handles = [Patch(facecolor=c, label=text) for flag, c, text in
+               ((True, "tab:green", "observable"), (False, "0.72", "not observable")) if flag in shown]
+    ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0.0,
               fontsize="small", frameon=False)
     ax.set_title(title or f"transit windows; {table.meta.get('observatory', '')}",
                  fontsize="medium")
