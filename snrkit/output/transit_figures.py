@@ -81,8 +81,15 @@ def band_labels(species, lo, hi, rows=3, min_gap=0.07):
 
 
 def _mark_bands(ax, species, lo, hi):
+    """Band lines and their labels, in rows above the data (the y range is raised to make room)."""
     trans = ax.get_xaxis_transform()
-    for c, text, row in band_labels(species, lo, hi):
+    marks = band_labels(species, lo, hi)
+    if marks:
+        rows = 1 + max(row for _, _, row in marks)
+        ymin, ymax = ax.get_ylim()
+        free = 0.075 * rows + 0.03              # axes fraction the labels take
+        ax.set_ylim(ymin, ymin + (ymax - ymin) / (1.0 - free))
+    for c, text, row in marks:
         ax.axvline(c, color="0.85", lw=0.6, zorder=0)
         ax.text(c, 0.98 - 0.075 * row, text, transform=trans, fontsize=6.5, ha="center",
                 va="top", color="0.3", bbox=dict(facecolor="white", edgecolor="none", pad=0.5,
@@ -188,11 +195,12 @@ def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
                 label=f"null: {rec['null_model']}")
     ax.axhline(float(ds["observed_depth_ppm"].values[planet]), color="0.4", ls=":", lw=0.9,
                label="observed transit depth")
-    if not ok.all():
+    if not ok.all():                  # one band per run of adjacent saturated bins
         lo_e, hi_e = ds["wavelength_lower"].values, ds["wavelength_upper"].values
-        for j in np.flatnonzero(~ok):
-            ax.axvspan(lo_e[j], hi_e[j], color="0.92", lw=0, zorder=0,
-                       label="saturated bins (dropped)" if j == np.flatnonzero(~ok)[0] else None)
+        bad = np.flatnonzero(~ok)
+        for k, run in enumerate(np.split(bad, np.flatnonzero(np.diff(bad) > 1) + 1)):
+            ax.axvspan(lo_e[run[0]], hi_e[run[-1]], color="0.92", lw=0, zorder=0,
+                       label="saturated bins (dropped)" if k == 0 else None)
     if x.size:
         ax.errorbar(x, y, yerr=e, fmt="o", ms=2.5, color="k", lw=0.7,
                     label=f"simulated, {n_show} transit{'s' if n_show != 1 else ''}")
@@ -234,13 +242,14 @@ def plot_transits(result, seed=0, axes=None):
     return fig
 
 
-def _spectrum_panel(ax, lam, one, label, relative):
+def _spectrum_panel(ax, lam, one, label, relative, first):
     depth = one["transit_depth_ppm"].values
     obs = float(one["observed_depth_ppm"])
     base = obs if relative else 0.0
     line, = ax.step(lam, depth - base, where="mid", lw=1.0, label=label)
-    ax.axhline(obs - base, color=line.get_color(), ls=":", lw=0.8,
-               label=f"{label}: observed depth" if not relative else None)
+    if first:                           # one planet's scenarios share its observed depth
+        ax.axhline(obs - base, color="0.4", ls=":", lw=0.9,
+                   label="observed transit depth" if not relative else "observed depth (zero)")
     if "depth_without_species_ppm" in one:
         w = one["depth_without_species_ppm"]
         for k, sp in enumerate(w["species"].values):
@@ -282,8 +291,11 @@ def plot_spectrum(ds, species=None, ax=None):
         from matplotlib.figure import Figure
         fig = Figure(figsize=(10, 3.4 * len(planets) + 0.4), layout="constrained")
         axes = dict(zip(planets, fig.subplots(len(planets), 1, squeeze=False)[:, 0]))
+    seen = set()
     for planet, scen, one in flat:
-        _spectrum_panel(axes[planet], lam, one, f"{planet}: {scen}" if relative else scen, relative)
+        _spectrum_panel(axes[planet], lam, one, f"{planet}: {scen}" if relative else scen, relative,
+                        first=(axes[planet] not in seen))
+        seen.add(axes[planet])
     for a in dict.fromkeys(axes.values()):
         wavelength_axis(a, lo, hi)
         a.set_ylabel("depth − observed depth [ppm]" if relative else "transit depth [ppm]")
