@@ -32,11 +32,12 @@ test: $(STAMP)
 
 # The suite at the dependency floors of pyproject.toml, in its own venv
 # (.venv-oldest): each floor pinned to its oldest release series.
-OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.*
+OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.* jinja2==3.1.*
 test-oldest:
 	$(PYTHON) -m venv .venv-oldest
 	.venv-oldest/bin/python -m pip install --quiet --upgrade pip
-	.venv-oldest/bin/python -m pip install --quiet $(OLDEST) "pytest>=7.4" "hypothesis>=6.80" "hatchling>=1.27" "ruff>=0.5"
+	.venv-oldest/bin/python -m pip install --quiet $(OLDEST) "pytest>=7.4" "hypothesis>=6.80" "hatchling>=1.27" "ruff>=0.5" \
+		"nbmake>=1.5" "ipykernel>=6.29" "playwright>=1.45"
 	.venv-oldest/bin/python -m pip install --quiet --no-deps -e .
 	.venv-oldest/bin/python -m pytest
 
