@@ -209,3 +209,34 @@ def test_save_figure_is_atomic_and_checks_the_name(tmp_path, result):
         save_figure(fig, tmp_path / "t.jpg")
     assert sorted(p.name for p in tmp_path.iterdir()) == ["t.png"]       # no partial files left
     assert figure_uri(fig).startswith("data:image/png;base64,iVBORw0KGgo")
+
+
+def _band_cases():
+    from hypothesis import strategies as st
+    from snrkit.output.transit_figures import BAND_MARKS
+    species = st.sets(st.sampled_from(sorted(BAND_MARKS)), min_size=1)
+    edges = st.tuples(st.floats(0.3, 10.0), st.floats(1.2, 100.0)).map(lambda t: (t[0], t[0] * t[1]))
+    return species, edges, st.floats(0.02, 0.2)
+
+
+@pytest.mark.parametrize("rows", [1, 3])
+def test_band_labels_properties(rows):
+    from hypothesis import given
+    from snrkit.output.transit_figures import BAND_MARKS, band_labels
+    species, edges, gaps = _band_cases()
+
+    @given(species, edges, gaps)
+    def check(chosen, lohi, gap):
+        lo, hi = lohi
+        marks = band_labels(chosen, lo, hi, rows=rows, min_gap=gap)
+        centres = [c for c, _, _ in marks]
+        assert len(set(centres)) == len(centres) and all(lo < c < hi for c in centres)
+        for c, text, row in marks:
+            assert 0 <= row < rows
+            for sp in text.split(", "):           # every named species has a band at that centre
+                assert sp in chosen and any(abs(np.log(b / c)) < 0.03 for b in BAND_MARKS[sp])
+        for row in range(rows):
+            logs = np.log10(sorted(c for c, _, r in marks if r == row))
+            assert np.all(np.diff(logs) >= gap - 1e-12)
+
+    check()
