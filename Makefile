@@ -7,7 +7,7 @@ VPY    := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-test
 DSTAMP := $(VENV)/.installed
 
-.PHONY: demo test test-oldest bench clean venv
+.PHONY: demo test test-oldest bench clean venv notebooks
 
 $(VPY):
 	$(PYTHON) -m venv $(VENV)
@@ -32,13 +32,22 @@ test: $(STAMP)
 
 # The suite at the dependency floors of pyproject.toml, in its own venv
 # (.venv-oldest): each floor pinned to its oldest release series.
-OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.*
+OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.* jinja2==3.1.*
 test-oldest:
 	$(PYTHON) -m venv .venv-oldest
 	.venv-oldest/bin/python -m pip install --quiet --upgrade pip
-	.venv-oldest/bin/python -m pip install --quiet $(OLDEST) "pytest>=7.4" "hypothesis>=6.80" "hatchling>=1.27" "ruff>=0.5"
+	.venv-oldest/bin/python -m pip install --quiet $(OLDEST) "pytest>=7.4" "hypothesis>=6.80" "hatchling>=1.27" "ruff>=0.5" \
+		"nbmake>=1.5" "ipykernel>=6.29" "playwright>=1.45"
 	.venv-oldest/bin/python -m pip install --quiet --no-deps -e .
 	.venv-oldest/bin/python -m pytest
+
+# Re-run the notebooks and store their outputs (committed, so they read on a code
+# host); the cells' run-time stamps are dropped to keep the diffs to the content.
+notebooks: $(STAMP)
+	$(VPY) -m pytest -q -p no:cacheprovider --nbmake --overwrite notebooks/
+	$(VPY) -c "import nbformat, sys; nbs = {p: nbformat.read(p, 4) for p in sys.argv[1:]}; \
+	[c.metadata.pop('execution', None) for nb in nbs.values() for c in nb.cells]; \
+	[nbformat.write(nb, p) for p, nb in nbs.items()]" notebooks/*.ipynb
 
 bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_derived.py

@@ -145,7 +145,7 @@ def test_console_entry_point_subprocess():
 def test_help_does_not_import_heavy_modules():
     code = ("import sys; from snrkit.cli.entry import main; main(['--help']); "
             "bad = [m for m in ('matplotlib', 'scipy', 'dask', 'astropy', 'numpy', 'xarray', "
-            "'pandas', 'yaml') if m in sys.modules]; "
+            "'pandas', 'yaml', 'jinja2') if m in sys.modules]; "
             "print('HEAVY', bad)")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert "HEAVY []" in r.stdout, r.stdout
@@ -238,12 +238,12 @@ def test_every_option_has_help_text():
     assert not missing
 
 
-def test_demo_writes_a_readable_summary(capsys, tmp_path):
+def test_demo_writes_a_readable_summary(demo_run):
     # the whole `make demo` job, end to end: every demo system, the ranked catalogue
-    # and the plans, summed up in plain sentences (no Python objects printed)
-    rc, out, _ = run_cli(capsys, "demo", "--out", str(tmp_path / "demo"))
-    text = (tmp_path / "demo" / "summary.txt").read_text()
-    assert rc == 0
+    # and the plans, summed up in plain sentences (no Python objects printed); the
+    # run is shared with tests/test_report_browser.py (fixture in conftest.py)
+    text = (demo_run["out"] / "summary.txt").read_text()
+    assert demo_run["rc"] == 0 and demo_run["stdout"] == text
     for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c"):
         assert name in text, name
     assert "{" not in text and "}" not in text

@@ -27,6 +27,8 @@ def test_wheel_install_finds_data_tables(tmp_path):
     meta = wheel.read(next(n for n in names if n.endswith(".dist-info/METADATA"))).decode()
     assert "License-Expression: BSD-3-Clause" in meta
     assert any(n.startswith("snrkit/data_tables/demo/") for n in names)
+    # the report's templates travel with the package (jinja2's PackageLoader reads them there)
+    assert {"snrkit/output/templates/report.html.j2", "snrkit/output/templates/report.css"} <= set(names)
     site = tmp_path / "site"
     r = subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "-q", "--target",
                         str(site), str(wheels[0])], capture_output=True, text=True)
@@ -35,8 +37,12 @@ def test_wheel_install_finds_data_tables(tmp_path):
     # source checkout cannot be what answers.
     code = (
         "import sys, json; sys.path.insert(0, sys.argv[1]); import snrkit, snrkit.io.tables as t; "
-        "from snrkit.cli.entry import main; "
-        "print(json.dumps({'pkg': snrkit.__file__, 'data': str(t.data_path('species.ecsv'))})); "
+        "from snrkit.cli import main; "
+        "from snrkit.output.report import render_report; "
+        "doc = dict(title='t', version='0', command_line='', created_utc='', planets=[], catalogue=None, "
+        "provenance=[], caution='c'); html = render_report(doc, {'_all': {}}); "
+        "print(json.dumps({'pkg': snrkit.__file__, 'data': str(t.data_path('species.ecsv')), "
+        "'html': 'id=\"caution\"' in html})); "
         "sys.stdout.flush(); rc = main(['demo', '--describe-only', '--json']); sys.exit(rc)"
     )
     work = tmp_path / "elsewhere"
@@ -48,4 +54,5 @@ def test_wheel_install_finds_data_tables(tmp_path):
     where = json.loads(first)
     assert where["pkg"].startswith(str(site))
     assert where["data"].startswith(str(site / "snrkit" / "data_tables"))
+    assert where["html"]
     assert json.loads(rest)["systems"]

@@ -173,10 +173,10 @@ def test_best_mode_is_kept_per_row(cat):
 
 
 def test_empty_ranking_plot(cat, tmp_path):
-    from snrkit.output.figures import plot_ranking
+    from snrkit.output.figures import plot_ranking, save_figure
     t = rank_catalogue(cat, PRISM, "h2-clear-solar", resolution=20, filters={"radius_min": 100.0})
     assert np.all(np.asarray(t["rank"]) == 0)
-    plot_ranking(t, tmp_path / "empty.png")
+    save_figure(plot_ranking(t), tmp_path / "empty.png")
     assert (tmp_path / "empty.png").stat().st_size > 1000
 
 

@@ -270,7 +270,8 @@ def test_demo_writes_results_folder(tmp_path, capsys):
     out, _ = capsys.readouterr()
     assert rc == 0
     files = {p.name for p in (tmp_path / "res").iterdir()}
-    assert {"summary.txt", "cedar_spectra.ecsv", "Cedar_b_CO2.png", "Cedar_c_atmosphere.json"} <= files
+    assert {"summary.txt", "cedar_spectra.ecsv", "Cedar_b_CO2.png", "Cedar_c_atmosphere.json",
+            "report.html", "report.json"} <= files
     assert "transits for 5 sigma" in (tmp_path / "res" / "summary.txt").read_text()
     assert not any(name.startswith(".") for name in files)   # no temporary files left
 

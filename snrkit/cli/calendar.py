@@ -99,7 +99,6 @@ def _write_table(table, path):
 def run(args):
     from ..io.systemfile import load_system
     from ..planning.calendar import parse_observatory, transit_windows
-    from ..output.timeline import plot_timeline
     from ..errors import InputError
     from pathlib import Path
     if args.plot and Path(args.plot).suffix.lower() not in (".png", ".pdf", ".svg"):
@@ -120,7 +119,8 @@ def run(args):
     if args.plot:
         if not Path(args.plot).parent.is_dir():
             raise InputError("--plot", args.plot, "a file in an existing folder")
-        plot_timeline(table, args.plot)
+        from ..output.figures import plot_timeline, save_figure
+        save_figure(plot_timeline(table), args.plot, "--plot", dpi=120)
     if args.json:
         print_json(windows_json(table))
     else:

@@ -7,7 +7,8 @@ with one degree of freedom on the same bins and noise, so the atmosphere never
 needs more transits than one of its gases -- with the planet's instrument
 mode (``[planet.observation] mode``, or the low-resolution prism preset), and
 a figure.  Everything is written into a results folder with a plain-text
-summary, which is also printed.
+summary, which is also printed, and one HTML report of it all
+(``report.html``, :mod:`snrkit.output.report`).
 """
 
 from pathlib import Path
@@ -65,7 +66,7 @@ def run_demo(out_dir, only=None, describe_only=False):
     if not describe_only:
         out.mkdir(parents=True, exist_ok=True)
     summary = ["snrkit demo: invented systems (no real star or planet); planning estimates only", ""]
-    systems = []
+    systems, report_parts = [], []
     for path in files:
         system = load_system(path)
         title = tomllib.loads(path.read_text()).get("title", path.stem)
@@ -73,14 +74,17 @@ def run_demo(out_dir, only=None, describe_only=False):
         summary.append(format_description(desc, title=f"{title}  [{path.name}]"))
         entry = {"file": path.name, "title": title, **desc}
         if not describe_only:
-            entry["results"] = _chain(system, path.stem, out, summary)
+            entry["results"], per_planet = _chain(system, path.stem, out, summary)
+            report_parts.append((system, path.name, per_planet))
             atomic_write_text(out / f"{path.stem}_description.json",
                               json.dumps(jsonable(desc), indent=2) + "\n")
         systems.append(entry)
         summary.append("")
+    ranking, plans, windows = None, {}, None
     if not describe_only and not only:
-        _catalogue_and_plan(files, out, summary)
+        ranking, plans, windows = _catalogue_and_plan(files, out, summary)
     if not describe_only:
+        _report(report_parts, ranking, plans, windows, out, summary)
         summary.append(f"results written to {out}/")
         atomic_write_text(out / "summary.txt", "\n".join(summary) + "\n")
     return "\n".join(summary), {"systems": systems, "out": None if describe_only else str(out)}
@@ -90,13 +94,14 @@ def _chain(system, stem, out, summary):
     import json
     from ..engine.transits import transits_for_system
     from ..atmosphere.scenarios import load_scenario
-    from ..output.figures import plot_transits
+    from ..output.figures import save_figure
+    from ..output.transit_figures import plot_transits
     from ..io.atomic import atomic_write_text
     from ._common import jsonable
     from .spectrum import spectra_for_system, write_spectrum, WHITE_LIGHT_UM
     ds = spectra_for_system(system, resolution=100, calibration_band=WHITE_LIGHT_UM)
     write_spectrum(ds, out / f"{stem}_spectra.ecsv")
-    results = []
+    results, per_planet = [], []
     for i, name in enumerate(system.names):
         one = system.take([i])
         mode = _mode_of(system, i)
@@ -106,14 +111,16 @@ def _chain(system, stem, out, summary):
             continue
         tests = [("atmosphere", None)] + [("species", g) for g in DEMO_GASES if g in sc.mixing_ratios]
         lines = [f"  {name} ({sc.name}, mode {mode}):"]
+        per_planet.append((i, []))
         for kind, gas in tests:
             res = transits_for_system(one, mode, species=gas, uncertainty_draws=200, seed=1)
             rec = res["planets"][0]
             tag = "atmosphere" if gas is None else gas
             results.append(rec)
+            per_planet[-1][1].append(res)
             safe = str(name).replace(" ", "_")
             atomic_write_text(out / f"{safe}_{tag}.json", json.dumps(jsonable(rec), indent=2) + "\n")
-            plot_transits(res, out / f"{safe}_{tag}.png", seed=1)
+            save_figure(plot_transits(res, seed=1), out / f"{safe}_{tag}.png", dpi=100)
             if kind == "atmosphere":
                 lines.append(f"    (each test: {rec['test_statistic']}; {rec['bins_used']} bins, "
                              f"{rec['binning']}; readout {rec['groups_per_integration']} groups, "
@@ -132,7 +139,18 @@ def _chain(system, stem, out, summary):
                              f"84th percentile over mass/radius: "
                              f"{f'{s84:.0f}' if s84 is not None else 'not reachable'})")
         summary.extend(lines)
-    return results
+    return results, per_planet
+
+
+def _report(parts, ranking, plans, windows, out, summary):
+    """Write ``report.html`` (and its JSON) from the results the demo computed."""
+    from ..output.report import write_report
+    from ..output.report_data import planet_entry
+    entries = [planet_entry(system, i, source, res, plans.get(str(system.names[i])))
+               for system, source, per_planet in parts for i, res in per_planet]
+    path = out / "report.html"
+    write_report(path, entries, ranking, windows, command_line="snrkit demo", seed=1)
+    summary.append(f"report: {path}")
 
 
 def _catalogue_and_plan(files, out, summary):
@@ -142,7 +160,8 @@ def _catalogue_and_plan(files, out, summary):
     from ..planning.catalog import read_catalogue
     from ..planning.rank import rank_catalogue
     from ..planning.plan import programme_plan
-    from ..output.figures import plot_ranking
+    from ..output.figures import plot_ranking, save_figure
+    from ..output.report_data import chosen_windows, merge_windows
     from ..io.systemfile import load_system
     from ..io.atomic import atomic_path, atomic_write_text
     from ..io.tables import data_path
@@ -151,7 +170,7 @@ def _catalogue_and_plan(files, out, summary):
     table = rank_catalogue(cat, DEFAULT_MODE, "h2-clear-solar")
     with atomic_path(out / "catalogue_ranked.ecsv") as tmp:
         table.write(tmp, format="ascii.ecsv", overwrite=True)
-    plot_ranking(table, out / "catalogue_ranking.png")
+    save_figure(plot_ranking(table), out / "catalogue_ranking.png")
     top = table[np.asarray(table["rank"]) > 0]
     top.sort("rank")
     summary.append(f"demo catalogue ({len(table)} invented rows), atmosphere test, h2-clear-solar, "
@@ -161,7 +180,7 @@ def _catalogue_and_plan(files, out, summary):
         summary.append(f"  {int(r['rank']):>2}. {r['name']:<14} {plural(int(r['transits_needed']), 'transit')}, "
                        f"{float(r['hours_total']):.1f} h (TSM {float(r['tsm']):.1f})")
     summary.append("")
-    plans = []
+    plans, windows = [], []
     for path in files:
         system = load_system(path)
         modes = {(system.observations[i] or {}).get("mode", DEFAULT_MODE) for i in range(len(system))}
@@ -169,6 +188,7 @@ def _catalogue_and_plan(files, out, summary):
             idx = [i for i in range(len(system))
                    if (system.observations[i] or {}).get("mode", DEFAULT_MODE) == mode]
             res = programme_plan(system.take(idx), mode, start="2027-01-01", years=5)
+            windows.append(chosen_windows(res))
             for p in res["planets"]:
                 plans.append(p)
                 if p["enough_windows"]:
@@ -180,6 +200,7 @@ def _catalogue_and_plan(files, out, summary):
                 else:
                     summary.append(f"  plan {p['name']}: {p['reason'] or p['status']}")
     atomic_write_text(out / "programme_plan.json", json.dumps(jsonable({"planets": plans}), indent=2) + "\n")
+    return table, {p["name"]: p for p in plans}, merge_windows(windows)
 
 
 def run(args):

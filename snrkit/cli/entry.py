@@ -33,6 +33,7 @@ COMMANDS = {
     "contrast": ("contrast", "transits needed to tell each pair of scenarios apart"),
     "rank": ("rank", "rank a catalogue of planets by the time they need"),
     "plan": ("plan", "the observing programme: transits, dated windows, hours, years"),
+    "report": ("report", "one self-contained HTML report of targets and a catalogue"),
 }
 
 

@@ -71,8 +71,9 @@ def run(args):
     if args.out and chosen_table is not None:
         write_table(chosen_table, args.out)
     if args.plot and chosen_table is not None:
-        from ..output.timeline import plot_timeline
-        plot_timeline(chosen_table, args.plot, title="programme windows (planning estimate)")
+        from ..output.figures import plot_timeline, save_figure
+        save_figure(plot_timeline(chosen_table, title="programme windows (planning estimate)"),
+                    args.plot, "--plot", dpi=120)
     summary = {"hours_total": total, "longest_span_years": max(spans) if spans else None,
                "planets": len(planets),
                "planets_complete": int(sum(p["enough_windows"] for p in planets))}

@@ -2,7 +2,7 @@
 
 from ._common import one_mode, add_system_args, print_json
 
-__all__ = ["add_parser", "run", "precision_json", "format_precision", "plot_precision"]
+__all__ = ["add_parser", "run", "precision_json", "format_precision"]
 
 
 def add_parser(p):
@@ -120,39 +120,6 @@ def format_precision(ds):
     return "\n".join(lines)
 
 
-def plot_precision(ds, path):
-    """Plot per-transit noise (and the N-transit noise) against wavelength, floor marked."""
-    import numpy as np
-    from matplotlib.figure import Figure
-    from ..io.atomic import atomic_path
-    fig = Figure(figsize=(7.5, 4.5))
-    ax = fig.add_subplot()
-    n_tr = int(ds.attrs["n_transits"])
-    for i, name in enumerate(ds["planet"].values):
-        p = ds.isel(planet=i)
-        lam = p["wavelength"].values
-        line, = ax.step(lam, p["noise_ppm_per_transit"].values, where="mid",
-                        label=f"{name}, one transit")
-        if n_tr > 1:
-            ax.step(lam, p["noise_ppm"].values, where="mid", color=line.get_color(),
-                    linestyle="--", label=f"{name}, {n_tr} transits")
-        sat = p["saturated"].values
-        if sat.any():
-            lo, hi = p["wavelength_low"].values, p["wavelength_high"].values
-            for j in np.flatnonzero(sat):
-                ax.axvspan(lo[j], hi[j], color=line.get_color(), alpha=0.15, lw=0)
-    ax.axhline(float(ds.attrs["floor_ppm"]), color="k", linestyle=":",
-               label=f"floor {ds.attrs['floor_ppm']:.0f} ppm")
-    ax.set_yscale("log")
-    ax.set_xlabel("wavelength [um]")
-    ax.set_ylabel("transit-depth precision per bin [ppm]")
-    ax.set_title(f"{ds.attrs['instrument_mode']} (shaded: saturated bins)", fontsize=9)
-    ax.legend(fontsize=8)
-    fig.tight_layout()
-    with atomic_path(path) as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-
-
 def run(args):
     from ..io.systemfile import load_system
     from ..photons.targets import system_precision
@@ -166,7 +133,8 @@ def run(args):
     ds = system_precision(system, one_mode(args, "precision"), band=args.band, n_transits=args.transits,
                           resolution=args.resolution)
     if args.plot:
-        plot_precision(ds, args.plot)
+        from ..output.figures import plot_precision, save_figure
+        save_figure(plot_precision(ds), args.plot, "--plot")
     if args.json:
         print_json(precision_json(ds))
     else:

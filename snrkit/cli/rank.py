@@ -105,8 +105,8 @@ def run(args):
     if args.out:
         write_table(table, args.out)
     if args.plot:
-        from ..output.figures import plot_ranking
-        plot_ranking(table, args.plot)
+        from ..output.figures import plot_ranking, save_figure
+        save_figure(plot_ranking(table), args.plot, "--plot")
     if args.json:
         rows = []
         for r in table:

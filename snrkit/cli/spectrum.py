@@ -2,18 +2,7 @@
 
 from ._common import add_system_args, print_json
 
-__all__ = ["add_parser", "run", "spectra_for_system", "write_spectrum", "plot_spectrum",
-           "BAND_MARKS"]
-
-#: Main bands marked on plots: species -> centres [um] (standard band centres,
-#: e.g. the HITRAN band list; rounded).
-BAND_MARKS = {
-    "H2O": (0.94, 1.14, 1.4, 1.9, 2.7, 6.3), "CO2": (2.0, 2.7, 4.3, 15.0),
-    "CH4": (1.7, 2.3, 3.3, 7.7), "CO": (2.3, 4.7), "NH3": (3.0, 6.1, 10.5),
-    "O3": (0.6, 4.7, 9.6), "O2": (0.76, 1.27), "N2O": (4.5, 7.8), "SO2": (4.0, 7.3, 8.7),
-    "HCN": (3.0, 14.0), "H2S": (2.6, 3.7), "Na": (0.589,), "K": (0.767,),
-}
-
+__all__ = ["add_parser", "run", "spectra_for_system", "write_spectrum"]
 
 def add_parser(p):
     add_system_args(p)
@@ -99,14 +88,8 @@ def spectra_for_system(system, scenarios=None, **kwargs):
 
 def _flat_spectra(ds):
     """Yield (planet, scenario, Dataset-slice) for every spectrum in ``ds``."""
-    scen_dim = "scenario" in ds.dims
-    for ip, planet in enumerate(ds["planet"].values):
-        one = ds.isel(planet=ip)
-        if scen_dim:
-            for isc, scen in enumerate(ds["scenario"].values):
-                yield str(planet), str(scen), one.isel(scenario=isc)
-        else:
-            yield str(planet), str(one["scenario"].values), one
+    from ..output.transit_figures import flat_spectra
+    return flat_spectra(ds)
 
 
 def _summary_rows(ds):
@@ -194,56 +177,6 @@ def write_spectrum(ds, path):
     return path
 
 
-def plot_spectrum(ds, path, scenario_species=None):
-    """Plot transit depth against wavelength, marking the main bands."""
-    from pathlib import Path
-    import numpy as np
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    from ..errors import InputError
-    from ..io.atomic import atomic_path
-    path = Path(path)
-    if path.suffix.lower() not in (".png", ".pdf", ".svg"):
-        raise InputError("--plot", str(path), "a file name ending in .png, .pdf or .svg")
-    if not path.parent.exists():
-        raise InputError("--plot", str(path), "a path in an existing folder")
-    fig, ax = plt.subplots(figsize=(9, 4.8))
-    lam = ds["wavelength"].values
-    for planet, scen, one in _flat_spectra(ds):
-        line, = ax.step(lam, one["transit_depth_ppm"].values, where="mid", lw=1.0,
-                        label=f"{planet} - {scen}")
-        ax.axhline(float(one["observed_depth_ppm"]), color=line.get_color(), ls=":", lw=0.8,
-                   label=f"{planet}: observed depth")
-        if "depth_without_species_ppm" in one:
-            w = one["depth_without_species_ppm"]
-            for k, sp in enumerate(w["species"].values):
-                vals = w.sel(species=sp).values
-                if np.all(np.isfinite(vals)):
-                    ax.step(lam, vals, where="mid", lw=0.7, ls=("--", "-.", ":")[k % 3],
-                            color=line.get_color(), alpha=0.6, label=f"{planet} - {scen} without {sp}")
-    ax.set_xscale("log")
-    ax.set_xlabel("wavelength [um]")
-    ax.set_ylabel("transit depth [ppm]")
-    lo, hi = float(ds["wavelength_lower"].values[0]), float(ds["wavelength_upper"].values[-1])
-    ax.set_xlim(lo, hi)
-    species = scenario_species if scenario_species is not None else set(BAND_MARKS)
-    ymin, ymax = ax.get_ylim()
-    for sp in sorted(species):
-        for centre in BAND_MARKS.get(sp, ()):
-            if lo < centre < hi:
-                ax.axvline(centre, color="0.8", lw=0.6, zorder=0)
-                ax.text(centre, ymax, sp, rotation=90, fontsize=7, va="top", ha="right",
-                        color="0.35")
-    ax.legend(fontsize=8, loc="lower right")
-    ax.set_title("transmission spectrum (planning estimate)", fontsize=10)
-    fig.tight_layout()
-    with atomic_path(path) as tmp:
-        fig.savefig(tmp)
-    plt.close(fig)
-    return path
-
-
 def run(args):
     from ..errors import InputError
     from ..io.systemfile import load_system
@@ -277,7 +210,9 @@ def run(args):
         for sc in scenarios or [load_scenario(dict(a)) for a in system.atmospheres if a]:
             if not sc.featureless:
                 species |= set(sc.mixing_ratios)
-        plot_spectrum(ds, args.plot, species)
+        from ..output.figures import save_figure
+        from ..output.transit_figures import plot_spectrum
+        save_figure(plot_spectrum(ds, species), args.plot, "--plot")
     rows = _summary_rows(ds)
     if args.json:
         print_json(_json_summary(args, ds, rows))

@@ -208,8 +208,9 @@ def run(args):
         return _run_several(results, args)
     res = results[0]
     if args.plot:
-        from ..output.figures import plot_transits
-        plot_transits(res, args.plot, seed=args.seed)
+        from ..output.figures import save_figure
+        from ..output.transit_figures import plot_transits
+        save_figure(plot_transits(res, seed=args.seed), args.plot, "--plot", dpi=100)
     if args.json:
         print_json({"planets": res["planets"], "notes": res["notes"]})
     else:

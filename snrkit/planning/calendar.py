@@ -6,7 +6,7 @@ scales), :mod:`snrkit.planning.ephemeris` (dates, epochs, timing
 uncertainty, predicted transits), :mod:`snrkit.planning.observatories` and
 :mod:`snrkit.planning.observability` (where the target can be seen from) and
 :mod:`snrkit.planning.windows` (the windows table).  The timeline figure is
-:func:`snrkit.output.timeline.plot_timeline`.
+:func:`snrkit.output.figures.plot_timeline`.
 
 From a linear ephemeris (T0 +- sigma_T0 and P +- sigma_P, BJD_TDB) this
 module predicts every mid-transit time in a date range, the 1-sigma timing
