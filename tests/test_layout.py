@@ -18,7 +18,8 @@ PACKAGE = Path(__file__).resolve().parent.parent / "snrkit"
 #: floor (TOML reader, shipped tables, atomic writes) serves every package;
 #: ``io.systemfile`` builds a System from a file, so it sits above the bodies
 #: and atmospheres.
-BASE = {"snrkit", "snrkit._version", "snrkit.constants", "snrkit.units", "snrkit.errors"}
+BASE = {"snrkit", "snrkit._version", "snrkit.constants", "snrkit.units", "snrkit.errors",
+        "snrkit.labelled"}
 COMPUTE = ("bodies", "atmosphere", "photons", "stats", "engine")
 
 #: unit -> the units it may import (besides itself).

@@ -54,7 +54,7 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
                           pressure_broadening=True, contributions=False, planet_names=None,
                           opacity_source=None, exclude_species=None,
                           radius_calibration="observed-depth", calibration_weights=None,
-                          calibration_band=None):
+                          calibration_band=None, as_arrays=False):
     """Transmission spectrum of one or more atmosphere scenarios.
 
     Parameters
@@ -127,10 +127,13 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         Replacement for snrkit's opacity tables (an object with the functions
         of :mod:`snrkit.atmosphere.opacity` and
         :mod:`snrkit.atmosphere.continuum`); for tests and experts.
+    as_arrays : bool
+        Return the same variables as a :class:`snrkit.labelled.Labelled`
+        (numpy arrays; xarray is not imported), as the engine does.
 
     Returns
     -------
-    xarray.Dataset
+    xarray.Dataset or snrkit.labelled.Labelled
         Dims ``(planet, wavelength)`` (and ``scenario`` for a list):
         ``transit_depth_ppm``, ``effective_height_km`` (above the observed
         radius), per planet ``scale_height_km``,
@@ -184,14 +187,23 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
             contrib.append(_contribution(sc, source, contributions, r0, g0c, rs, delta, npl,
                                          edges, solve_kw))
         datasets.append(ds)
-    return _combined(datasets, contrib, scenarios, names, many,
-                     _attributes(solver, n_g, p_top, refraction, radius_calibration,
-                                 calibration_band, n_layers))
+    attrs = _attributes(solver, n_g, p_top, refraction, radius_calibration, calibration_band,
+                        n_layers)
+    if as_arrays:
+        return _stacked(datasets, contrib, scenarios, names, many, attrs)
+    return _combined([d.to_dataset() for d in datasets], contrib, scenarios, names, many, attrs)
+
+
+#: Attributes of the depths with one species removed.
+_CONTRIBUTION_ATTRS = {"units": "ppm", "long_name": "transit depth with this species' opacity "
+                       "removed (mean molecular weight unchanged)"}
 
 
 def _contribution(sc, source, contributions, r0, g0c, rs, delta, npl, edges, solve_kw):
-    """Depths [ppm] with each (wanted) absorber's opacity removed: (planet, species, wavelength)."""
-    import xarray as xr
+    """Depths [ppm] with each (wanted) absorber's opacity removed: (planet, species, wavelength).
+
+    Returns the array and the species names.
+    """
     wanted = None if contributions is True else set(contributions)
     absorbers = ([] if sc.featureless else
                  [k for k in sc.mixing_ratios if _absorbs(source, k)
@@ -201,11 +213,7 @@ def _contribution(sc, source, contributions, r0, g0c, rs, delta, npl, edges, sol
         d_x, _ = _solve_depth(sc, rp=r0, g0=g0c, exclude=sp, **solve_kw)
         rows.append(_shift_radius(d_x, rs, delta) * 1e6)
     data = (np.stack(rows, axis=1) if rows else np.zeros((npl, 0, edges.size - 1)))
-    return xr.DataArray(
-        data, dims=("planet", "species", "wavelength"),
-        coords={"species": absorbers},
-        attrs={"units": "ppm", "long_name": "transit depth with this species' opacity "
-               "removed (mean molecular weight unchanged)"})
+    return data, absorbers
 
 
 def _attributes(solver, n_g, p_top, refraction, radius_calibration, calibration_band, n_layers):
@@ -237,14 +245,59 @@ def _combined(datasets, contrib, scenarios, names, many, attrs):
         out["scenario_description"] = ("scenario", [s.description for s in scenarios])
     if contrib:
         import xarray as xr
+        arrays = [xr.DataArray(data, dims=("planet", "species", "wavelength"),
+                               coords={"species": sp}) for data, sp in contrib]
         if many:
-            da = xr.concat(contrib, dim="scenario", join="outer", fill_value=np.nan,
+            da = xr.concat(arrays, dim="scenario", join="outer", fill_value=np.nan,
                            coords="minimal", compat="override")
             da = da.assign_coords(scenario=("scenario", names))
         else:
-            da = contrib[0]
-        da.attrs = dict(contrib[0].attrs)
+            da = arrays[0]
+        da.attrs = dict(_CONTRIBUTION_ATTRS)
         out["depth_without_species_ppm"] = da
+    out.attrs.update(attrs)
+    return out
+
+
+def _stacked(datasets, contrib, scenarios, names, many, attrs):
+    """What :func:`_combined` makes, as labelled arrays (the engine's form).
+
+    Several scenarios share the planets and bins, so every variable is
+    stacked on a leading ``scenario`` axis; the species of the contributions
+    are the union of the scenarios' (NaN where a scenario lacks one).
+    """
+    from ..labelled import Labelled
+    first = datasets[0]
+    coords = {k: (first.dims(k), first[k], first.attrs_of(k)) for k in first.coords}
+    if not many:
+        out = datasets[0]
+        out.set_coord("scenario", ((), scenarios[0].name))
+    else:
+        coords["scenario"] = ("scenario", np.asarray(names))
+        keys = list(dict.fromkeys(k for d in datasets for k in d.variables))
+        out = Labelled(coords=coords)
+        for k in keys:              # a variable some scenarios lack is NaN for them
+            have = next(d for d in datasets if k in d)
+            fill = np.full(np.shape(have[k]), np.nan)
+            out[k] = (("scenario",) + have.dims(k),
+                      np.stack([d[k] if k in d else fill for d in datasets]), have.attrs_of(k))
+        out["scenario_description"] = ("scenario", [s.description for s in scenarios])
+    if contrib:
+        # the union of the scenarios' species, sorted as xarray's outer join sorts it
+        species = (sorted({name for _, names_i in contrib for name in names_i}) if many
+                   else list(contrib[0][1]))
+        rows = []
+        for data, names_i in contrib:
+            full = np.full((data.shape[0], len(species), data.shape[2]), np.nan)
+            full[:, [species.index(x) for x in names_i]] = data
+            rows.append(full)
+        out.set_coord("species", ("species", species))
+        dims = ("planet", "species", "wavelength")
+        if many:
+            out["depth_without_species_ppm"] = (("scenario",) + dims, np.stack(rows),
+                                                _CONTRIBUTION_ATTRS)
+        else:
+            out["depth_without_species_ppm"] = (dims, rows[0], _CONTRIBUTION_ATTRS)
     out.attrs.update(attrs)
     return out
 
@@ -285,10 +338,11 @@ def _warn_top(sc, ex, p_top):
 
 
 def _dataset(sc, depth, rp, rs, h, ex, edges, planet_names, r0):
-    import xarray as xr
+    """One scenario's spectrum as labelled arrays (:meth:`Labelled.to_dataset` for xarray)."""
+    from ..labelled import Labelled
     centres = np.sqrt(edges[1:] * edges[:-1]) * 1e6
     r_eff = rs[:, None] * np.sqrt(depth)
-    ds = xr.Dataset(
+    ds = Labelled(
         {
             "transit_depth_ppm": (("planet", "wavelength"), depth * 1e6,
                                   {"units": "ppm", "long_name": "transit depth (Rp,eff/Rs)^2, "

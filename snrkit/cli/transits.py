@@ -203,7 +203,8 @@ def run(args):
         contamination=parse_contamination(args), uncertainty_draws=args.uncertainty_draws,
         seed=args.seed, fisher=args.fisher, solver=args.solver,
         against_wavelength_unit=args.against_unit, against_depth_kind=args.against_kind,
-        refit=tuple(x for x in (args.refit or "").split(",") if x)) for mode in modes]
+        refit=tuple(x for x in (args.refit or "").split(",") if x),
+        dataset=bool(args.plot)) for mode in modes]
     if len(results) > 1:
         return _run_several(results, args)
     res = results[0]

@@ -119,11 +119,11 @@ def _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
         gases = sorted(sc.mixing_ratios)
         if arg not in gases:
             raise InputError("species", arg, "a gas of scenario " + repr(sc.name) + ": " + ", ".join(gases))
-        if "depth_without_species_ppm" not in truth_ds or arg not in truth_ds["species"].values:
+        if "depth_without_species_ppm" not in truth_ds or arg not in list(truth_ds["species"]):
             raise InputError("species", arg, "an absorbing gas of the scenario (this one has no "
                              "opacity in the band model)")
-        alt = np.asarray(truth_ds["depth_without_species_ppm"].sel(species=arg)
-                         .transpose("planet", "wavelength").values, dtype=np.float64)
+        alt = np.asarray(truth_ds.sel("depth_without_species_ppm", species=arg),
+                         dtype=np.float64)                          # (planet, wavelength)
         return alt, f"{sc.name} without {arg}"
     return _alternative_spectrum(arg, obs["rp"], obs["rs"], obs["edges_um"], obs["spec_kw"],
                                  transmission_spectrum, truth.shape, against_wavelength_unit,
@@ -207,7 +207,7 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
     d = obs["derived"]
     truth_ds = _noted(obs["notes"], transmission_spectrum, sc, obs["rp"], obs["rs"],
                       contributions=[arg] if kind == "species" else False, **obs["spec_kw"])
-    truth = np.asarray(truth_ds["transit_depth_ppm"].values, dtype=np.float64)
+    truth = np.asarray(truth_ds["transit_depth_ppm"], dtype=np.float64)
     null, label = _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
                                  against_wavelength_unit, against_depth_kind)
     eps, fitted = _contamination(contamination, system, truth, obs["wl"])
@@ -268,7 +268,7 @@ def _side_statistics(kind, truth, null, eps, fitted, models, used, obs, res):
 def _hours(d, obs, n_needed, overhead_hours):
     t14_h = d["t14_s"] / HOUR
     prec = obs["precision"]
-    base_h = np.asarray(prec["baseline_time"].values, dtype=np.float64)
+    base_h = np.asarray(prec["baseline_time"], dtype=np.float64)
     return fc.programme_hours(t14_h, np.where(n_needed > 0, n_needed, 0), baseline=base_h,
                               baseline_is_multiple=False,
                               overhead_hours=fc.DEFAULT_OVERHEAD_HOURS if overhead_hours is None
@@ -301,7 +301,7 @@ def _alternative_spectrum(arg, rp, rs, edges_um, spec_kw, transmission_spectrum,
     from ..atmosphere.scenarios import load_scenario
     other = load_scenario(arg)
     ds = transmission_spectrum(other, rp, rs, **spec_kw)
-    return np.asarray(ds["transit_depth_ppm"].values, dtype=np.float64), other.name
+    return np.asarray(ds["transit_depth_ppm"], dtype=np.float64), other.name
 
 
 def evaluate(system, modes, scenarios, *, resolution=None, bin_edges=None, floor_ppm=None,

@@ -9,8 +9,8 @@ __all__ = ["observe"]
 
 
 def _edges_from_precision(prec):
-    lo = np.asarray(prec["wavelength_low"].values, dtype=np.float64)
-    hi = np.asarray(prec["wavelength_high"].values, dtype=np.float64)
+    lo = np.asarray(prec["wavelength_low"], dtype=np.float64)
+    hi = np.asarray(prec["wavelength_high"], dtype=np.float64)
     if lo.ndim > 1:
         lo, hi = lo[0], hi[0]
     if not np.allclose(lo[1:], hi[:-1], rtol=1e-9):
@@ -43,7 +43,8 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
     dict
         ``white``, ``floor`` and ``saturated`` (planet, bin) for the
         unsaturated readout; ``groups``, ``duty`` (planet); ``options`` or
-        None; ``floor_averages``; ``precision`` (the Dataset); ``edges_um``,
+        None; ``floor_averages``; ``precision`` (the precision's labelled
+        arrays, :class:`snrkit.labelled.Labelled`); ``edges_um``,
         ``wl``; ``derived``; ``rp`` [R_earth], ``rs`` [R_sun]; ``spec_kw``;
         ``notes``; ``binning`` (a phrase for the outputs).
     """
@@ -59,29 +60,28 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
         prec = system_precision(system, mode, resolution=res_arg, bin_edges=bin_edges,
                                 floor_ppm=floor_ppm, floor_averages_down=floor_averages_down,
                                 baseline=baseline, readout="auto" if unsaturated else readout,
-                                warn=True, readout_options=not unsaturated)
-    budget = prec["noise_budget_ppm"]
-    white_terms = [t for t in budget["term"].values if t != "floor"]
-    white = np.sqrt((budget.sel(term=white_terms) ** 2).sum("term", skipna=False))
-    white = np.asarray(white.transpose("planet", "wavelength").values, dtype=np.float64)
-    floor = np.broadcast_to(np.asarray(prec["floor_per_bin_ppm"].values, dtype=np.float64),
+                                warn=True, readout_options=not unsaturated, as_arrays=True)
+    budget = np.asarray(prec["noise_budget_ppm"], dtype=np.float64)      # (planet, term, wavelength)
+    white_terms = [i for i, t in enumerate(prec["term"]) if t != "floor"]
+    white = np.sqrt((budget[:, white_terms, :] ** 2).sum(axis=1))
+    floor = np.broadcast_to(np.asarray(prec["floor_per_bin_ppm"], dtype=np.float64),
                             white.shape)
     edges_um = _edges_from_precision(prec)
     options = None
     if "option_groups" in prec:
-        options = {"groups": np.asarray(prec["option_groups"].values, dtype=np.int64),
-                   "duty": np.asarray(prec["option_duty_cycle"].values, dtype=np.float64),
-                   "white": np.asarray(prec["option_white_noise_ppm"].values, dtype=np.float64),
-                   "saturated": np.asarray(prec["option_saturated"].values, dtype=bool)}
+        options = {"groups": np.asarray(prec["option_groups"], dtype=np.int64),
+                   "duty": np.asarray(prec["option_duty_cycle"], dtype=np.float64),
+                   "white": np.asarray(prec["option_white_noise_ppm"], dtype=np.float64),
+                   "saturated": np.asarray(prec["option_saturated"], dtype=bool)}
     binning = ("bin edges given" if bin_edges is not None else
                "the mode's native bins" if res_arg is None else f"R = {float(res_arg):g}")
     return {
         "derived": d, "precision": prec, "notes": [str(w.message) for w in caught],
         "white": white, "floor": floor, "options": options,
-        "groups": np.asarray(prec["groups_per_integration"].values, dtype=np.int64),
-        "duty": np.asarray(prec["duty_cycle"].values, dtype=np.float64),
+        "groups": np.asarray(prec["groups_per_integration"], dtype=np.int64),
+        "duty": np.asarray(prec["duty_cycle"], dtype=np.float64),
         "floor_averages": bool(prec.attrs.get("floor_averages_down", False)),
-        "saturated": np.asarray(prec["saturated"].transpose("planet", "wavelength").values, dtype=bool),
+        "saturated": np.asarray(prec["saturated"], dtype=bool),          # (planet, wavelength)
         "edges_um": edges_um, "wl": np.sqrt(edges_um[1:] * edges_um[:-1]), "binning": binning,
         "rp": d["radius_m"] / R_EARTH, "rs": system.star.radius_m / R_SUN,
         # the model is calibrated to the observed depth as this mode measures it in white
@@ -90,9 +90,8 @@ def observe(system, mode, resolution=None, bin_edges=None, floor_ppm=None,
                         equilibrium_temperature=d["equilibrium_temperature_K"],
                         semi_major_axis=d["semi_major_axis_m"] / AU, wavelength_edges=edges_um,
                         planet_names=names, solver=solver,
-                        calibration_weights=np.asarray(
-                            prec["photon_rate"].transpose("planet", "wavelength").values,
-                            dtype=np.float64)),
+                        calibration_weights=np.asarray(prec["photon_rate"], dtype=np.float64),
+                        as_arrays=True),
     }
 
 

@@ -58,7 +58,7 @@ def _unbound(ctx):
     only below the caller's ``min_jeans``).
     """
     d, sc = ctx["obs"]["derived"], ctx["sc"]
-    h_km = np.asarray(ctx["truth_ds"]["scale_height_km"].values, dtype=np.float64)
+    h_km = np.asarray(ctx["truth_ds"]["scale_height_km"], dtype=np.float64)
     h_over_r = h_km * 1e3 / d["radius_m"]
     jeans = G * d["mass_kg"] * (1.008 * M_U) / (K_B * d["equilibrium_temperature_K"] * d["radius_m"])
     hydrogen = (sc.mean_molecular_weight < HYDROGEN_RICH_MU) & ~sc.featureless
@@ -77,7 +77,7 @@ def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_
     share = ctx["extra"]["bias_share"][i]
     n_sat, n_all = int(used["bins_saturated"][i]), used["usable"].shape[-1]
     if saturated_all[i]:
-        sat_limit = float(np.asarray(prec["saturation_limit_mag"].values).ravel()[i])
+        sat_limit = float(np.asarray(prec["saturation_limit_mag"]).ravel()[i])
         return "saturated", (f"mode {prec.attrs.get('instrument_mode', ctx['mode'])} saturates on this star "
                              f"in {n_sat} of {n_all} bins at the readout that serves the test "
                              f"best (brightest usable magnitude {sat_limit:.2f})")
@@ -214,15 +214,15 @@ def planet_records(ctx):
     n_bins, limiting = st["n_bins"], st["limiting"]
     n_arr = st["n_raw"]
     share = ctx["extra"]["bias_share"]
-    annulus = np.asarray(ctx["truth_ds"]["annulus_ppm_per_scale_height"].values, dtype=np.float64)
+    annulus = np.asarray(ctx["truth_ds"]["annulus_ppm_per_scale_height"], dtype=np.float64)
     feat = np.where(used["usable"], ctx["models"].data - ctx["models"].null, np.nan)
     with np.errstate(invalid="ignore"):
         amp = np.array([np.nanmax(f) - np.nanmin(f) if np.any(np.isfinite(f)) else np.nan
                         for f in feat])
     probs = {f"{p:g}": np.asarray(v) for p, v in res["transits_for_probability"].items()}
     t14_h = d["t14_s"] / HOUR
-    base_h = np.asarray(obs["precision"]["baseline_time"].values, dtype=np.float64)
-    t_in_h = np.asarray(obs["precision"]["in_transit_time"].values, dtype=np.float64)
+    base_h = np.asarray(obs["precision"]["baseline_time"], dtype=np.float64)
+    t_in_h = np.asarray(obs["precision"]["in_transit_time"], dtype=np.float64)
     mode_name = str(obs["precision"].attrs.get("instrument_mode", ctx["mode"]))
     planets, notes = [], []
     for i, name in enumerate(names):
@@ -307,7 +307,7 @@ def result_dataset(ctx, planets):
             "probability": (("planet", "transits"), res["curve_probability"]),
             "transits_needed": ("planet", np.array([p["transits_needed"] or 0 for p in planets])),
             "groups_per_integration": ("planet", np.asarray(used["groups"])),
-            "observed_depth_ppm": ("planet", np.asarray(ctx["truth_ds"]["observed_depth_ppm"].values),
+            "observed_depth_ppm": ("planet", np.asarray(ctx["truth_ds"]["observed_depth_ppm"]),
                                    {"units": "ppm", "long_name": "observed transit depth, to which "
                                     "the model's photon-weighted band average is calibrated"}),
         },

@@ -44,7 +44,7 @@ STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere
 
 
 # size: the docstring documents every option of the public entry point; the body is 20 lines
-def transits_for_system(system, mode, scenario=None, **options):
+def transits_for_system(system, mode, scenario=None, *, dataset=True, **options):
     """How many transits each planet needs to pass a test, and what they cost.
 
     Parameters
@@ -55,6 +55,10 @@ def transits_for_system(system, mode, scenario=None, **options):
     scenario : str, dict or Scenario, optional
         Atmosphere scenario assumed true; default each planet's own
         ``[planet.atmosphere]`` table (planets are grouped by scenario).
+    dataset : bool
+        Also return the spectra, noise and significance curves as an xarray
+        Dataset (``dataset``; default).  Without it xarray is not imported
+        and ``dataset`` is None.
     **options :
         The keywords below.
     test, species, against :
@@ -125,11 +129,12 @@ def transits_for_system(system, mode, scenario=None, **options):
         ``duty_cycle``, ``bins_saturated``, ``hours_per_transit``,
         ``hours_total``, ``transits_for_probability``, ``status`` and
         ``reason``); ``dataset``: xarray Dataset with the spectra, noise and
-        significance curves; ``test``: (kind, argument); ``notes``.
+        significance curves (None without ``dataset``); ``test``: (kind,
+        argument); ``notes``.
     """
     import json
-    import xarray as xr
     names = [str(x) for x in system.names]
+    options["dataset"] = dataset
     if scenario is not None:
         return _one_scenario(system, mode, scenario, **options)
     groups = {}
@@ -145,22 +150,25 @@ def transits_for_system(system, mode, scenario=None, **options):
     order = np.argsort(np.concatenate([idx for idx, _ in parts]))
     planets = [p for _, r in parts for p in r["planets"]]
     planets = [planets[k] for k in order]
-    ds = xr.concat([r["dataset"] for _, r in parts], dim="planet", combine_attrs="drop_conflicts")
-    ds = ds.isel(planet=order)
+    ds = None
+    if dataset:
+        import xarray as xr
+        ds = xr.concat([r["dataset"] for _, r in parts], dim="planet",
+                       combine_attrs="drop_conflicts").isel(planet=order)
     notes = list(dict.fromkeys(n for _, r in parts for n in r["notes"]))
     return {"planets": planets, "dataset": ds, "test": parts[0][1]["test"], "notes": notes}
 
 
 def _one_scenario(system, mode, scenario, *, resolution=None, bin_edges=None, floor_ppm=None,
                   floor_averages_down=None, baseline=None, solver="analytic", readout=None,
-                  **options):
+                  dataset=True, **options):
     """:func:`transits_for_system` for planets sharing one scenario: the engine, then records."""
     from .transit_records import planet_records, result_dataset
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
     ctx = scenario_context(system, obs, mode, scenario, **options)
     planets, notes = planet_records(ctx)
-    ds = result_dataset(ctx, planets)
+    ds = result_dataset(ctx, planets) if dataset else None
     return {"planets": planets, "dataset": ds, "test": (ctx["kind"], ctx["arg"]),
             "notes": list(dict.fromkeys(obs["notes"] + notes))}
 
@@ -202,7 +210,7 @@ def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX
     obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                   baseline, solver, readout)
     ds = _noted(obs["notes"], transmission_spectrum, scs, obs["rp"], obs["rs"], **obs["spec_kw"])
-    spec = np.asarray(ds["transit_depth_ppm"].transpose("scenario", "planet", "wavelength").values,
+    spec = np.asarray(ds["transit_depth_ppm"],                 # (scenario, planet, wavelength)
                       dtype=np.float64)
     k = len(scs)
     pairs = [(a, b) for a in range(k) for b in range(k) if a != b]

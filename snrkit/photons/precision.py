@@ -156,7 +156,8 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
                       in_transit_time=None, baseline=None, baseline_factor=1.0,
                       depth=0.0, n_transits=1, readout="auto", floor_ppm=None,
                       floor_averages_down=None, resolution=None, bin_edges=None,
-                      spectrum=None, planet=None, warn=True, readout_options=False):
+                      spectrum=None, planet=None, warn=True, readout_options=False,
+                      as_arrays=False):
     """Per-bin transit-depth precision of one transit (and of ``n_transits``).
 
     All per-planet inputs accept one value or one value per planet; bare
@@ -215,10 +216,13 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
         (:func:`snrkit.photons.readout.readout_candidates`) on a
         ``readout_option`` axis, so that the chain can choose the readout
         that serves its test best.
+    as_arrays : bool
+        Return the same variables as a :class:`snrkit.labelled.Labelled`
+        (numpy arrays; xarray is not imported), as the engine does.
 
     Returns
     -------
-    xarray.Dataset
+    xarray.Dataset or snrkit.labelled.Labelled
         Dims ``planet``, ``wavelength`` (bin centres, um) and ``term``.
         Variables: ``bin_width``, ``wavelength_low``, ``wavelength_high`` [um];
         ``photon_rate`` [electrons s-1 per bin, out of transit, while
@@ -273,20 +277,21 @@ def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
     if warn:
         _warn_saturation(m, band, ro, limit_mag, mag, planet, sat)
 
-    return _precision_dataset(m, band, spec, edges, planet, n, n_tr, mag, t_in, t_out, floor,
-                              floor_down, floor_bins, ro, budget, total1, total_n, sat, limit_mag,
-                              options)
+    out = _precision_arrays(m, band, spec, edges, planet, n, n_tr, mag, t_in, t_out, floor,
+                            floor_down, floor_bins, ro, budget, total1, total_n, sat, limit_mag,
+                            options)
+    return out if as_arrays else out.to_dataset()
 
 
-def _precision_dataset(m, band, spec, edges, planet, n, n_tr, mag, t_in, t_out, floor, floor_down,
-                       floor_bins, ro, budget, total1, total_n, sat, limit_mag, options):
-    """The Dataset :func:`transit_precision` returns (see there for its variables)."""
-    import xarray as xr
+def _precision_arrays(m, band, spec, edges, planet, n, n_tr, mag, t_in, t_out, floor, floor_down,
+                      floor_bins, ro, budget, total1, total_n, sat, limit_mag, options):
+    """What :func:`transit_precision` returns, as labelled arrays (see there for its variables)."""
+    from ..labelled import Labelled
     centres = 0.5 * (edges[:-1] + edges[1:]) * 1e6
     names = _planet_names(planet, n)
     um = {"units": "um"}
-    ds = xr.Dataset(
-        data_vars={
+    ds = Labelled(
+        variables={
             "bin_width": ("wavelength", np.diff(edges) * 1e6, um),
             "wavelength_low": ("wavelength", edges[:-1] * 1e6, um),
             "wavelength_high": ("wavelength", edges[1:] * 1e6, um),

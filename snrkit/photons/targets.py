@@ -102,7 +102,7 @@ def _common(values, field, names):
 def system_precision(system, mode=None, *, band=None, n_transits=None, in_transit=None,
                      baseline=None, readout=None, floor_ppm=None, floor_averages_down=None,
                      resolution=None, bin_edges=None, spectrum=None, warn=True,
-                     readout_options=False):
+                     readout_options=False, as_arrays=False):
     """Per-bin transit-depth precision for every planet of a :class:`snrkit.System`.
 
     A thin wrapper of :func:`transit_precision`: Teff, the magnitude in
@@ -129,13 +129,13 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
     baseline : float, str or Quantity, optional
         A bare number is a multiple of T14; a Quantity or ``"<number> h"``
         string is a duration.  Default ``observation.baseline`` or 1 x T14.
-    readout, floor_ppm, floor_averages_down, resolution, bin_edges, spectrum, warn, readout_options
+    readout, floor_ppm, floor_averages_down, resolution, bin_edges, spectrum, warn, readout_options, as_arrays
         As in :func:`transit_precision` (``readout`` default
         ``observation.readout_groups`` or the mode's choice).
 
     Returns
     -------
-    xarray.Dataset
+    xarray.Dataset or snrkit.labelled.Labelled
         As :func:`transit_precision`, with the planet names on the
         ``planet`` axis and ``transit_depth`` (planet) added.
     """
@@ -155,9 +155,10 @@ def system_precision(system, mode=None, *, band=None, n_transits=None, in_transi
         baseline=np.array(base) * u.s, depth=np.asarray(d["transit_depth"], dtype=np.float64),
         n_transits=n_transits, readout=readout, floor_ppm=floor_ppm,
         floor_averages_down=floor_averages_down, resolution=resolution, bin_edges=bin_edges,
-        spectrum=spectrum, planet=names, warn=warn, readout_options=readout_options)
+        spectrum=spectrum, planet=names, warn=warn, readout_options=readout_options,
+        as_arrays=True)
     ds["transit_depth"] = ("planet", np.asarray(d["transit_depth"]) * 1e6, {"units": "ppm"})
-    return ds
+    return ds if as_arrays else ds.to_dataset()
 
 
 def _observation_defaults(obs, names, mode, readout, floor_ppm, floor_averages_down, n_transits):

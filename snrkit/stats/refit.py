@@ -162,7 +162,7 @@ def refit_null(alt_sc, exclude, names, data, null0, sigma, rp, rs, radius_fracti
             scale = p.get("reference_radius", 1.0)
             ds = transmission_spectrum(sc_i, np.atleast_1d(rp)[i:i + 1] * scale,
                                        np.atleast_1d(rs)[i:i + 1], exclude_species=exclude, **kw)
-            return np.asarray(ds["transit_depth_ppm"].values[0], dtype=np.float64)
+            return np.asarray(ds["transit_depth_ppm"][0], dtype=np.float64)
 
         def cost(theta, ok=ok, i=i, model=model):
             m = model(theta)
@@ -305,7 +305,7 @@ def scenario_fisher(sc, rp, rs, radius_fraction, spec_kw, transmission_spectrum,
         def model(p, kw=kw, i=i):
             ds = transmission_spectrum(scenario_for(p), np.atleast_1d(rp)[i:i + 1] * p["radius_factor"],
                                        np.atleast_1d(rs)[i:i + 1], **kw)
-            return np.asarray(ds["transit_depth_ppm"].values[0], dtype=np.float64)
+            return np.asarray(ds["transit_depth_ppm"][0], dtype=np.float64)
         res = fc.fisher_forecast(model, {k: v[:2] for k, v in par.items()}, white[i],
                                  int(n_transits[i]), floor=floor[i], floor_averages=floor_averages,
                                  fit_offset=False)
