@@ -1,0 +1,2 @@
+def read_population(path, mapping=None):
+    raise NotImplementedError
