@@ -1,2 +1,249 @@
-def read_population(path, mapping=None):
-    raise NotImplementedError
+"""Reading a population from Parquet, CSV or ECSV, every row kept with a status.
+
+:func:`read_population` reads a file (Parquet through pyarrow, imported
+inside the function), maps its columns with the catalogue column mappings of
+:mod:`snrkit.catalog` (the same TOML format; default: snrkit's default
+catalogue layout, which the generator writes) and screens every row with
+:func:`snrkit.catalog.catalogue_from_table`.  Unlike a catalogue, a
+population never fails as a whole because of a column:
+
+* a required field with no column (planet name, radius, stellar Teff,
+  radius, mass or log g, period or semi-major axis), or a mapping naming a
+  column the file lacks, gives every row status ``missing_column``;
+* a column whose unit (from the file or the mapping) cannot be converted to
+  its field's unit gives every row status ``wrong_unit``;
+* a text cell with its own unit (``"1.5 earthRad"``) is converted; one of the
+  wrong dimension (``"300 K"`` as a radius) gives that row ``wrong_unit``;
+* every other problem (empty values, negative radius, duplicate names, no
+  transit, ...) is the catalogue's per-row status (:data:`snrkit.catalog.STATUS_CODES`).
+
+A row keeps its first problem, column problems first.  Columns the mapping
+does not use (``star_index``, ``scenario``, ``planet_class``, ...) are
+carried through unchanged.
+"""
+
+import warnings
+from pathlib import Path
+
+import numpy as np
+import astropy.units as u
+
+from ...catalog import DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping
+from ...errors import InputError
+
+__all__ = ["read_population", "screen_population", "POPULATION_FORMATS", "COLUMN_STATUS_CODES"]
+
+#: File extension -> astropy reader format.
+POPULATION_FORMATS = {".parquet": "parquet", ".pq": "parquet", ".csv": "ascii.csv",
+                      ".ecsv": "ascii.ecsv"}
+#: Status codes added to the catalogue's for column problems.
+COLUMN_STATUS_CODES = {"missing_column": "a required field has no column in the file",
+                       "wrong_unit": "a unit that cannot be converted to the field's unit"}
+_REQUIRED = ("planet.name", "planet.radius", "star.effective_temperature", "star.radius")
+_EITHER = (("star.mass", "star.log_gravity"), ("planet.period", "planet.semi_major_axis"))
+
+
+def _read(path, format):
+    from astropy.table import Table
+    from ...io.tomlfile import check_input_path
+    path = Path(path)
+    fmt = POPULATION_FORMATS.get(path.suffix.lower()) if format is None else \
+        {"parquet": "parquet", "csv": "ascii.csv", "ecsv": "ascii.ecsv"}.get(str(format).lower())
+    if fmt is None:
+        raise InputError("POPULATION", str(path) if format is None else format,
+                         "a file ending in .parquet, .pq, .csv or .ecsv, or format parquet, csv, ecsv")
+    check_input_path(path, "POPULATION", "a population file")
+    if not path.is_file():
+        raise InputError("POPULATION", str(path), "an existing file")
+    if fmt == "parquet":
+        try:
+            import pyarrow.parquet  # noqa: F401  (astropy's Parquet reader needs it)
+        except ImportError:
+            raise InputError("POPULATION", str(path), "a CSV or ECSV file",
+                             detail="reading Parquet needs pyarrow: pip install pyarrow") from None
+    try:
+        from astropy.utils.exceptions import AstropyWarning
+        with warnings.catch_warnings():
+            # unit strings astropy does not know are reported per column below
+            warnings.simplefilter("ignore", AstropyWarning)
+            return Table.read(str(path), format=fmt)
+    except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
+        raise InputError("POPULATION", str(path), f"a readable {fmt} table",
+                         detail=f"{type(exc).__name__}: {exc}") from None
+
+
+def read_population(path, mapping=None, *, format=None):
+    """Read a population file and screen every row.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        ``.parquet`` / ``.pq`` (needs pyarrow), ``.csv`` or ``.ecsv``.
+    mapping : str, pathlib.Path, dict or None
+        A catalogue column mapping (:func:`snrkit.catalog.load_mapping`);
+        None for the default catalogue layout.
+    format : {"parquet", "csv", "ecsv"}, optional
+        Override the format chosen from the extension.
+
+    Returns
+    -------
+    astropy.table.Table
+        See :func:`screen_population`.
+
+    Raises
+    ------
+    InputError
+        Unreadable file or unknown format; a malformed mapping (unknown keys,
+        unit strings astropy cannot read).  Column problems never raise.
+    """
+    return screen_population(_read(path, format), mapping, source=str(path))
+
+
+def _fields(spec, table):
+    """field -> (column, unit text or None, offset), as the mapping asks."""
+    fields = {k: v for k, v in spec["fields"].items()
+              if not spec["default"] or v["column"] in table.colnames}
+    if spec["start_from_default"]:
+        for k, c in DEFAULT_COLUMNS.items():
+            if k not in fields and c in table.colnames:
+                fields[k] = {"column": c, "unit": None, "offset": 0.0}
+    return fields
+
+
+def _target(spec):
+    return u.Unit(spec.unit) if spec.kind in ("quantity", "time") else u.dimensionless_unscaled
+
+
+def _factor(unit, spec):
+    """Factor from ``unit`` to the field's unit, or None if the dimension is wrong."""
+    if unit is None or str(unit) in ("", "dex", "mag"):
+        return 1.0
+    try:
+        return float(u.Unit(unit).to(_target(spec)))
+    except (u.UnitsError, TypeError, ValueError):
+        return None
+
+
+def _cells(col, factor, spec):
+    """Float values in the field's unit; per-row codes for unreadable or wrong-unit text."""
+    n = len(col)
+    mask = np.asarray(np.ma.getmaskarray(col), dtype=bool)
+    data = np.asarray(np.ma.getdata(col))
+    code = np.full(n, "", dtype="<U12")
+    why = np.full(n, "", dtype=object)
+    if data.dtype.kind in "fiu":
+        return np.where(mask, np.nan, data.astype(np.float64) * factor), code, why
+    text = np.char.strip(data.astype(str))
+    vals = np.full(n, np.nan)
+    for i in np.flatnonzero(~mask & (text != "") & (text != "--")):
+        # Entry by entry: text columns of a population are the exception (a
+        # numeric column takes the vectorized path above).
+        try:
+            vals[i] = float(text[i]) * factor
+            continue
+        except ValueError:
+            pass
+        try:
+            q = u.Quantity(text[i])
+        except (TypeError, ValueError):
+            code[i], why[i] = "bad_value", f"'{text[i]}' is not a number"
+            continue
+        try:
+            vals[i] = float(q.to_value(_target(spec)))
+        except u.UnitsError:
+            code[i], why[i] = "wrong_unit", f"'{text[i]}' is not in a unit of {_target(spec)}"
+    return vals, code, why
+
+
+def screen_population(table, mapping=None, *, source="<table>"):
+    """Screen an in-memory population Table (see :func:`read_population`).
+
+    Returns
+    -------
+    astropy.table.Table
+        Every input row once, in input order: ``input_index``, the fields in
+        snrkit's default catalogue layout and default units (NaN or "" where
+        missing), the input's other columns unchanged, ``status``, ``reason``
+        and the catalogue's flag columns.  The rows with status ``ok`` read
+        back through :func:`snrkit.catalog.catalogue_from_table`.
+    """
+    from astropy.table import Table
+    if not isinstance(table, Table):
+        raise InputError("population", type(table).__name__, "an astropy Table")
+    spec_map = load_mapping(mapping)
+    fields = _fields(spec_map, table)
+    n = len(table)
+    code = np.full(n, "", dtype="<U24")
+    why = np.full(n, "", dtype=object)
+
+    def mark(mask, c, reason):
+        new = np.asarray(mask, dtype=bool) & (code == "")
+        code[new] = c
+        why[new] = reason if isinstance(reason, str) else reason[new]
+
+    work = Table()
+    used = set()
+    for k, v in fields.items():
+        spec, col = FIELDS[k], v["column"]
+        label = f"column {col!r} ({spec.label})"
+        if col not in table.colnames:
+            mark(np.ones(n), "missing_column", f"{label}, named by the mapping, is not in {source}")
+            continue
+        used.add(col)
+        if spec.kind == "text":
+            data = table[col]
+            work[spec.column] = np.where(np.ma.getmaskarray(data), "",
+                                         np.asarray(np.ma.getdata(data)).astype(str))
+            continue
+        file_unit = table[col].unit
+        map_unit = None if spec_map["default"] else v["unit"]
+        if file_unit is not None and map_unit is not None and _factor(file_unit, spec) != \
+                _factor(map_unit, spec):
+            mark(np.ones(n), "wrong_unit", f"{label} has unit {file_unit} in the file but "
+                                           f"{map_unit} in the mapping")
+            continue
+        unit = map_unit if map_unit is not None else file_unit
+        factor = _factor(unit, spec)
+        if factor is None:
+            mark(np.ones(n), "wrong_unit", f"{label} has unit {unit}, which is not a unit of "
+                                           f"{_target(spec)}")
+            continue
+        vals, c, w = _cells(table[col], factor, spec)
+        for cc in ("wrong_unit", "bad_value"):
+            mark(c == cc, cc, np.char.add(f"{label}: ", w.astype(str)))
+        work[spec.column] = vals + v["offset"]
+        if spec.unit is not None:
+            work[spec.column].unit = spec.unit
+    for k in _REQUIRED:
+        if FIELDS[k].column not in work.colnames and k not in fields:
+            mark(np.ones(n), "missing_column",
+                 f"no column for {FIELDS[k].label} in {source} (default column "
+                 f"{FIELDS[k].column!r})")
+    for pair in _EITHER:
+        if not any(FIELDS[k].column in work.colnames or k in fields for k in pair):
+            mark(np.ones(n), "missing_column",
+                 f"no column for {FIELDS[pair[0]].label} or {FIELDS[pair[1]].label} in {source}")
+    for k in _REQUIRED + tuple(p[0] for p in _EITHER):
+        name = FIELDS[k].column
+        if name not in work.colnames and not any(FIELDS[o].column in work.colnames
+                                                 for p in _EITHER if k in p for o in p):
+            work[name] = np.full(n, "" if FIELDS[k].kind == "text" else np.nan)
+            if FIELDS[k].unit:
+                work[name].unit = FIELDS[k].unit
+    cat = catalogue_from_table(work, None, source=source)
+    out = Table(cat.values, copy=True)
+    for name in table.colnames:
+        if name not in used and name not in out.colnames:
+            out[name] = table[name]
+    status = np.where(code != "", code, np.asarray(cat.status)).astype(str)
+    reason = np.where(code != "", why, np.asarray(cat.reason, dtype=object)).astype(str)
+    for name in ("status", "reason") + FLAG_COLUMNS:
+        if name in out.colnames:
+            out.rename_column(name, name + "_input")
+    out["status"] = status
+    out["reason"] = reason
+    for flag in FLAG_COLUMNS:
+        out[flag] = np.where(status == "ok", np.asarray(cat.table[flag]), False)
+    out.meta["source"] = source
+    out.meta["status_codes"] = {**COLUMN_STATUS_CODES}
+    return out
