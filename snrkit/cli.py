@@ -33,6 +33,7 @@ COMMANDS = {
     "contrast": ("contrast", "transits needed to tell each pair of scenarios apart"),
     "rank": ("rank", "rank a catalogue of planets by the time they need"),
     "plan": ("plan", "the observing programme: transits, dated windows, hours, years"),
+    "yields": ("yields", "how many planets of a population each telescope design characterises"),
 }
 
 
