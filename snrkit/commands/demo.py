@@ -19,6 +19,8 @@ __all__ = ["add_parser", "run", "demo_files", "DEFAULT_MODE", "run_demo"]
 
 #: Mode used for demo planets that name none.
 DEFAULT_MODE = "cold6m-prism-lowres"
+#: Stars of the demo's synthetic population (45 generator blocks).
+DEMO_YIELD_STARS = 45 * 4096
 #: Gases the demo tests one by one where the scenario has them.
 DEMO_GASES = ("H2O", "CO2")
 
@@ -36,6 +38,9 @@ def add_parser(p):
                    help="run only this demo system (file stem, e.g. cedar; repeatable)")
     p.add_argument("--describe-only", action="store_true",
                    help="only describe the demo systems (no spectra, noise or stacking)")
+    p.add_argument("--yield-stars", type=int, default=DEMO_YIELD_STARS, metavar="N",
+                   help=f"stars of the invented population whose yields the demo computes "
+                        f"(default {DEMO_YIELD_STARS}, about 10^4 transiting planets)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
 
 
@@ -44,7 +49,7 @@ def _mode_of(system, i):
     return obs.get("mode", DEFAULT_MODE)
 
 
-def run_demo(out_dir, only=None, describe_only=False):
+def run_demo(out_dir, only=None, describe_only=False, yield_stars=DEMO_YIELD_STARS):
     """Run the demo chain; return (summary text, JSON-ready dict).  Writes files into ``out_dir``."""
     import json
     import tomllib
@@ -80,6 +85,7 @@ def run_demo(out_dir, only=None, describe_only=False):
         summary.append("")
     if not describe_only and not only:
         _catalogue_and_plan(files, out, summary)
+        _population_yields(out, summary, yield_stars)
     if not describe_only:
         summary.append(f"results written to {out}/")
         atomic_write_text(out / "summary.txt", "\n".join(summary) + "\n")
@@ -182,8 +188,35 @@ def _catalogue_and_plan(files, out, summary):
     atomic_write_text(out / "programme_plan.json", json.dumps(jsonable({"planets": plans}), indent=2) + "\n")
 
 
+def _population_yields(out, summary, stars):
+    """Yields of an invented population for three apertures, on a local dask cluster."""
+    import sys
+    from ..planning.yields import population_yields
+    from ..planning.yields.figures import plot_yields, write_figure
+    res = population_yields(generate=stars, seed=1, mode=DEFAULT_MODE, resolution=20,
+                            design_texts=[f"name={d} m,aperture_m={d}" for d in (6, 9, 12)],
+                            out_dir=out / "yields", restart=True,
+                            notify=lambda text: print(text, file=sys.stderr))
+    ds = res["dataset"]
+    write_figure(plot_yields(ds, x="aperture_m"), out / "yields_by_aperture.png")
+    total = ds["yield_mean"].sum(["planet_class", "hz_position"]).isel(scenario=0, test=0)
+    hz = [h for h in ("optimistic", "conservative") if h in ds["hz_position"].values]
+    in_hz = ds["yield_mean"].sel(hz_position=hz).sum(["planet_class", "hz_position"])
+    summary.append(f"invented population: {res['planets']} transiting planets of {stars} stars; "
+                   f"atmosphere at 5 sigma within 500 transits, each planet's own scenario, "
+                   f"{DEFAULT_MODE} scaled in aperture:")
+    status = ds["status_count"].isel(draw=0, scenario=0, test=0)
+    for d in ds["design"].values:
+        sat = int(status.sel(design=d, status="saturated")) if "saturated" in ds["status"] else 0
+        summary.append(f"  {d}: {float(total.sel(design=d)):.0f} planets, "
+                       f"{float(in_hz.sel(design=d).isel(scenario=0, test=0)):.0f} of them in "
+                       f"the habitable zone ({sat} hosts too bright: the detector saturates)")
+    summary.append("")
+
+
 def run(args):
-    text, doc = run_demo(args.out, only=args.only, describe_only=args.describe_only)
+    text, doc = run_demo(args.out, only=args.only, describe_only=args.describe_only,
+                         yield_stars=args.yield_stars)
     if args.json:
         print_json(doc)
     else:

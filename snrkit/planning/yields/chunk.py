@@ -163,7 +163,7 @@ def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=
     kw = dict(sigma=sigma, n_max=int(max_transits), resolution=resolution, probabilities=())
     per_pass = max(int(planets_per_pass), 1)
     cols = {c: [] for c in PLANET_COLUMNS}
-    reached_counts = []
+    reached_counts, status_counts = [], []
     for di, (design, mode) in enumerate(designs):
         budget_h = design.hours if design.hours is not None else hours
         for si, spec in enumerate(scenarios):
@@ -179,9 +179,11 @@ def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=
                 _append(cols, table, n, pclass, hz, design.name, spec, test, st, rs, tn, hrs,
                         avail, ok, seed, block)
                 reached_counts += [[di, si, ti, c, h, k] for (c, h), k in _count(pclass[ok], hz[ok])]
+                codes, num = np.unique(st.astype(str), return_counts=True)
+                status_counts += [[di, si, ti, c, int(k)] for c, k in zip(codes.tolist(), num)]
     classes = [[c, h, k] for (c, h), k in _count(pclass, hz)]
     return {"columns": {c: np.concatenate(v) for c, v in cols.items()},
-            "classes": classes, "reached": reached_counts}
+            "classes": classes, "reached": reached_counts, "statuses": status_counts}
 
 
 def reached_mask(status, transits_needed, hours_total, period_s, max_transits, years=None,

@@ -254,6 +254,9 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests):
     xarray.Dataset
         ``planets`` (draw, planet_class, hz_position): input rows;
         ``reached`` (draw, design, scenario, test, planet_class, hz_position);
+        ``status_count`` (draw, design, scenario, test, status): planets by
+        status (``ok``, ``not_reachable``, ``saturated``, the population's
+        and the catalogue's refusals, ...);
         ``yield_mean`` and ``yield_spread`` over the draws and
         ``poisson_sigma`` (design, scenario, test, planet_class,
         hz_position).  Design coordinates: ``mode``, ``aperture_m``,
@@ -269,18 +272,25 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests):
     planets = np.zeros((len(seeds), len(classes), len(hz)), dtype=np.int64)
     reached = np.zeros((len(seeds), len(designs), len(scenarios), len(tests), len(classes),
                         len(hz)), dtype=np.int64)
+    codes = sorted({x[3] for cnt in counts.values() for x in cnt["statuses"]})
+    code_i = {c: i for i, c in enumerate(codes)}
+    status = np.zeros((len(seeds), len(designs), len(scenarios), len(tests), len(codes)),
+                      dtype=np.int64)
     for (s, _), cnt in counts.items():
+        for d, sc, t, c, k in cnt["statuses"]:
+            status[di[s], d, sc, t, code_i[c]] += k
         for c, h, k in cnt["classes"]:
             planets[di[s], ci[c], hi[h]] += k
         for d, sc, t, c, h, k in cnt["reached"]:
             reached[di[s], d, sc, t, ci[c], hi[h]] += k
     coords = {"draw": np.arange(len(seeds)), "seed": ("draw", np.asarray(seeds, dtype=np.int64)),
               "design": [d.name for d in designs], "scenario": list(scenarios), "test": list(tests),
-              "planet_class": classes, "hz_position": hz}
+              "planet_class": classes, "hz_position": hz, "status": codes}
     coords.update({k: ("design", v) for k, v in design_coordinates(designs, apertures).items()})
     dims = ("draw", "design", "scenario", "test", "planet_class", "hz_position")
     ds = xr.Dataset({"planets": (("draw", "planet_class", "hz_position"), planets),
-                     "reached": (dims, reached)}, coords=coords)
+                     "reached": (dims, reached),
+                     "status_count": (dims[:4] + ("status",), status)}, coords=coords)
     ds["yield_mean"] = ds["reached"].mean("draw")
     ds["yield_spread"] = (ds["reached"].std("draw", ddof=1) if len(seeds) > 1
                           else xr.full_like(ds["yield_mean"], np.nan))

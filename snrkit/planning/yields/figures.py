@@ -40,7 +40,7 @@ def plot_yields(ds, x="aperture_m", scenario=None, test=None, hz_positions=None,
     Returns
     -------
     matplotlib.figure.Figure
-        Error bars: the spread over population draws where there are several,
+        Classes that no design reaches are left out.  Error bars: the spread over population draws where there are several,
         else the Poisson spread sqrt(mean).
     """
     if x not in PLOT_AXES:
@@ -61,20 +61,24 @@ def plot_yields(ds, x="aperture_m", scenario=None, test=None, hz_positions=None,
     spread = reached.std("draw", ddof=1) if reached.sizes["draw"] > 1 else np.sqrt(mean)
     if ax is None:
         from matplotlib.figure import Figure
-        fig = Figure(figsize=(6.4, 4.4))
+        fig = Figure(figsize=(8.0, 4.8))
         ax = fig.add_subplot(1, 1, 1)
     else:
         fig = ax.figure
-    for pc in mean["planet_class"].values:
+    import matplotlib
+    colours = matplotlib.colormaps["tab20"]
+    shown = [pc for pc in mean["planet_class"].values if float(mean.sel(planet_class=pc).max()) > 0]
+    for k, pc in enumerate(shown):          # classes that no design reaches are left out
         ax.errorbar(xs[keep][order], mean.sel(planet_class=pc).values,
-                    yerr=np.asarray(spread.sel(planet_class=pc).values), marker="o",
-                    capsize=3, label=str(pc))
+                    yerr=np.asarray(spread.sel(planet_class=pc).values), marker="os^vD"[k % 5],
+                    color=colours(k % 20), capsize=3, label=str(pc))
     ax.set_xlabel(PLOT_AXES[x])
     ax.set_ylabel("planets reaching the target")
     hz = "all" if hz_positions is None else ", ".join(hz_positions)
-    ax.set_title(f"{te} at {ds.attrs.get('target_sigma', '')} sigma, {sc}; habitable zone: {hz}",
+    ax.set_title(f"{te} at {float(ds.attrs.get('target_sigma', 5)):g} sigma, {sc}; habitable zone: {hz}",
                  fontsize=9)
-    ax.legend(title="planet class", fontsize=8)
+    if shown:
+        ax.legend(title="planet class", fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0))
     ax.grid(alpha=0.3)
     return fig
 

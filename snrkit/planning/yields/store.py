@@ -23,12 +23,14 @@ from pathlib import Path
 from ...errors import InputError
 from ...io.atomic import atomic_path, atomic_write_text
 
-__all__ = ["RunStore", "settings_digest", "chunk_name", "MANIFEST", "FORMAT"]
+__all__ = ["RunStore", "settings_digest", "chunk_name", "MANIFEST", "FORMAT", "COUNT_KEYS"]
 
 MANIFEST = "manifest.json"
 #: Version of the store's layout (a change makes old folders refuse to resume).
 FORMAT = 1
 _COUNTS_KEY = b"snrkit.counts"
+#: The count lists of a chunk's result kept with its rows.
+COUNT_KEYS = ("classes", "reached", "statuses")
 
 
 def settings_digest(settings):
@@ -109,7 +111,7 @@ class RunStore:
         """Store one chunk's rows and counts (atomically); return the counts."""
         import pyarrow as pa
         import pyarrow.parquet as pq
-        counts = {"classes": result["classes"], "reached": result["reached"]}
+        counts = {k: result[k] for k in COUNT_KEYS}
         arrays = {}
         for name, values in result["columns"].items():
             arr = pa.array(values.tolist() if values.dtype == object else values)
