@@ -47,6 +47,7 @@ bench: $(DSTAMP)
 	$(VPY) benchmarks/bench_rank.py
 	$(VPY) benchmarks/bench_framework.py
 	$(VPY) benchmarks/bench_startup.py
+	$(VPY) benchmarks/bench_population.py
 
 clean:
 	rm -rf $(VENV) .venv-oldest build dist .pytest_cache snrkit_demo_output

@@ -238,14 +238,18 @@ def test_every_option_has_help_text():
     assert not missing
 
 
-def test_demo_writes_a_readable_summary(capsys, tmp_path):
-    # the whole `make demo` job, end to end: every demo system, the ranked catalogue
-    # and the plans, summed up in plain sentences (no Python objects printed)
-    rc, out, _ = run_cli(capsys, "demo", "--out", str(tmp_path / "demo"))
+def test_demo_writes_a_readable_summary(capsys, tmp_path, monkeypatch):
+    # the whole `make demo` job, end to end: every demo system, the ranked catalogue,
+    # the plans and a population yield, summed up in plain sentences (no Python objects
+    # printed); the yield on one generator block in process (the cluster has its own tests)
+    monkeypatch.setenv("SNRKIT_SCHEDULER", "in-process")
+    rc, out, _ = run_cli(capsys, "demo", "--out", str(tmp_path / "demo"), "--yield-stars", "4096")
     text = (tmp_path / "demo" / "summary.txt").read_text()
     assert rc == 0
-    for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c"):
+    for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c",
+                 "invented population", "12 m:"):
         assert name in text, name
+    assert (tmp_path / "demo" / "yields_by_aperture.png").stat().st_size > 0
     assert "{" not in text and "}" not in text
     import re
     assert not re.search(r"(?<![0-9.])1 transits", text)      # "1 transit", not "1 transits"

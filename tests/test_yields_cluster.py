@@ -131,3 +131,13 @@ def test_an_unreachable_scheduler_exits_2_naming_the_address(capsys, tmp_path):
     assert rc == 2 and err.count("\n") == 1 and address in err
     with pytest.raises(InputError, match="running dask scheduler"):
         population_yields(generate=4096, mode=MODE, scheduler=address, connect_timeout=1)
+
+
+def test_bad_input_inside_a_worker_reaches_the_caller_as_input_error(cluster):
+    """A row's unknown scenario raised in a worker arrives as the same one-line error."""
+    from snrkit.errors import UnknownKeyError
+    from snrkit.planning.population import generate_block
+    pop = generate_block(3, 0)[:5]
+    pop["scenario"] = ["no-such-scenario"] * 5
+    with pytest.raises(UnknownKeyError, match="no-such-scenario"):
+        population_yields(pop, mode=MODE, resolution=10, scheduler=cluster.scheduler_address)

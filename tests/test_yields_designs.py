@@ -172,3 +172,22 @@ def test_bad_scheduler_and_memory_options(tmp_path):
     with pytest.raises(InputError, match="chunk-memory"):
         population_yields(_tiny_population(), mode=MODE, scheduler="in-process",
                           chunk_memory="lots")
+
+
+def test_draws_give_the_spread_over_independent_populations():
+    """Three seeds, three different populations; spread = sample std of the per-draw yields."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")   # the engine's own notes (SnrkitWarning) are not checked here
+        res = population_yields(generate=2000, seed=4, draws=3, mode=MODE, scenarios=[SCENARIO],
+                                resolution=10, scheduler="in-process")
+    ds = res["dataset"]
+    assert ds["seed"].values.tolist() == [4, 5, 6]
+    per_draw = ds["reached"].sum(["planet_class", "hz_position"]).values[:, 0, 0, 0]
+    assert len(set(ds["planets"].sum(["planet_class", "hz_position"]).values.tolist())) > 1
+    total_mean = ds["yield_mean"].sum(["planet_class", "hz_position"]).values[0, 0, 0]
+    assert total_mean == pytest.approx(per_draw.mean())
+    one = ds["reached"].isel(design=0, scenario=0, test=0)
+    np.testing.assert_allclose(ds["yield_spread"].isel(design=0, scenario=0, test=0),
+                               one.std("draw", ddof=1))
+    np.testing.assert_allclose(ds["poisson_sigma"], np.sqrt(ds["yield_mean"]))
+    assert (ds["reached"] <= ds["planets"]).all()

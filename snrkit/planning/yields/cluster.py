@@ -24,7 +24,8 @@ from ...units import parse_number
 from .chunk import evaluate_chunk
 from .store import COUNT_KEYS
 
-__all__ = ["SCHEDULER_ENV", "IN_PROCESS", "LOCAL", "WORKER_CONFIG", "connect", "parse_memory", "worker_memory",
+__all__ = ["SCHEDULER_ENV", "IN_PROCESS", "LOCAL", "WORKER_CONFIG", "connect", "parse_memory",
+           "worker_memory",
            "check_chunk_memory", "run_chunks", "chunk_task", "ENGINE_BYTES_PER_PLANET",
            "PROCESS_BASE_BYTES", "planets_per_pass"]
 

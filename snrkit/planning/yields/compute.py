@@ -111,7 +111,8 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
                       tests=("atmosphere",), sigma=5.0, max_transits=500, hours=None,
                       resolution=None, scheduler=None, workers=None,
                       chunk_memory=DEFAULT_CHUNK_MEMORY, chunk_planets=DEFAULT_CHUNK_PLANETS,
-                      chunk_blocks=DEFAULT_CHUNK_BLOCKS, out_dir=None, restart=False, progress=None, notify=None,
+                      chunk_blocks=DEFAULT_CHUNK_BLOCKS, out_dir=None, restart=False,
+                      progress=None, notify=None,
                       connect_timeout=10.0, generator_options=None):
     """Yields of a population for a grid of designs, scenarios and tests.
 
@@ -199,6 +200,8 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
         from .store import RunStore
         store = RunStore(out_dir, identity, keys, restart=restart)
         done = store.done(keys)
+    from .store import settings_digest
+    digest = settings_digest(identity)
     client, cluster = cl.connect(scheduler, workers, connect_timeout)
     dashboard = None
     try:
@@ -210,7 +213,7 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
         counts, computed = cl.run_chunks(chunks, [(d, m) for d, m, _ in built], settings,
                                          client=client, store=store, done=done,
                                          progress=progress,
-                                         key_prefix=f"snrkit-yields-{store.digest if store else id(settings)}")
+                                         key_prefix=f"snrkit-yields-{digest}")
     finally:
         if client is not None:
             client.close()

@@ -40,7 +40,8 @@ def plot_yields(ds, x="aperture_m", scenario=None, test=None, hz_positions=None,
     Returns
     -------
     matplotlib.figure.Figure
-        Classes that no design reaches are left out.  Error bars: the spread over population draws where there are several,
+        Classes that no design reaches are left out.  Error bars: the spread
+        over population draws where there are several,
         else the Poisson spread sqrt(mean).
     """
     if x not in PLOT_AXES:
