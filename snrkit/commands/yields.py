@@ -4,7 +4,7 @@ import sys
 
 from ._common import print_json, check_output_path
 
-__all__ = ["add_parser", "run", "YieldProgress"]
+__all__ = ["add_parser", "run"]
 
 
 def add_parser(p):
@@ -68,20 +68,6 @@ def add_parser(p):
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 
-class YieldProgress:
-    """Chunks done, as a one-line bar on stderr (only when stderr is a terminal)."""
-
-    def __init__(self, enabled):
-        self.enabled = enabled and sys.stderr.isatty()
-
-    def __call__(self, done, total):
-        if self.enabled:
-            k = int(30 * done / max(total, 1))
-            end = "\n" if done >= total else ""
-            sys.stderr.write(f"\r  yields [{'#' * k}{'.' * (30 - k)}] {done}/{total} chunks{end}")
-            sys.stderr.flush()
-
-
 def _rows(ds):
     """One record per design x scenario x test x planet class (habitable-zone positions summed)."""
     tot = ds[["reached"]].sum("hz_position")["reached"]
@@ -110,6 +96,7 @@ def run(args):
     from ..planning.yields import population_yields
     from ..errors import InputError
     from .transits import resolution_value
+    from .rank import ProgressBar
     if args.plot:
         check_output_path(args.plot, (".png", ".pdf", ".svg"), "--plot")
     if args.plot and args.plot_against:
@@ -126,7 +113,7 @@ def run(args):
         chunk_memory=args.chunk_memory, chunk_planets=args.chunk_planets,
         chunk_blocks=args.chunk_blocks,
         out_dir=args.out_dir, restart=args.restart,
-        progress=YieldProgress(not args.quiet and not args.json),
+        progress=ProgressBar(not args.quiet and not args.json, "yields", " chunks"),
         notify=lambda text: print(text, file=sys.stderr))
     ds = res["dataset"]
     if args.plot:

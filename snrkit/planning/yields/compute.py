@@ -121,7 +121,11 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
     population : str, pathlib.Path or astropy.table.Table, optional
         A population file (Parquet, CSV or ECSV, read by
         :func:`snrkit.planning.population.read_population` through
-        ``mapping``) or a table in the catalogue's default layout.
+        ``mapping``) or a table in the catalogue's default layout.  A file
+        is read here and sent to the workers in chunks of ``chunk_planets``
+        rows, so it must fit in this process's memory; a generated
+        population is drawn on the workers, block by block, and only the
+        chunk in hand is ever in memory.
     generate : int, optional
         Instead: draw this many stars (rounded up to whole generator
         blocks) with :func:`snrkit.planning.population.generate_block`.
@@ -209,7 +213,9 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
             cl.check_chunk_memory(client, chunk_bytes)
             dashboard = client.dashboard_link
             if notify is not None:
-                notify(f"dask dashboard: {dashboard}")
+                from importlib.util import find_spec
+                notify(f"dask dashboard: {dashboard}" + ("" if find_spec("bokeh") else
+                       " (the page needs bokeh: pip install 'snrkit[dashboard]')"))
         counts, computed = cl.run_chunks(chunks, [(d, m) for d, m, _ in built], settings,
                                          client=client, store=store, done=done,
                                          progress=progress,
