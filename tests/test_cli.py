@@ -247,9 +247,9 @@ def test_demo_writes_a_readable_summary(capsys, tmp_path, monkeypatch):
     text = (tmp_path / "demo" / "summary.txt").read_text()
     assert rc == 0
     for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c",
-                 "invented population", "12 m:"):
+                 "invented population", "400 h:"):
         assert name in text, name
-    assert (tmp_path / "demo" / "yields_by_aperture.png").stat().st_size > 0
+    assert (tmp_path / "demo" / "yields_by_budget.png").stat().st_size > 0
     assert "{" not in text and "}" not in text
     import re
     assert not re.search(r"(?<![0-9.])1 transits", text)      # "1 transit", not "1 transits"

@@ -79,36 +79,44 @@ def _tiny_population():
 
 
 def test_tiny_population_equals_a_hand_count_through_the_per_planet_path(tmp_path):
-    """Each planet alone through transits_for_system, counted by hand per class."""
+    """Each planet alone through transits_for_system, counted by hand per class.
+
+    Two designs with the same instrument and different budgets share one engine
+    evaluation per chunk; each must still be counted with its own budgets.
+    """
     pop = _tiny_population()
-    design = "name=8m,aperture_m=8,years=2,hours=150"
+    design = "name=8m,aperture_m=8,years=0.2,hours=30"
+    free = "name=8m free,aperture_m=8"
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")   # the engine's own notes (SnrkitWarning) are not checked here
-        res = population_yields(pop, design_texts=[design], mode=MODE, scenarios=[SCENARIO],
+        res = population_yields(pop, design_texts=[design, free], mode=MODE, scenarios=[SCENARIO],
                                 resolution=10, scheduler="in-process", out_dir=tmp_path / "run")
         mode, _ = build_mode(design_from_text(design, MODE))
-        hand = {}
+        hand, hand_free = {}, {}
         for i in range(len(pop)):
             cat = catalogue_from_table(pop[i:i + 1])
             rec = transits_for_system(cat.system, mode, SCENARIO, resolution=10,
                                       probabilities=())["planets"][0]
             n = rec["transits_needed"] or 0
-            avail = math.floor(2 * YEAR_S / (float(pop["period_days"][i]) * 86400.0))
+            avail = math.floor(0.2 * YEAR_S / (float(pop["period_days"][i]) * 86400.0))
             ok = (rec["status"] == "ok" and 0 < n <= min(500, avail)
-                  and rec["hours_total"] is not None and rec["hours_total"] <= 150)
+                  and rec["hours_total"] is not None and rec["hours_total"] <= 30)
             key = (str(pop["planet_class"][i]), str(pop["hz_position"][i]))
             hand[key] = hand.get(key, 0) + int(ok)
+            hand_free[key] = hand_free.get(key, 0) + int(rec["status"] == "ok" and 0 < n <= 500)
     ds = res["dataset"]
-    got = ds["reached"].isel(draw=0, design=0, scenario=0, test=0)
-    for (pc, hz), count in hand.items():
-        assert int(got.sel(planet_class=pc, hz_position=hz)) == count
-    assert int(got.sum()) == sum(hand.values())
-    assert 0 < sum(hand.values()) < len(pop)      # the budgets cut some planets, not all
+    for k, counts in enumerate((hand, hand_free)):
+        got = ds["reached"].isel(draw=0, design=k, scenario=0, test=0)
+        for (pc, hz), count in counts.items():
+            assert int(got.sel(planet_class=pc, hz_position=hz)) == count
+        assert int(got.sum()) == sum(counts.values())
+    assert 0 < sum(hand.values()) < sum(hand_free.values())  # the budgets cut some planets
     assert int(ds["planets"].sum()) == len(pop)
     # the per-planet Parquet holds every input row once per design x scenario x test
     import pyarrow.parquet as pq
     rows = pq.read_table(tmp_path / "run" / "planets").to_pandas()
-    assert len(rows) == len(pop) and int(rows["reached"].sum()) == sum(hand.values())
+    assert len(rows) == 2 * len(pop)
+    assert int(rows[rows["design"] == "8m"]["reached"].sum()) == sum(hand.values())
     # the netCDF reads back to the same counts
     import xarray as xr
     with xr.open_dataset(tmp_path / "run" / "yields.nc", engine="scipy") as back:

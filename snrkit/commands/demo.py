@@ -21,6 +21,8 @@ __all__ = ["add_parser", "run", "demo_files", "DEFAULT_MODE", "run_demo"]
 DEFAULT_MODE = "cold6m-prism-lowres"
 #: Stars of the demo's synthetic population (45 generator blocks).
 DEMO_YIELD_STARS = 45 * 4096
+#: Programme hours per planet of the demo's yield designs.
+DEMO_HOURS = (25, 50, 100, 200, 400)
 #: Gases the demo tests one by one where the scenario has them.
 DEMO_GASES = ("H2O", "CO2")
 
@@ -189,28 +191,30 @@ def _catalogue_and_plan(files, out, summary):
 
 
 def _population_yields(out, summary, stars):
-    """Yields of an invented population for three apertures, on a local dask cluster."""
+    """Yields of an invented population for programme budgets, on a local dask cluster."""
     import sys
     from ..planning.yields import population_yields
     from ..planning.yields.figures import plot_yields, write_figure
     res = population_yields(generate=stars, seed=1, mode=DEFAULT_MODE, resolution=20,
-                            design_texts=[f"name={d} m,aperture_m={d}" for d in (6, 9, 12)],
+                            design_texts=[f"name={h} h,hours={h}" for h in DEMO_HOURS],
                             out_dir=out / "yields", restart=True,
                             notify=lambda text: print(text, file=sys.stderr))
     ds = res["dataset"]
-    write_figure(plot_yields(ds, x="aperture_m"), out / "yields_by_aperture.png")
+    write_figure(plot_yields(ds, x="hours"), out / "yields_by_budget.png")
     total = ds["yield_mean"].sum(["planet_class", "hz_position"]).isel(scenario=0, test=0)
     hz = [h for h in ("optimistic", "conservative") if h in ds["hz_position"].values]
     in_hz = ds["yield_mean"].sel(hz_position=hz).sum(["planet_class", "hz_position"])
     summary.append(f"invented population: {res['planets']} transiting planets of {stars} stars; "
                    f"atmosphere at 5 sigma within 500 transits, each planet's own scenario, "
-                   f"{DEFAULT_MODE} scaled in aperture:")
-    status = ds["status_count"].isel(draw=0, scenario=0, test=0)
+                   f"{DEFAULT_MODE}, by programme hours per planet:")
     for d in ds["design"].values:
-        sat = int(status.sel(design=d, status="saturated")) if "saturated" in ds["status"] else 0
         summary.append(f"  {d}: {float(total.sel(design=d)):.0f} planets, "
                        f"{float(in_hz.sel(design=d).isel(scenario=0, test=0)):.0f} of them in "
-                       f"the habitable zone ({sat} hosts too bright: the detector saturates)")
+                       f"the habitable zone")
+    status = ds["status_count"].isel(draw=0, design=0, scenario=0, test=0)
+    counts = ", ".join(f"{int(status.sel(status=s))} {s.replace('_', ' ')}"
+                       for s in ds["status"].values if s != "ok")
+    summary.append(f"  planets with another status than ok (never counted): {counts or 'none'}")
     summary.append("")
 
 

@@ -81,6 +81,12 @@ def _engine_columns(system, mode, scs, kw, per_pass):
     return {c: np.concatenate([p[c] for p in parts], axis=-1) for c in parts[0]}
 
 
+def _instrument_key(design):
+    """What of a design reaches the engine (everything but its name and budgets)."""
+    return (design.mode, design.aperture_m, design.throughput_scale, design.floor_ppm,
+            design.floor_averages_down)
+
+
 def _applies(kind, arg, sc):
     """Why a test does not apply to a scenario ('' when it does)."""
     if kind == "species" and arg not in sc.mixing_ratios:
@@ -164,6 +170,7 @@ def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=
     per_pass = max(int(planets_per_pass), 1)
     cols = {c: [] for c in PLANET_COLUMNS}
     reached_counts, status_counts = [], []
+    engine = {}          # designs that differ only in their budgets share one evaluation
     for di, (design, mode) in enumerate(designs):
         budget_h = design.hours if design.hours is not None else hours
         for si, spec in enumerate(scenarios):
@@ -171,7 +178,11 @@ def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=
                 st, rs = status.copy(), reason.copy()
                 tn, hrs = np.zeros(n, dtype=np.int64), np.full(n, np.nan)
                 if system is not None:
-                    r = _one_scenario(system, mode, spec, test, kw, per_pass, assigned[good])
+                    key = (_instrument_key(design), si, ti)
+                    if key not in engine:
+                        engine[key] = _one_scenario(system, mode, spec, test, kw, per_pass,
+                                                    assigned[good])
+                    r = engine[key]
                     st[good], rs[good] = r["status"], r["reason"]
                     tn[good], hrs[good] = r["transits_needed"], r["hours_total"]
                 ok, avail = reached_mask(st, tn, hrs, period_s, max_transits, design.years,
