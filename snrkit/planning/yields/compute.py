@@ -22,6 +22,7 @@ import math
 import numpy as np
 
 from ...errors import InputError
+from ...units import parse_number
 from ...engine import parse_test
 from ...atmosphere.scenarios import load_scenario
 from .designs import designs_from_options, build_mode, design_coordinates
@@ -67,10 +68,10 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
         raise InputError("--population", population, "either a population file or --generate N")
     if generate is not None:
         from ..population import BLOCK_STARS
-        n = int(parse_int(generate, "--generate", 1, 10**10))
-        draws = int(parse_int(draws, "--draws", 1, MAX_DRAWS))
-        seed = int(parse_int(seed, "--seed", 0, 2**63 - draws))
-        per = int(parse_int(chunk_blocks, "--chunk-blocks", 1, 10**5))
+        n = int(_parse_int(generate, "--generate", 1, 10**10))
+        draws = int(_parse_int(draws, "--draws", 1, MAX_DRAWS))
+        seed = int(_parse_int(seed, "--seed", 0, 2**63 - draws))
+        per = int(_parse_int(chunk_blocks, "--chunk-blocks", 1, 10**5))
         seeds = [seed + k for k in range(draws)]
         blocks = math.ceil(n / BLOCK_STARS)
         opts = dict(generator_options or {})
@@ -78,9 +79,11 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
                   for s in seeds for b in range(0, blocks, per)]
         return chunks, seeds, {"generated_stars": blocks * BLOCK_STARS, "seeds": seeds,
                                "block_stars": BLOCK_STARS, "generator_options": opts}
+    if int(_parse_int(draws, "--draws", 1, MAX_DRAWS)) != 1:
+        raise InputError("--draws", draws, "1 for a population file (draws need --generate)")
     from astropy.table import Table
     if isinstance(population, Table):
-        table, desc = population, {"table_rows": len(population)}
+        table, desc = population, {"table_rows": len(population), "table": _table_digest(population)}
     else:
         from ..population import read_population
         from pathlib import Path
@@ -88,9 +91,20 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
         st = Path(population).stat()
         desc = {"file": str(Path(population).resolve()), "size": st.st_size,
                 "mtime_ns": st.st_mtime_ns, "mapping": None if mapping is None else str(mapping)}
-    rows = int(parse_int(chunk_planets, "--chunk-planets", 1, 10**7))
+    rows = int(_parse_int(chunk_planets, "--chunk-planets", 1, 10**7))
     chunks = [((0, b), table[s0:s0 + rows]) for b, s0 in enumerate(range(0, len(table), rows))]
     return chunks, [0], {**desc, "chunk_planets": rows}
+
+
+def _table_digest(table):
+    """Digest of a table's columns (names and values), so a resumed run is the same table."""
+    import hashlib
+    h = hashlib.sha256()
+    for name in table.colnames:
+        col = np.asarray(table[name])
+        h.update(name.encode())
+        h.update(col.tobytes() if col.dtype.kind in "biufcUS" else repr(col.tolist()).encode())
+    return h.hexdigest()[:20]
 
 
 def generate_blocks(seed, first, count, options):
@@ -101,8 +115,7 @@ def generate_blocks(seed, first, count, options):
     return vstack(parts, metadata_conflicts="silent") if len(parts) > 1 else parts[0]
 
 
-def parse_int(value, field, low, high):
-    from ...units import parse_number
+def _parse_int(value, field, low, high):
     return parse_number(value, field, low, high, integer=True)
 
 
@@ -182,9 +195,8 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
     scenarios, tests = _check_lists(scenarios, tests)
     from ... import detect as dt
     sigma = dt.check_sigma(sigma)
-    max_transits = int(parse_int(max_transits, "--max-transits", 1, 100000))
+    max_transits = int(_parse_int(max_transits, "--max-transits", 1, 100000))
     if hours is not None:
-        from ...units import parse_number
         hours = float(parse_number(hours, "--hours", 0.0, 1e6, low_inclusive=False))
     design_list = designs_from_options(designs, design_texts, mode)
     built = [(d, *build_mode(d)) for d in design_list]
@@ -238,7 +250,6 @@ def _bins_factor(resolution):
     """Bins relative to R = 100 (the engine memory scales with the bins)."""
     if resolution is None or isinstance(resolution, str):
         return 1.0
-    from ...units import parse_number
     return float(parse_number(resolution, "--resolution", 1.0, 1e6)) / 100.0
 
 

@@ -68,7 +68,9 @@ class RunStore:
         if not self.folder.parent.is_dir():
             raise InputError("--out", str(folder), "a folder inside an existing folder")
         old = self._read_manifest()
-        if old is not None and (old.get("digest") != self.digest or old.get("format") != FORMAT):
+        orphans = old is None and any(self.planets.glob("chunk-s*-b*.parquet"))
+        if orphans or old is not None and (old.get("digest") != self.digest
+                                           or old.get("format") != FORMAT):
             if not restart:
                 raise InputError("--out", str(folder), "an empty folder or one holding a run "
                                  "with the same settings", detail="it holds a different run; "
