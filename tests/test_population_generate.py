@@ -201,11 +201,29 @@ def test_seeds_reproduce(seed, index):
     assert len(np.unique(a["planet_name"])) == len(a)
 
 
-def test_transit_cut_keeps_the_same_planets():
-    every = generate_block(5, 2, transiting_only=False)
-    kept = generate_block(5, 2)
-    _same(kept, every[np.asarray(every["transits"])])
-    assert list(kept.colnames) == list(COLUMN_UNITS)
+def test_thinned_transiting_draw_matches_the_full_draw(g_stars, m_stars):
+    # The default mode draws transiting planets directly by thinning the Poisson process;
+    # the transiting planets of the full draw must follow the same law: counts per
+    # occurrence cell equal within the Poisson error of a difference (4 sigma, chi-square at
+    # 99.9 %), and the impact parameter uniform in [0, 1 + Rp/R*] (Kolmogorov-Smirnov).
+    for table, (n, every) in (("FGK", g_stars), ("M", m_stars)):
+        mix = {"G": 1.0} if table == "FGK" else {"M": 1.0}
+        seed = 11 if table == "FGK" else 12
+        direct = generate_population(4 * n, seed + 100, host_mix=mix)
+        cells = occurrence_cells(table)
+        a = _cell_counts(every[np.asarray(every["transits"])], cells) * 4.0
+        b = _cell_counts(direct, cells).astype(float)
+        var = 4.0 * a + b
+        pos = var > 0
+        assert np.all(np.abs(a - b)[pos] <= 4 * np.sqrt(var[pos]) + 4)
+        assert np.sum((a - b)[pos] ** 2 / var[pos]) < scipy.stats.chi2.ppf(0.999, pos.sum())
+        k = np.asarray(direct["planet_radius_earth"]) * R_EARTH / (
+            np.asarray(direct["host_radius_sun"]) * R_SUN)
+        x = np.asarray(direct["impact_parameter"]) / (1 + k)
+        assert scipy.stats.kstest(x, "uniform").pvalue > 1e-3
+        assert np.all(direct["transits"])
+    block = generate_block(5, 2)
+    assert list(block.colnames) == list(COLUMN_UNITS)
 
 
 @pytest.mark.parametrize("call, error", [
@@ -219,3 +237,20 @@ def test_bad_options(call, error):
     with pytest.raises(error) as exc:
         call()
     assert "\n" not in str(exc.value)
+
+
+def test_transit_bound_holds_over_each_class():
+    # The thinning bound p_max must exceed (R* + R_max) / a(P_min) for every host of the
+    # class: checked on a grid 10 times finer than the one that built it.
+    from snrkit.geometry import semi_major_axis_from_period
+    from snrkit.constants import DAY, M_SUN
+    from snrkit.planning.population.draws import TABLE_OF_CLASS, transit_bounds
+    from snrkit.planning.population.model import SPECTRAL_CLASSES
+    for c, name in enumerate(SPECTRAL_CLASSES):
+        cells = occurrence_cells(("FGK", "M")[TABLE_OF_CLASS[c]])
+        props = dwarf_properties(np.linspace(*CLASS_TEFF_RANGE_K[name], 40001))
+        a = semi_major_axis_from_period(cells["period_min"][None, :] * DAY,
+                                        props["mass"][:, None] * M_SUN)
+        p = (props["radius"][:, None] * R_SUN + cells["radius_max"][None, :] * R_EARTH) / a
+        assert np.all(p <= transit_bounds()[c][None, :])
+        assert np.all(p.max(axis=0) > transit_bounds()[c] / 1.02)   # and is not loose
