@@ -28,7 +28,8 @@ from pathlib import Path
 import numpy as np
 import astropy.units as u
 
-from ...catalog import DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping
+from ...catalog import (DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping,
+                        _read_table)
 from ...errors import InputError
 
 __all__ = ["read_population", "screen_population", "POPULATION_FORMATS", "COLUMN_STATUS_CODES"]
@@ -44,32 +45,41 @@ _EITHER = (("star.mass", "star.log_gravity"), ("planet.period", "planet.semi_maj
 
 
 def _read(path, format):
-    from astropy.table import Table
-    from ...io.tomlfile import check_input_path
+    """The file as an astropy Table; CSV and ECSV through the catalogue's reader."""
     path = Path(path)
     fmt = POPULATION_FORMATS.get(path.suffix.lower()) if format is None else \
         {"parquet": "parquet", "csv": "ascii.csv", "ecsv": "ascii.ecsv"}.get(str(format).lower())
     if fmt is None:
         raise InputError("POPULATION", str(path) if format is None else format,
                          "a file ending in .parquet, .pq, .csv or .ecsv, or format parquet, csv, ecsv")
+    try:
+        if fmt != "parquet":
+            return _read_table(path, fmt)
+        return _read_parquet(path)
+    except InputError as exc:      # the same message, naming the population
+        raise InputError("POPULATION", exc.value, exc.allowed, detail=exc.detail) from None
+
+
+def _read_parquet(path):
+    from astropy.table import Table
+    from astropy.utils.exceptions import AstropyWarning
+    from ...io.tomlfile import check_input_path
     check_input_path(path, "POPULATION", "a population file")
     if not path.is_file():
         raise InputError("POPULATION", str(path), "an existing file")
-    if fmt == "parquet":
-        try:
-            import pyarrow.parquet  # noqa: F401  (astropy's Parquet reader needs it)
-        except ImportError:
-            raise InputError("POPULATION", str(path), "a CSV or ECSV file",
-                             detail="reading Parquet needs pyarrow: pip install pyarrow") from None
     try:
-        from astropy.utils.exceptions import AstropyWarning
-        with warnings.catch_warnings():
-            # unit strings astropy does not know are reported per column below
-            warnings.simplefilter("ignore", AstropyWarning)
-            return Table.read(str(path), format=fmt)
-    except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
-        raise InputError("POPULATION", str(path), f"a readable {fmt} table",
-                         detail=f"{type(exc).__name__}: {exc}") from None
+        import pyarrow.parquet  # noqa: F401  (astropy's Parquet reader needs it)
+    except ImportError:
+        raise InputError("POPULATION", str(path), "a CSV or ECSV file",
+                         detail="reading Parquet needs pyarrow: pip install pyarrow") from None
+    with warnings.catch_warnings():
+        # unit strings astropy does not know are reported per column by the screening
+        warnings.simplefilter("ignore", AstropyWarning)
+        try:
+            return Table.read(str(path), format="parquet")
+        except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
+            raise InputError("POPULATION", str(path), "a readable Parquet table",
+                             detail=f"{type(exc).__name__}: {exc}") from None
 
 
 def read_population(path, mapping=None, *, format=None):
