@@ -163,6 +163,16 @@ def test_labels_of_an_earth_twin():
     assert s.tolist() == ["n2-o2-temperate", "h2-metal-rich", "h2-warm-solar", "h2-clear-solar"]
 
 
+def test_rules_assign_shipped_presets_and_known_classes(g_stars, m_stars):
+    from snrkit.atmosphere.scenarios import preset_names
+    from snrkit.planning.population import PLANET_CLASS_LABELS, SCENARIO_RULES
+    assert set(SCENARIO_RULES) <= set(preset_names())
+    for _, pop in (g_stars, m_stars):
+        assert set(pop["scenario"]) <= set(SCENARIO_RULES)
+        assert set(pop["planet_class"]) <= set(PLANET_CLASS_LABELS)
+        assert set(pop["hz_position"]) <= {"inner", "optimistic", "conservative", "outer"}
+
+
 def _same(a, b):
     assert a.colnames == b.colnames and len(a) == len(b)
     for name in a.colnames:
