@@ -18,9 +18,13 @@ Pure numpy compute on the shipped tables of ``data_tables/population/``
   ``max_distance_pc``; apparent magnitudes m = M + 5 log10(d / 10 pc),
   no extinction (common practice for nearby stars, no source); sky
   positions uniform on the sphere;
-* occurrence: Fressin et al. 2013 (ApJ 766, 81) for F, G and K hosts,
-  Dressing & Charbonneau 2015 (ApJ 807, 45, Figure 12) for M dwarfs, as
-  mean planets per star in period-radius cells.
+* occurrence: Fressin et al. 2013 (ApJ 766, 81, Table 3) for F, G and K
+  hosts, its empty cells (Earths beyond 85 d, super-Earths beyond 145 d)
+  filled with half the Hsu et al. 2019 (AJ 158, 109) upper limit as a
+  density flat in ln P and ln R, and small Neptunes at 245-418 d carried
+  flat in ln P from 145-245 d; Dressing & Charbonneau 2015 (ApJ 807, 45,
+  Figure 12) for M dwarfs; as mean planets per star in period-radius cells
+  (each cell's ``status`` says where its value comes from).
 """
 
 from functools import lru_cache
