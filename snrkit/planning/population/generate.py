@@ -15,8 +15,11 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   planet's cell drawn with probability rate / total (this splitting of a
   Poisson process is the same as an independent Poisson number per cell);
   within a cell, period and radius log-uniform (common practice, no
-  source).  Tables: Fressin et al. 2013 (ApJ 766, 81) for F, G and K hosts,
-  Dressing & Charbonneau 2015 (ApJ 807, 45, Figure 12) for M dwarfs;
+  source).  Tables: Fressin et al. 2013 (ApJ 766, 81, Table 3) for F, G and K
+  hosts, with the cells it leaves empty (small planets beyond 85-245 d)
+  filled after Hsu et al. 2019 (AJ 158, 109), and Dressing & Charbonneau
+  2015 (ApJ 807, 45, Figure 12) for M dwarfs; provenance and the filling
+  rule in ``data_tables/scripts/make_population_tables.py``;
 * orbits circular (common practice, no source), isotropic, a from Kepler's
   third law with M_star + M_planet; a planet transits when b = a cos i /
   R_star < 1 + Rp / R_star (Winn 2010 eq. 7 with e = 0), which happens with
@@ -37,7 +40,11 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   common practice, no source);
 * labels: :func:`.rules.planet_class`, the Kopparapu et al. 2014 habitable-zone
   position (:func:`snrkit.metrics.habitable_zone_position`) and
-  :func:`.rules.assign_scenario`.
+  :func:`.rules.assign_scenario`; the runaway-greenhouse limit that splits
+  the optimistic zone into its hot and cold sides is interpolated in a
+  cached 0.25 K grid of :func:`snrkit.metrics.habitable_zone_fluxes`
+  (:func:`runaway_greenhouse_flux`, within 1e-9 of the exact limit), so the
+  Kopparapu polynomials are evaluated once per block instead of twice.
 
 Names are ``<prefix>-<star_index, 9 digits>`` for hosts and the host name
 plus a letter for planets (``b``, ``c``, ... by increasing period among the
@@ -46,6 +53,7 @@ planets drawn for that star: the transiting ones by default, all of them with
 """
 
 import difflib
+from functools import lru_cache
 
 import numpy as np
 
@@ -58,7 +66,7 @@ from . import draws, model
 from .rules import assign_scenario, planet_class
 
 __all__ = ["BLOCK_STARS", "DEFAULT_OPTIONS", "generate_block", "generate_population",
-           "block_columns", "columns_to_table", "COLUMN_UNITS"]
+           "block_columns", "columns_to_table", "runaway_greenhouse_flux", "COLUMN_UNITS"]
 
 #: Stars per generation block.
 BLOCK_STARS = 4096
@@ -115,10 +123,17 @@ def _options(options):
     return o
 
 
+def _whole(value, field):
+    # the upper bound is checked on the integer: as a float, 2^63 - 1 rounds up to 2^63 and
+    # seeds just below it would be refused
+    value = parse_number(value, field, 0, 2 ** 63, integer=True)
+    if int(value) > 2 ** 63 - 1:
+        raise InputError(field, value, "a whole number in [0, 2^63 - 1]")
+    return int(value)
+
+
 def _seed(seed, index):
-    seed = parse_number(seed, "seed", 0, 2 ** 63 - 1, integer=True)
-    index = parse_number(index, "block index", 0, 2 ** 63 - 1, integer=True)
-    return seed, index
+    return _whole(seed, "seed"), _whole(index, "block index")
 
 
 def _letters(star, period, keep, counts):
@@ -184,7 +199,7 @@ def block_columns(seed, index, **options):
     s_earth = met.insolation(teff, rs_m, a_m)
     teq = met.equilibrium_temperature(teff, rs_m, a_m)
     hz = met.habitable_zone_position(s_earth, teff)
-    runaway = met.habitable_zone_fluxes(teff)["runaway_greenhouse"]
+    runaway = runaway_greenhouse_flux(teff)
     mags = model.apparent_magnitudes(teff, hosts["distance"][star])
     gstar = index * BLOCK_STARS + star
     host = np.char.add(o["name_prefix"] + "-", np.char.zfill(gstar.astype(str), 9))
@@ -208,6 +223,25 @@ def block_columns(seed, index, **options):
     }
 
 
+@lru_cache(maxsize=1)
+def _runaway_grid():
+    teff = np.arange(met.HZ_TEFF_RANGE_K[0], met.HZ_TEFF_RANGE_K[1] + 0.125, 0.25)
+    return teff, met.habitable_zone_fluxes(teff)["runaway_greenhouse"]
+
+
+def runaway_greenhouse_flux(teff_K):
+    """Runaway-greenhouse flux limit [S_earth] at Teff [K], NaN outside the fits' range.
+
+    :func:`snrkit.metrics.habitable_zone_fluxes` (Kopparapu et al. 2014)
+    interpolated linearly in a cached 0.25 K grid: the quartic's curvature
+    keeps the error below 1e-9 relative (tests/test_population_generate.py).
+    """
+    teff = np.asarray(teff_K, dtype=np.float64)
+    grid, flux = _runaway_grid()
+    inside = (teff >= grid[0]) & (teff <= grid[-1])
+    return np.where(inside, np.interp(teff, grid, flux), np.nan)
+
+
 def columns_to_table(cols, meta=None):
     """An astropy Table of generator columns, with the units of :data:`COLUMN_UNITS`."""
     from astropy.table import Table
@@ -225,7 +259,8 @@ def _meta(seed, o, blocks, n_stars):
             "blocks": blocks, "stars": int(n_stars), "block_stars": BLOCK_STARS,
             "options": {k: v for k, v in o.items()},
             "sources": "hosts: Pecaut & Mamajek 2013 sequence, Mamajek 2016 local densities; "
-                       "occurrence: Fressin et al. 2013 (FGK), Dressing & Charbonneau 2015 (M); "
+                       "occurrence: Fressin et al. 2013 filled after Hsu et al. 2019 (FGK), "
+                       "Dressing & Charbonneau 2015 (M); "
                        "masses: Chen & Kipping 2017; HZ: Kopparapu et al. 2014; classes: "
                        "Kopparapu et al. 2018"}
 
