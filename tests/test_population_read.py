@@ -40,11 +40,12 @@ def test_generated_population_reads_back(population, tmp_path, fmt):
 
 def _bad_rows(population):
     t = population[:7].copy()
-    t["planet_radius_earth"] = t["planet_radius_earth"].astype("U24")
+    t["planet_radius_earth"] = t["planet_radius_earth"].astype("U40")
     t["planet_radius_earth"][1] = "-2.0"           # negative radius
     t["planet_radius_earth"][2] = ""               # missing value
     t["planet_radius_earth"][3] = "300 K"          # a unit of the wrong dimension
-    t["planet_radius_earth"][4] = "0.2 jupiterRad"  # a unit of the right dimension
+    rjup = float(t["planet_radius_earth"][4]) * 6378.1 / 71492.0
+    t["planet_radius_earth"][4] = f"{rjup!r} jupiterRad"   # a unit of the right dimension
     t["planet_radius_earth"][5] = "big"            # not a number
     t["planet_radius_earth"].unit = None
     return t
@@ -59,8 +60,10 @@ def test_bad_rows_get_their_own_status(population, tmp_path, fmt):
                                    "bad_value", "ok"]
     assert "300 K" in out["reason"][3] and "planet_radius_earth" in out["reason"][3]
     assert "-2" in out["reason"][1]
-    # 0.2 R_jup in Earth radii with the IAU 2015 nominal radii (Prsa et al. 2016, AJ 152, 41)
-    np.testing.assert_allclose(out["planet_radius_earth"][4], 0.2 * 71492.0 / 6378.1, rtol=1e-9)
+    # R_jup / R_earth = 71492 / 6378.1 km, the IAU 2015 nominal radii (Prsa et al. 2016, AJ
+    # 152, 41)
+    np.testing.assert_allclose(out["planet_radius_earth"][4], population["planet_radius_earth"][4],
+                               rtol=1e-9)
 
 
 @pytest.mark.parametrize("fmt", FORMATS)

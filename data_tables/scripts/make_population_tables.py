@@ -19,26 +19,50 @@ Tables written
     Type in the Solar Vicinity" (figshare 3206527, 2016; Hipparcos 30 pc for
     F, RECONS 10 pc for M), read in the record's description.
 ``occurrence_fgk.ecsv``
-    Fressin et al. 2013, ApJ 766, 81: mean number of planets per star
-    (published in per cent) in 5 size classes (0.8-1.25, 1.25-2, 2-4, 4-6,
-    6-22 R_earth) x 11 period bins (0.8-418 d), with 1-sigma uncertainties.
-    The numbers were read in the transcription of the paper's occurrence
-    table in the public compilation dgarrett622/Occurrence
-    (Data/Fressin2013/eta.txt, sigma_p.txt), which calls it Table 2; the
-    published table number is not checked here (value from memory: Table 3).
-    Cells the paper leaves empty (Earths beyond 85 d, super-Earths beyond
-    145 d, small Neptunes beyond 245 d) carry rate 0 and status
-    "not_published".
+    Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), the occurrence table
+    (Table 3, table number value from memory): mean number of planets per
+    star (published in per cent) in 5 size classes (0.8-1.25, 1.25-2, 2-4,
+    4-6, 6-22 R_earth) x 11 period bins (0.8-418 d), with 1-sigma
+    uncertainties.  The cell values could not be read in the paper here
+    (the stored copies of the paper reachable from this project end before
+    its tables): they are marked "value from memory" in the table's
+    provenance.  They are checked against the sentence of the paper's
+    abstract that was read (16.5 +/- 3.6 % of FGK stars have at least one
+    planet of 0.8-1.25 R_earth with P < 85 d; tests/test_population_generate.py).
+    The cells the paper leaves empty are filled so that Sun-like hosts have
+    temperate small planets (a table without them would give none):
+
+    * Earths (0.8-1.25 R_earth) beyond 85 d and super-Earths (1.25-2 R_earth)
+      beyond 145 d (status ``filled_hsu2019``): a rate density flat in
+      ln P and ln R, Gamma = d2f / (dlnP dlnR) = 0.26, from Hsu et al. 2019,
+      AJ 158, 109 (arXiv:1902.01417), abstract (read): fewer than 0.27
+      planets per FGK star of 0.75-1.5 R_earth with P = 237-500 d (84.13th
+      percentile), the true rate possibly lower by a factor of about 2.
+      The fill takes half the upper limit, 0.135 per star over that bin,
+      Gamma = 0.135 / (ln 2 x ln(500/237)); cell rate = Gamma x ln(R1/R0) x
+      ln(P1/P0); uncertainty = the rate itself (the factor of 2 either
+      way).  The super-Earth cells extend this density from 1.5 to
+      2 R_earth (flat in ln R: common practice, no source).  The choice is
+      tested against the last published cells of the same size classes
+      and the abstract's recommended range Gamma = 0.06-0.76.
+    * small Neptunes (2-4 R_earth) at 245-418 d (status ``extended_flat``):
+      the published 145-245 d cell's rate density carried flat in ln P
+      (common practice, no source), uncertainty scaled alike.
 ``occurrence_m.ecsv``
-    Dressing & Charbonneau 2015, ApJ 807, 45, Figure 12: planets per M dwarf
-    in 7 radius bins (0.5-4 R_earth, 0.5 wide) x 5 period bins (0.5-200 d),
-    with upper 1-sigma uncertainties, read in the transcription
-    dgarrett622/Occurrence (DressingCharbonneau2015/eta.txt, sigma_p.txt; its
-    readme names Figure 12 as the source).  Cells left empty there carry rate
-    0 and status "not_published", except the interior cell 1.0-1.5 R_earth,
-    5.5-18.2 d, which the transcription leaves empty between published
-    neighbours: it is filled with the geometric mean of the cells above and
-    below in radius (status "interpolated", not a published number).
+    Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), the
+    occurrence grid in period and radius (Figure 12, figure number value
+    from memory): planets per M dwarf in 7 radius bins (0.5-4 R_earth, 0.5
+    wide) x 5 period bins (0.5-200 d), with upper 1-sigma uncertainties.
+    As for the FGK table, the cell values could not be read in the paper
+    here: "value from memory" in the provenance.  They are checked against
+    the abstract, which was read: for P < 50 d, 0.56 (+0.06 -0.05)
+    planets of 1-1.5 R_earth and 0.46 (+0.07 -0.05) of 1.5-2 R_earth per M
+    dwarf; 2.5 +/- 0.2 planets of 1-4 R_earth with P < 200 d.  Cells
+    without a value carry rate 0 and status "not_published", except the
+    interior cell 1.0-1.5 R_earth, 5.5-18.2 d, whose value is missing here
+    between neighbours that have one: it is the geometric mean of the
+    cells above and below in radius (status "interpolated", not a
+    published number).
 ``planet_classes.ecsv``
     Radius and insolation boundaries of the planet classes, after Kopparapu
     et al. 2018, ApJ 856, 122, Table 1 (value from memory): radius bins
@@ -110,13 +134,16 @@ DWARFS = [
 #: class: local number density [pc^-3] (Mamajek 2016, figshare 3206527).
 DENSITIES = {"F": 2.3e-3, "G": 4.8e-3, "K": 1.05e-2, "M": 5.92e-2}
 
+# Fressin et al. 2013, occurrence table (Table 3, value from memory); cell values value from
+# memory (not read in the paper here). "hsu" = empty in the paper, filled from Hsu et al. 2019;
+# "flat" = empty in the paper, the left neighbour's density carried flat in ln P.
 FRESSIN_RADIUS = [0.8, 1.25, 2.0, 4.0, 6.0, 22.0]
 FRESSIN_PERIOD = [0.8, 2.0, 3.4, 5.9, 10.0, 17.0, 29.0, 50.0, 85.0, 145.0, 245.0, 418.0]
-# per cent; rows = size classes (small to large), None = not published
+# per cent; rows = size classes (small to large)
 FRESSIN_RATE = [
-    [0.18, 0.61, 1.72, 2.70, 2.70, 2.93, 4.08, 3.46, None, None, None],
-    [0.17, 0.74, 1.49, 2.90, 4.30, 4.49, 5.29, 3.66, 6.54, None, None],
-    [0.035, 0.18, 0.73, 1.93, 3.67, 5.29, 6.45, 5.25, 4.31, 3.09, None],
+    [0.18, 0.61, 1.72, 2.70, 2.70, 2.93, 4.08, 3.46, "hsu", "hsu", "hsu"],
+    [0.17, 0.74, 1.49, 2.90, 4.30, 4.49, 5.29, 3.66, 6.54, "hsu", "hsu"],
+    [0.035, 0.18, 0.73, 1.93, 3.67, 5.29, 6.45, 5.25, 4.31, 3.09, "flat"],
     [0.004, 0.006, 0.11, 0.091, 0.29, 0.32, 0.49, 0.66, 0.43, 0.53, 0.24],
     [0.015, 0.067, 0.17, 0.18, 0.27, 0.23, 0.35, 0.71, 1.25, 0.94, 1.05],
 ]
@@ -128,9 +155,23 @@ FRESSIN_SIGMA = [
     [0.007, 0.018, 0.03, 0.04, 0.06, 0.06, 0.10, 0.17, 0.29, 0.28, 0.30],
 ]
 
+#: Hsu et al. 2019, AJ 158, 109, abstract (read): upper limit (84.13th percentile) on the
+#: planets per FGK star of HSU_RADIUS [R_earth] and HSU_PERIOD [d]; the true rate may be lower by
+#: a factor of about 2, and mission concepts should be robust for Gamma in HSU_GAMMA_RANGE.
+HSU_UPPER_LIMIT = 0.27
+HSU_RADIUS = (0.75, 1.5)
+HSU_PERIOD = (237.0, 500.0)
+HSU_GAMMA_RANGE = (0.06, 0.76)
+#: The fill takes half the upper limit (the abstract's factor of about 2).
+HSU_FILL_FRACTION = 0.5
+HSU_GAMMA = (HSU_FILL_FRACTION * HSU_UPPER_LIMIT
+             / (np.log(HSU_RADIUS[1] / HSU_RADIUS[0]) * np.log(HSU_PERIOD[1] / HSU_PERIOD[0])))
+
+# Dressing & Charbonneau 2015, occurrence grid (Figure 12, value from memory); cell values value
+# from memory (not read in the paper here).
 DC15_RADIUS = [0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0]
 DC15_PERIOD = [0.5, 1.7, 5.5, 18.2, 60.3, 200.0]
-# per cent; rows = radius bins; "interp" = interpolated here (see docstring)
+# per cent; rows = radius bins; None = no value; "interp" = interpolated here (docstring)
 DC15_RATE = [
     [1.920, 9.880, 23.06, 17.75, None],
     [1.830, 9.180, "interp", 23.08, 30.70],
@@ -199,17 +240,29 @@ def mix_table():
     return t
 
 
+def _cell(radius, period, rate, sigma, i, j):
+    """(rate, uncertainty, status) of cell (i, j) in per cent; see the module docstring."""
+    r, s = rate[i][j], sigma[i][j]
+    if r is None:
+        return 0.0, 0.0, "not_published"
+    if r == "interp":
+        return (float(np.sqrt(rate[i - 1][j] * rate[i + 1][j])),
+                float(np.sqrt(sigma[i - 1][j] * sigma[i + 1][j])), "interpolated")
+    if r == "hsu":
+        area = np.log(radius[i + 1] / radius[i]) * np.log(period[j + 1] / period[j])
+        fill = 100.0 * HSU_GAMMA * area
+        return fill, fill, "filled_hsu2019"
+    if r == "flat":
+        scale = np.log(period[j + 1] / period[j]) / np.log(period[j] / period[j - 1])
+        return rate[i][j - 1] * scale, sigma[i][j - 1] * scale, "extended_flat"
+    return r, s, "published"
+
+
 def _grid(radius, period, rate, sigma, source, method):
     rows = []
     for i in range(len(radius) - 1):
         for j in range(len(period) - 1):
-            r, s = rate[i][j], sigma[i][j]
-            status = "published"
-            if r is None:
-                r, s, status = 0.0, 0.0, "not_published"
-            elif r == "interp":
-                r = float(np.sqrt(rate[i - 1][j] * rate[i + 1][j]))
-                s, status = float(np.sqrt(sigma[i - 1][j] * sigma[i + 1][j])), "interpolated"
+            r, s, status = _cell(radius, period, rate, sigma, i, j)
             rows.append((radius[i], radius[i + 1], period[j], period[j + 1],
                          round(r / 100.0, 7), round(s / 100.0, 7), status))
     t = Table(rows=rows, names=("radius_min", "radius_max", "period_min", "period_max",
@@ -221,26 +274,43 @@ def _grid(radius, period, rate, sigma, source, method):
     return t
 
 
+FGK_SOURCE = (
+    "Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), occurrence by size class and period bin "
+    "(all Kepler dwarfs, mostly FGK), Table 3 (table number value from memory); every cell value "
+    "of status published is value from memory (not read in the paper here), checked against the "
+    "abstract's 16.5 +/- 3.6 % of FGK stars with a 0.8-1.25 R_earth planet within 85 d. Cells "
+    "of status filled_hsu2019: Hsu et al. 2019, AJ 158, 109 (arXiv:1902.01417), abstract (read): "
+    "< 0.27 planets per FGK star of 0.75-1.5 R_earth with P = 237-500 d (84.13th percentile), "
+    "true rate possibly lower by a factor of about 2")
+FGK_METHOD = (
+    "per cent / 100 = mean planets per star in each cell; uncertainty = the published 1-sigma. "
+    "Cells empty in Fressin et al. 2013: Earths beyond 85 d and super-Earths beyond 145 d "
+    "(filled_hsu2019) = Gamma x ln(R1/R0) x ln(P1/P0), Gamma = half the Hsu et al. 2019 upper "
+    "limit over its bin = 0.135 / (ln 2 x ln(500/237)) = 0.2609 planets per star per ln P per "
+    "ln R, flat in ln R up to 2 R_earth (common practice, no source), uncertainty = the rate; "
+    "small Neptunes at 245-418 d (extended_flat) = the 145-245 d cell's density carried flat in "
+    "ln P (common practice, no source)")
+M_SOURCE = (
+    "Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), occurrence grid by radius and "
+    "period, Figure 12 (figure number value from memory); every cell value is value from memory "
+    "(not read in the paper here), checked against the abstract (read): 0.56 planets of "
+    "1-1.5 R_earth and 0.46 of 1.5-2 R_earth per M dwarf within 50 d, 2.5 +/- 0.2 of "
+    "1-4 R_earth within 200 d")
+M_METHOD = (
+    "per cent / 100 = mean planets per star; uncertainty = the upper 1-sigma; cells without a "
+    "value are 0 (not_published); the cell 1.0-1.5 R_earth x 5.5-18.2 d, whose value is not "
+    "available here, is the geometric mean of its radius neighbours (interpolated, not "
+    "published)")
+
+
 def main():
     OUT.mkdir(exist_ok=True)
     dwarf_table().write(OUT / "dwarf_sequence.ecsv", format="ascii.ecsv", overwrite=True)
     mix_table().write(OUT / "host_mix.ecsv", format="ascii.ecsv", overwrite=True)
-    _grid(FRESSIN_RADIUS, FRESSIN_PERIOD, FRESSIN_RATE, FRESSIN_SIGMA,
-          "Fressin et al. 2013, ApJ 766, 81, occurrence by size class and period bin (all Kepler "
-          "dwarfs, mostly FGK); numbers read in the transcription dgarrett622/Occurrence "
-          "Data/Fressin2013, which names it Table 2 (published table number not checked; value "
-          "from memory: Table 3)",
-          "per cent / 100 = mean planets per star in each cell; uncertainty = the published "
-          "1-sigma; cells the paper leaves empty are 0 with status not_published").write(
-        OUT / "occurrence_fgk.ecsv", format="ascii.ecsv", overwrite=True)
-    _grid(DC15_RADIUS, DC15_PERIOD, DC15_RATE, DC15_SIGMA,
-          "Dressing & Charbonneau 2015, ApJ 807, 45, Figure 12 (planets per M dwarf by radius and "
-          "period); numbers read in the transcription dgarrett622/Occurrence "
-          "DressingCharbonneau2015/eta.txt and sigma_p.txt",
-          "per cent / 100 = mean planets per star; uncertainty = the upper 1-sigma; empty cells "
-          "are 0 (not_published); the cell 1.0-1.5 R_earth x 5.5-18.2 d, empty in the "
-          "transcription, is the geometric mean of its radius neighbours (interpolated, not "
-          "published)").write(OUT / "occurrence_m.ecsv", format="ascii.ecsv", overwrite=True)
+    _grid(FRESSIN_RADIUS, FRESSIN_PERIOD, FRESSIN_RATE, FRESSIN_SIGMA, FGK_SOURCE,
+          FGK_METHOD).write(OUT / "occurrence_fgk.ecsv", format="ascii.ecsv", overwrite=True)
+    _grid(DC15_RADIUS, DC15_PERIOD, DC15_RATE, DC15_SIGMA, M_SOURCE, M_METHOD).write(
+        OUT / "occurrence_m.ecsv", format="ascii.ecsv", overwrite=True)
     t = Table(rows=PLANET_CLASSES, names=("label", "radius_min", "radius_max",
                                           "insolation_hot_warm", "insolation_warm_cold"))
     _meta(t, "Kopparapu et al. 2018, ApJ 856, 122, Table 1 (value from memory)",

@@ -15,13 +15,22 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   planet's cell drawn with probability rate / total (this splitting of a
   Poisson process is the same as an independent Poisson number per cell);
   within a cell, period and radius log-uniform (common practice, no
-  source).  Tables: Fressin et al. 2013 (ApJ 766, 81) for F, G and K hosts,
-  Dressing & Charbonneau 2015 (ApJ 807, 45, Figure 12) for M dwarfs;
-* orbits circular (common practice, no source), cos i uniform in [0, 1]
-  (isotropic), a from Kepler's third law with M_star + M_planet; kept as
-  transiting when b = a cos i / R_star < 1 + Rp / R_star (Winn 2010 eq. 7
-  with e = 0); the transit probability is then (R_star + Rp) / a (Winn
-  2010, eq. 9);
+  source).  Tables: Fressin et al. 2013 (ApJ 766, 81, Table 3) for F, G and K
+  hosts, with the cells it leaves empty (small planets beyond 85-245 d)
+  filled after Hsu et al. 2019 (AJ 158, 109), and Dressing & Charbonneau
+  2015 (ApJ 807, 45, Figure 12) for M dwarfs; provenance and the filling
+  rule in ``data_tables/scripts/make_population_tables.py``;
+* orbits circular (common practice, no source), isotropic, a from Kepler's
+  third law with M_star + M_planet; a planet transits when b = a cos i /
+  R_star < 1 + Rp / R_star (Winn 2010 eq. 7 with e = 0), which happens with
+  probability (R_star + Rp) / a (Winn 2010, eq. 9);
+* ``transiting_only=True`` (the default) draws the transiting planets
+  directly by thinning the Poisson process (:func:`.draws.draw_transiting`:
+  exactly the same law, some 20 times fewer draws); ``transiting_only=False``
+  draws every planet (:func:`.draws.draw_all`) with cos i uniform in [0, 1]
+  and flags the transiting ones.  The two modes use different random draws:
+  for one seed they give statistically identical, not identical, transiting
+  planets;
 * masses: Chen & Kipping 2017 (ApJ 834, 17) as in
   :func:`snrkit.metrics.mass_from_radius`, times 10^(sigma z) with z
   standard normal and sigma the relation's scatter in log10 M at fixed R
@@ -31,27 +40,33 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   common practice, no source);
 * labels: :func:`.rules.planet_class`, the Kopparapu et al. 2014 habitable-zone
   position (:func:`snrkit.metrics.habitable_zone_position`) and
-  :func:`.rules.assign_scenario`.
+  :func:`.rules.assign_scenario`; the runaway-greenhouse limit that splits
+  the optimistic zone into its hot and cold sides is interpolated in a
+  cached 0.25 K grid of :func:`snrkit.metrics.habitable_zone_fluxes`
+  (:func:`runaway_greenhouse_flux`, within 1e-9 of the exact limit), so the
+  Kopparapu polynomials are evaluated once per block instead of twice.
 
 Names are ``<prefix>-<star_index, 9 digits>`` for hosts and the host name
-plus a letter (``b``, ``c``, ... by increasing period among all the planets
-drawn for that star, transiting or not) for planets.
+plus a letter for planets (``b``, ``c``, ... by increasing period among the
+planets drawn for that star: the transiting ones by default, all of them with
+``transiting_only=False``).
 """
 
 import difflib
+from functools import lru_cache
 
 import numpy as np
 
 from ... import geometry as geo
 from ... import metrics as met
-from ...constants import AU, DAY, M_EARTH, M_JUP, M_SUN, R_EARTH, R_SUN
+from ...constants import AU, DAY, M_EARTH, M_SUN, R_EARTH, R_SUN
 from ...errors import InputError, UnknownKeyError
 from ...units import parse_number
-from . import model
+from . import draws, model
 from .rules import assign_scenario, planet_class
 
 __all__ = ["BLOCK_STARS", "DEFAULT_OPTIONS", "generate_block", "generate_population",
-           "block_columns", "columns_to_table", "COLUMN_UNITS"]
+           "block_columns", "columns_to_table", "runaway_greenhouse_flux", "COLUMN_UNITS"]
 
 #: Stars per generation block.
 BLOCK_STARS = 4096
@@ -77,7 +92,6 @@ COLUMN_UNITS = {
     "insolation_earth": None, "zero_albedo_teq_K": "K", "transit_probability": None,
     "transits": None, "planet_class": None, "hz_position": None, "scenario": None,
 }
-_GIANT_MASS_JUP = (0.414, 13.0)
 
 
 def _options(options):
@@ -109,57 +123,59 @@ def _options(options):
     return o
 
 
+def _whole(value, field):
+    # the upper bound is checked on the integer: as a float, 2^63 - 1 rounds up to 2^63 and
+    # seeds just below it would be refused
+    value = parse_number(value, field, 0, 2 ** 63, integer=True)
+    if int(value) > 2 ** 63 - 1:
+        raise InputError(field, value, "a whole number in [0, 2^63 - 1]")
+    return int(value)
+
+
 def _seed(seed, index):
-    seed = parse_number(seed, "seed", 0, 2 ** 63 - 1, integer=True)
-    index = parse_number(index, "block index", 0, 2 ** 63 - 1, integer=True)
-    return seed, index
+    return _whole(seed, "seed"), _whole(index, "block index")
 
 
-def _tables():
-    cells = [model.occurrence_cells(t) for t in ("FGK", "M")]
-    return cells, np.array([c["rate"].sum() for c in cells])
-
-
-def _draw_planets(rng, hosts):
-    """Per-planet draws of one block: star, cell, period, radius, cos i, mass deviates."""
-    cells, totals = _tables()
-    table_of_star = (hosts["spectral_class"] == model.SPECTRAL_CLASSES.index("M")).astype(int)
-    counts = rng.poisson(totals[table_of_star])
-    star = np.repeat(np.arange(counts.size), counts)
-    u = rng.random((5, star.size))
-    z = rng.standard_normal(star.size)
-    tab = table_of_star[star]
-    rmin, rmax, pmin, pmax = (np.empty(star.size) for _ in range(4))
-    for t, c in enumerate(cells):
-        sel = tab == t
-        cum = np.cumsum(c["rate"])
-        k = np.minimum(np.searchsorted(cum, u[0, sel] * totals[t], side="right"), cum.size - 1)
-        rmin[sel], rmax[sel] = c["radius_min"][k], c["radius_max"][k]
-        pmin[sel], pmax[sel] = c["period_min"][k], c["period_max"][k]
-    period = np.exp(np.log(pmin) + u[1] * np.log(pmax / pmin))
-    radius = np.exp(np.log(rmin) + u[2] * np.log(rmax / rmin))
-    return star, table_of_star, period, radius, u[3], z, u[4]
-
-
-def _masses(radius_earth, z, u_giant):
-    """Planet masses [M_earth]: Chen & Kipping 2017 with scatter; giants log-uniform."""
-    m_kg, sigma = met.mass_from_radius(radius_earth * R_EARTH)
-    lo, hi = np.log10(_GIANT_MASS_JUP)
-    giant = 10.0 ** (lo + u_giant * (hi - lo)) * M_JUP
-    with np.errstate(invalid="ignore"):
-        m = np.where(np.isnan(m_kg), giant, m_kg * 10.0 ** (np.nan_to_num(sigma) * z))
-    return m / M_EARTH
-
-
-def _letters(star, period):
-    """Planet letters by increasing period within each star (``star`` sorted)."""
-    order = np.lexsort((period, star))
-    ranks = np.empty(star.size, dtype=np.int64)
-    s = star[order]
-    ranks[order] = np.arange(s.size) - np.searchsorted(s, s, side="left")
-    top = int(ranks.max()) + 1 if ranks.size else 1
+def _letters(star, period, keep, counts):
+    """Letters of the planets ``keep``: b, c, ... by increasing period among the
+    planets of their star (``star`` sorted, ``counts`` planets per star)."""
+    first = np.cumsum(counts) - counts
+    s = star[keep]
+    rank = np.zeros(keep.size, dtype=np.int64)
+    # One pass per planet slot (a star has at most a few tens of planets), over the
+    # kept planets only.
+    for j in range(int(counts.max()) if counts.size else 0):
+        other = np.minimum(first[s] + j, star.size - 1)
+        rank += (j < counts[s]) & (period[other] < period[keep])
+    top = int(rank.max()) + 1 if rank.size else 1
     lookup = np.array([chr(ord("b") + i) if i < 25 else f"p{i + 1}" for i in range(top)])
-    return lookup[ranks], order
+    return lookup[rank]
+
+
+def _every_planet(rng, hosts):
+    """All planets (draws.draw_all) with their transit flag, in star then period order."""
+    d = draws.draw_all(rng, hosts)
+    star, period = d["star"], d["period"]
+    mass = draws.masses(d["radius"], d["z"], d["u_giant"])
+    a = geo.semi_major_axis_from_period(period * DAY, hosts["mass"][star] * M_SUN + mass * M_EARTH)
+    rs = hosts["radius"][star] * R_SUN
+    b = a * d["cosi"] / rs
+    keep = np.lexsort((period, star))
+    out = {"star": star[keep], "period": period[keep], "radius": d["radius"][keep],
+           "mass": mass[keep], "a": a[keep], "b": b[keep],
+           "letters": _letters(star, period, keep, d["counts"])}
+    out["transits"] = out["b"] < 1.0 + out["radius"] * R_EARTH / (rs[keep])
+    return out
+
+
+def _transiting_planets(rng, hosts):
+    """Transiting planets only (draws.draw_transiting), in star then period order."""
+    d = draws.draw_transiting(rng, hosts)
+    keep = np.lexsort((d["period"], d["star"]))
+    out = {k: d[k][keep] for k in ("star", "period", "radius", "mass", "a", "b")}
+    out["letters"] = _letters(d["star"], d["period"], keep, d["counts"])
+    out["transits"] = np.ones(keep.size, dtype=bool)
+    return out
 
 
 def block_columns(seed, index, **options):
@@ -176,43 +192,54 @@ def block_columns(seed, index, **options):
     rng = np.random.default_rng(np.random.SeedSequence([seed, index]))
     hosts = model.draw_hosts(rng, BLOCK_STARS, model.class_fractions(o["host_mix"]),
                              o["min_distance_pc"], o["max_distance_pc"])
-    star, table_of_star, period, radius, cosi, z, u_giant = _draw_planets(rng, hosts)
-    letters, order = _letters(star, period)
-    mass = _masses(radius, z, u_giant)
-    ms = hosts["mass"][star]
-    rs = hosts["radius"][star]
-    a_m = geo.semi_major_axis_from_period(period * DAY, ms * M_SUN + mass * M_EARTH)
-    b = a_m * cosi / (rs * R_SUN)
-    k = radius * R_EARTH / (rs * R_SUN)
-    transits = b < 1.0 + k
-    keep = order[transits[order]] if o["transiting_only"] else order
-    star, period, radius, mass, a_m, b = (x[keep] for x in (star, period, radius, mass, a_m, b))
+    pl = _transiting_planets(rng, hosts) if o["transiting_only"] else _every_planet(rng, hosts)
+    star, radius, a_m = pl["star"], pl["radius"], pl["a"]
     teff = hosts["teff"][star]
     rs_m = hosts["radius"][star] * R_SUN
     s_earth = met.insolation(teff, rs_m, a_m)
     teq = met.equilibrium_temperature(teff, rs_m, a_m)
     hz = met.habitable_zone_position(s_earth, teff)
-    runaway = met.habitable_zone_fluxes(teff)["runaway_greenhouse"]
+    runaway = runaway_greenhouse_flux(teff)
+    mags = model.apparent_magnitudes(teff, hosts["distance"][star])
     gstar = index * BLOCK_STARS + star
     host = np.char.add(o["name_prefix"] + "-", np.char.zfill(gstar.astype(str), 9))
-    spectral = np.asarray(model.SPECTRAL_CLASSES)[hosts["spectral_class"][star]]
-    cols = {
-        "planet_name": np.char.add(np.char.add(host, " "), letters[keep]),
+    cls = hosts["spectral_class"][star]
+    return {
+        "planet_name": np.char.add(np.char.add(host, " "), pl["letters"]),
         "host_name": host, "star_index": gstar.astype(np.int64),
-        "host_class": np.where(table_of_star[star] == 1, "M", "FGK"),
-        "host_spectral_class": spectral,
-        "planet_radius_earth": radius, "planet_mass_earth": mass, "period_days": period,
-        "semi_major_axis_au": a_m / AU, "impact_parameter": b, "eccentricity": np.zeros(b.size),
+        "host_class": np.asarray([model.HOST_CLASS[c] for c in model.SPECTRAL_CLASSES])[cls],
+        "host_spectral_class": np.asarray(model.SPECTRAL_CLASSES)[cls],
+        "planet_radius_earth": radius, "planet_mass_earth": pl["mass"],
+        "period_days": pl["period"], "semi_major_axis_au": a_m / AU,
+        "impact_parameter": pl["b"], "eccentricity": np.zeros(star.size),
         "host_teff_K": teff, "host_radius_sun": hosts["radius"][star],
         "host_mass_sun": hosts["mass"][star],
-        **{f"host_mag_{band}": hosts[f"mag_{band}"][star] for band in ("V", "J", "H", "Ks")},
+        **{f"host_mag_{band}": mags[f"mag_{band}"] for band in ("V", "J", "H", "Ks")},
         "host_distance_pc": hosts["distance"][star], "host_ra_deg": hosts["ra"][star],
         "host_dec_deg": hosts["dec"][star], "insolation_earth": s_earth,
         "zero_albedo_teq_K": teq, "transit_probability": (rs_m + radius * R_EARTH) / a_m,
-        "transits": transits[keep], "planet_class": planet_class(radius, s_earth),
+        "transits": pl["transits"], "planet_class": planet_class(radius, s_earth),
         "hz_position": hz, "scenario": assign_scenario(radius, teq, s_earth, hz, runaway),
     }
-    return cols
+
+
+@lru_cache(maxsize=1)
+def _runaway_grid():
+    teff = np.arange(met.HZ_TEFF_RANGE_K[0], met.HZ_TEFF_RANGE_K[1] + 0.125, 0.25)
+    return teff, met.habitable_zone_fluxes(teff)["runaway_greenhouse"]
+
+
+def runaway_greenhouse_flux(teff_K):
+    """Runaway-greenhouse flux limit [S_earth] at Teff [K], NaN outside the fits' range.
+
+    :func:`snrkit.metrics.habitable_zone_fluxes` (Kopparapu et al. 2014)
+    interpolated linearly in a cached 0.25 K grid: the quartic's curvature
+    keeps the error below 1e-9 relative (tests/test_population_generate.py).
+    """
+    teff = np.asarray(teff_K, dtype=np.float64)
+    grid, flux = _runaway_grid()
+    inside = (teff >= grid[0]) & (teff <= grid[-1])
+    return np.where(inside, np.interp(teff, grid, flux), np.nan)
 
 
 def columns_to_table(cols, meta=None):
@@ -232,7 +259,8 @@ def _meta(seed, o, blocks, n_stars):
             "blocks": blocks, "stars": int(n_stars), "block_stars": BLOCK_STARS,
             "options": {k: v for k, v in o.items()},
             "sources": "hosts: Pecaut & Mamajek 2013 sequence, Mamajek 2016 local densities; "
-                       "occurrence: Fressin et al. 2013 (FGK), Dressing & Charbonneau 2015 (M); "
+                       "occurrence: Fressin et al. 2013 filled after Hsu et al. 2019 (FGK), "
+                       "Dressing & Charbonneau 2015 (M); "
                        "masses: Chen & Kipping 2017; HZ: Kopparapu et al. 2014; classes: "
                        "Kopparapu et al. 2018"}
 
@@ -249,8 +277,9 @@ def generate_block(seed, index, **options):
     **options
         ``max_distance_pc`` (default 50), ``min_distance_pc`` (1),
         ``host_mix`` (dict of class weights, default the local densities),
-        ``transiting_only`` (True; False keeps every drawn planet and its
-        ``transits`` flag), ``name_prefix`` ("Syn").
+        ``transiting_only`` (True; False draws every planet and flags the
+        transiting ones in ``transits``: see the module docstring),
+        ``name_prefix`` ("Syn").
 
     Returns
     -------

@@ -18,9 +18,13 @@ Pure numpy compute on the shipped tables of ``data_tables/population/``
   ``max_distance_pc``; apparent magnitudes m = M + 5 log10(d / 10 pc),
   no extinction (common practice for nearby stars, no source); sky
   positions uniform on the sphere;
-* occurrence: Fressin et al. 2013 (ApJ 766, 81) for F, G and K hosts,
-  Dressing & Charbonneau 2015 (ApJ 807, 45, Figure 12) for M dwarfs, as
-  mean planets per star in period-radius cells.
+* occurrence: Fressin et al. 2013 (ApJ 766, 81, Table 3) for F, G and K
+  hosts, its empty cells (Earths beyond 85 d, super-Earths beyond 145 d)
+  filled with half the Hsu et al. 2019 (AJ 158, 109) upper limit as a
+  density flat in ln P and ln R, and small Neptunes at 245-418 d carried
+  flat in ln P from 145-245 d; Dressing & Charbonneau 2015 (ApJ 807, 45,
+  Figure 12) for M dwarfs; as mean planets per star in period-radius cells
+  (each cell's ``status`` says where its value comes from).
 """
 
 from functools import lru_cache
@@ -30,7 +34,8 @@ import numpy as np
 from ...tables import read_columns
 
 __all__ = ["SPECTRAL_CLASSES", "HOST_CLASS", "CLASS_TEFF_RANGE_K", "OCCURRENCE_TABLES",
-           "class_fractions", "dwarf_properties", "occurrence_cells", "draw_hosts"]
+           "class_fractions", "dwarf_properties", "occurrence_cells", "draw_hosts",
+           "apparent_magnitudes"]
 
 #: Spectral classes of the host model, hottest first.
 SPECTRAL_CLASSES = ("F", "G", "K", "M")
@@ -131,7 +136,7 @@ def draw_hosts(rng, n, fractions, min_distance_pc, max_distance_pc):
     dict of str to numpy.ndarray
         ``spectral_class`` (index into :data:`SPECTRAL_CLASSES`), ``teff``
         [K], ``radius`` [R_sun], ``mass`` [M_sun], ``distance`` [pc],
-        ``ra``, ``dec`` [deg], ``mag_V``, ``mag_J``, ``mag_H``, ``mag_Ks``.
+        ``ra``, ``dec`` [deg] (magnitudes: :func:`apparent_magnitudes`).
     """
     u = rng.random((5, n))
     cls = np.minimum(np.searchsorted(np.cumsum(fractions), u[0], side="right"),
@@ -139,13 +144,23 @@ def draw_hosts(rng, n, fractions, min_distance_pc, max_distance_pc):
     lo = np.array([CLASS_TEFF_RANGE_K[c][0] for c in SPECTRAL_CLASSES])[cls]
     hi = np.array([CLASS_TEFF_RANGE_K[c][1] for c in SPECTRAL_CLASSES])[cls]
     teff = lo + (hi - lo) * u[1]
-    props = dwarf_properties(teff)
+    s = _sequence()
     d3 = min_distance_pc ** 3 + u[2] * (max_distance_pc ** 3 - min_distance_pc ** 3)
-    dist = np.cbrt(d3)
-    modulus = 5.0 * np.log10(dist / 10.0)
-    out = {"spectral_class": cls, "teff": teff, "radius": props["radius"], "mass": props["mass"],
-           "distance": dist, "ra": 360.0 * u[3],
-           "dec": np.degrees(np.arcsin(2.0 * u[4] - 1.0))}
-    for band in ("V", "J", "H", "Ks"):
-        out[f"mag_{band}"] = props[f"abs_mag_{band}"] + modulus
-    return out
+    return {"spectral_class": cls, "teff": teff,
+            "radius": np.interp(teff, s["teff"], s["radius"]),
+            "mass": np.interp(teff, s["teff"], s["mass"]),
+            "distance": np.cbrt(d3), "ra": 360.0 * u[3],
+            "dec": np.degrees(np.arcsin(2.0 * u[4] - 1.0))}
+
+
+def apparent_magnitudes(teff_K, distance_pc):
+    """Apparent V, J, H, Ks magnitudes m = M(Teff) + 5 log10(d / 10 pc), no extinction.
+
+    Returns
+    -------
+    dict of str to numpy.ndarray
+        ``mag_V``, ``mag_J``, ``mag_H``, ``mag_Ks``.
+    """
+    props = dwarf_properties(teff_K)
+    modulus = 5.0 * np.log10(np.asarray(distance_pc, dtype=np.float64) / 10.0)
+    return {f"mag_{b}": props[f"abs_mag_{b}"] + modulus for b in ("V", "J", "H", "Ks")}

@@ -28,7 +28,8 @@ from pathlib import Path
 import numpy as np
 import astropy.units as u
 
-from ...catalog import DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping
+from ...catalog import (DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping,
+                        _read_table)
 from ...errors import InputError
 
 __all__ = ["read_population", "screen_population", "POPULATION_FORMATS", "COLUMN_STATUS_CODES"]
@@ -44,32 +45,41 @@ _EITHER = (("star.mass", "star.log_gravity"), ("planet.period", "planet.semi_maj
 
 
 def _read(path, format):
-    from astropy.table import Table
-    from ...io.tomlfile import check_input_path
+    """The file as an astropy Table; CSV and ECSV through the catalogue's reader."""
     path = Path(path)
     fmt = POPULATION_FORMATS.get(path.suffix.lower()) if format is None else \
         {"parquet": "parquet", "csv": "ascii.csv", "ecsv": "ascii.ecsv"}.get(str(format).lower())
     if fmt is None:
         raise InputError("POPULATION", str(path) if format is None else format,
                          "a file ending in .parquet, .pq, .csv or .ecsv, or format parquet, csv, ecsv")
+    try:
+        if fmt != "parquet":
+            return _read_table(path, fmt)
+        return _read_parquet(path)
+    except InputError as exc:      # the same message, naming the population
+        raise InputError("POPULATION", exc.value, exc.allowed, detail=exc.detail) from None
+
+
+def _read_parquet(path):
+    from astropy.table import Table
+    from astropy.utils.exceptions import AstropyWarning
+    from ...io.tomlfile import check_input_path
     check_input_path(path, "POPULATION", "a population file")
     if not path.is_file():
         raise InputError("POPULATION", str(path), "an existing file")
-    if fmt == "parquet":
-        try:
-            import pyarrow.parquet  # noqa: F401  (astropy's Parquet reader needs it)
-        except ImportError:
-            raise InputError("POPULATION", str(path), "a CSV or ECSV file",
-                             detail="reading Parquet needs pyarrow: pip install pyarrow") from None
     try:
-        from astropy.utils.exceptions import AstropyWarning
-        with warnings.catch_warnings():
-            # unit strings astropy does not know are reported per column below
-            warnings.simplefilter("ignore", AstropyWarning)
-            return Table.read(str(path), format=fmt)
-    except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
-        raise InputError("POPULATION", str(path), f"a readable {fmt} table",
-                         detail=f"{type(exc).__name__}: {exc}") from None
+        import pyarrow.parquet  # noqa: F401  (astropy's Parquet reader needs it)
+    except ImportError:
+        raise InputError("POPULATION", str(path), "a CSV or ECSV file",
+                         detail="reading Parquet needs pyarrow: pip install pyarrow") from None
+    with warnings.catch_warnings():
+        # unit strings astropy does not know are reported per column by the screening
+        warnings.simplefilter("ignore", AstropyWarning)
+        try:
+            return Table.read(str(path), format="parquet")
+        except (ValueError, TypeError, KeyError, IndexError, OSError) as exc:
+            raise InputError("POPULATION", str(path), "a readable Parquet table",
+                             detail=f"{type(exc).__name__}: {exc}") from None
 
 
 def read_population(path, mapping=None, *, format=None):
@@ -155,39 +165,29 @@ def _cells(col, factor, spec):
     return vals, code, why
 
 
-def screen_population(table, mapping=None, *, source="<table>"):
-    """Screen an in-memory population Table (see :func:`read_population`).
+class _Marks:
+    """Per-row status and reason set by column problems; a row keeps the first."""
 
-    Returns
-    -------
-    astropy.table.Table
-        Every input row once, in input order: ``input_index``, the fields in
-        snrkit's default catalogue layout and default units (NaN or "" where
-        missing), the input's other columns unchanged, ``status``, ``reason``
-        and the catalogue's flag columns.  The rows with status ``ok`` read
-        back through :func:`snrkit.catalog.catalogue_from_table`.
-    """
+    def __init__(self, n):
+        self.n = n
+        self.code = np.full(n, "", dtype="<U24")
+        self.why = np.full(n, "", dtype=object)
+
+    def __call__(self, mask, code, reason):
+        new = np.broadcast_to(np.asarray(mask, dtype=bool), (self.n,)) & (self.code == "")
+        self.code[new] = code
+        self.why[new] = reason if isinstance(reason, str) else np.asarray(reason)[new]
+
+
+def _convert(table, fields, spec_map, source, mark):
+    """The mapped columns in the default layout and units; column problems marked."""
     from astropy.table import Table
-    if not isinstance(table, Table):
-        raise InputError("population", type(table).__name__, "an astropy Table")
-    spec_map = load_mapping(mapping)
-    fields = _fields(spec_map, table)
-    n = len(table)
-    code = np.full(n, "", dtype="<U24")
-    why = np.full(n, "", dtype=object)
-
-    def mark(mask, c, reason):
-        new = np.asarray(mask, dtype=bool) & (code == "")
-        code[new] = c
-        why[new] = reason if isinstance(reason, str) else reason[new]
-
-    work = Table()
-    used = set()
+    work, used = Table(), set()
     for k, v in fields.items():
         spec, col = FIELDS[k], v["column"]
         label = f"column {col!r} ({spec.label})"
         if col not in table.colnames:
-            mark(np.ones(n), "missing_column", f"{label}, named by the mapping, is not in {source}")
+            mark(True, "missing_column", f"{label}, named by the mapping, is not in {source}")
             continue
         used.add(col)
         if spec.kind == "text":
@@ -197,16 +197,16 @@ def screen_population(table, mapping=None, *, source="<table>"):
             continue
         file_unit = table[col].unit
         map_unit = None if spec_map["default"] else v["unit"]
-        if file_unit is not None and map_unit is not None and _factor(file_unit, spec) != \
-                _factor(map_unit, spec):
-            mark(np.ones(n), "wrong_unit", f"{label} has unit {file_unit} in the file but "
-                                           f"{map_unit} in the mapping")
+        if file_unit is not None and map_unit is not None and \
+                _factor(file_unit, spec) != _factor(map_unit, spec):
+            mark(True, "wrong_unit", f"{label} has unit {file_unit} in the file but {map_unit} "
+                                     "in the mapping")
             continue
         unit = map_unit if map_unit is not None else file_unit
         factor = _factor(unit, spec)
         if factor is None:
-            mark(np.ones(n), "wrong_unit", f"{label} has unit {unit}, which is not a unit of "
-                                           f"{_target(spec)}")
+            mark(True, "wrong_unit", f"{label} has unit {unit}, which is not a unit of "
+                                     f"{_target(spec)}")
             continue
         vals, c, w = _cells(table[col], factor, spec)
         for cc in ("wrong_unit", "bad_value"):
@@ -214,36 +214,60 @@ def screen_population(table, mapping=None, *, source="<table>"):
         work[spec.column] = vals + v["offset"]
         if spec.unit is not None:
             work[spec.column].unit = spec.unit
+    return work, used
+
+
+def _fill_required(work, fields, n, source, mark):
+    """Mark missing required fields and add empty columns for them, so that the
+    catalogue screening runs (its per-row statuses are then replaced by ours)."""
     for k in _REQUIRED:
-        if FIELDS[k].column not in work.colnames and k not in fields:
-            mark(np.ones(n), "missing_column",
-                 f"no column for {FIELDS[k].label} in {source} (default column "
-                 f"{FIELDS[k].column!r})")
+        if k not in fields:
+            mark(True, "missing_column", f"no column for {FIELDS[k].label} in {source} "
+                                         f"(default column {FIELDS[k].column!r})")
     for pair in _EITHER:
-        if not any(FIELDS[k].column in work.colnames or k in fields for k in pair):
-            mark(np.ones(n), "missing_column",
-                 f"no column for {FIELDS[pair[0]].label} or {FIELDS[pair[1]].label} in {source}")
+        if not any(k in fields for k in pair):
+            mark(True, "missing_column", f"no column for {FIELDS[pair[0]].label} or "
+                                         f"{FIELDS[pair[1]].label} in {source}")
     for k in _REQUIRED + tuple(p[0] for p in _EITHER):
-        name = FIELDS[k].column
-        if name not in work.colnames and not any(FIELDS[o].column in work.colnames
-                                                 for p in _EITHER if k in p for o in p):
-            work[name] = np.full(n, "" if FIELDS[k].kind == "text" else np.nan)
+        partners = [o for p in _EITHER if k in p for o in p] or [k]
+        if not any(FIELDS[o].column in work.colnames for o in partners):
+            work[FIELDS[k].column] = np.full(n, "" if FIELDS[k].kind == "text" else np.nan)
             if FIELDS[k].unit:
-                work[name].unit = FIELDS[k].unit
+                work[FIELDS[k].column].unit = FIELDS[k].unit
+
+
+def screen_population(table, mapping=None, *, source="<table>"):
+    """Screen an in-memory population Table (see :func:`read_population`).
+
+    Returns
+    -------
+    astropy.table.Table
+        Every input row once, in input order: ``input_index``, the fields in
+        snrkit's default catalogue layout and default units (NaN or "" where
+        missing), the input's other columns unchanged (renamed
+        ``<name>_input`` where a name is taken), ``status``, ``reason`` and
+        the catalogue's flag columns.  The rows with status ``ok`` read back
+        through :func:`snrkit.catalog.catalogue_from_table`.
+    """
+    from astropy.table import Table
+    if not isinstance(table, Table):
+        raise InputError("population", type(table).__name__, "an astropy Table")
+    spec_map = load_mapping(mapping)
+    fields = _fields(spec_map, table)
+    mark = _Marks(len(table))
+    work, used = _convert(table, fields, spec_map, source, mark)
+    _fill_required(work, fields, len(table), source, mark)
     cat = catalogue_from_table(work, None, source=source)
     out = Table(cat.values, copy=True)
+    taken = set(out.colnames) | {"status", "reason"} | set(FLAG_COLUMNS)
     for name in table.colnames:
-        if name not in used and name not in out.colnames:
-            out[name] = table[name]
-    status = np.where(code != "", code, np.asarray(cat.status)).astype(str)
-    reason = np.where(code != "", why, np.asarray(cat.reason, dtype=object)).astype(str)
-    for name in ("status", "reason") + FLAG_COLUMNS:
-        if name in out.colnames:
-            out.rename_column(name, name + "_input")
-    out["status"] = status
-    out["reason"] = reason
+        if name not in used:
+            out[name + "_input" if name in taken else name] = table[name]
+    own = mark.code != ""
+    out["status"] = np.where(own, mark.code, np.asarray(cat.status)).astype(str)
+    out["reason"] = np.where(own, mark.why, np.asarray(cat.reason, dtype=object)).astype(str)
     for flag in FLAG_COLUMNS:
-        out[flag] = np.where(status == "ok", np.asarray(cat.table[flag]), False)
+        out[flag] = np.where(out["status"] == "ok", np.asarray(cat.table[flag]), False)
     out.meta["source"] = source
-    out.meta["status_codes"] = {**COLUMN_STATUS_CODES}
+    out.meta["status_codes"] = dict(COLUMN_STATUS_CODES)
     return out
