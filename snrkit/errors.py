@@ -50,6 +50,11 @@ class InputError(SnrkitError, ValueError):
             msg += f" ({_short(detail, quote=False)})"
         super().__init__(" ".join(msg.split()))
 
+    def __reduce__(self):
+        # picklable with its own arguments, so that an error raised in a dask
+        # worker reaches the command line as the same one-line InputError
+        return (type(self), (self.field, self.value, self.allowed, self.detail))
+
 
 #: Longest text of a value, allowed range or detail in a message (a longer one
 #: is cut, so that an array or a nested list never floods the terminal).

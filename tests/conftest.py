@@ -19,9 +19,20 @@ def demo_run(tmp_path_factory):
     """
     import contextlib
     import io
+    import os
     from snrkit.cli import main
     out = tmp_path_factory.mktemp("demo") / "demo"
     printed, errors = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(printed), contextlib.redirect_stderr(errors):
-        rc = main(["demo", "--out", str(out)])
+    # the population yield on one generator block, in process (the cluster has its own
+    # tests in tests/test_yields_cluster.py)
+    before = os.environ.get("SNRKIT_SCHEDULER")
+    os.environ["SNRKIT_SCHEDULER"] = "in-process"
+    try:
+        with contextlib.redirect_stdout(printed), contextlib.redirect_stderr(errors):
+            rc = main(["demo", "--out", str(out), "--yield-stars", "4096"])
+    finally:
+        if before is None:
+            os.environ.pop("SNRKIT_SCHEDULER")
+        else:
+            os.environ["SNRKIT_SCHEDULER"] = before
     return {"rc": rc, "out": out, "stdout": printed.getvalue(), "stderr": errors.getvalue()}

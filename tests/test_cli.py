@@ -246,8 +246,10 @@ def test_demo_writes_a_readable_summary(demo_run):
     # run is shared with tests/test_report_browser.py (fixture in conftest.py)
     text = (demo_run["out"] / "summary.txt").read_text()
     assert demo_run["rc"] == 0 and demo_run["stdout"] == text
-    for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c"):
+    for name in ("Alder b", "Birch b", "Cedar b", "Cedar c", "demo catalogue", "plan Cedar c",
+                 "invented population", "400 h:"):
         assert name in text, name
+    assert (demo_run["out"] / "yields_by_budget.png").stat().st_size > 0
     assert "{" not in text and "}" not in text
     import re
     assert not re.search(r"(?<![0-9.])1 transits", text)      # "1 transit", not "1 transits"

@@ -20,6 +20,10 @@ __all__ = ["add_parser", "run", "demo_files", "DEFAULT_MODE", "run_demo"]
 
 #: Mode used for demo planets that name none.
 DEFAULT_MODE = "cold6m-prism-lowres"
+#: Stars of the demo's synthetic population (45 generator blocks).
+DEMO_YIELD_STARS = 45 * 4096
+#: Programme hours per planet of the demo's yield designs.
+DEMO_HOURS = (25, 50, 100, 200, 400)
 #: Gases the demo tests one by one where the scenario has them.
 DEMO_GASES = ("H2O", "CO2")
 
@@ -37,6 +41,9 @@ def add_parser(p):
                    help="run only this demo system (file stem, e.g. cedar; repeatable)")
     p.add_argument("--describe-only", action="store_true",
                    help="only describe the demo systems (no spectra, noise or stacking)")
+    p.add_argument("--yield-stars", type=int, default=DEMO_YIELD_STARS, metavar="N",
+                   help=f"stars of the invented population whose yields the demo computes "
+                        f"(default {DEMO_YIELD_STARS}, about 10^4 transiting planets)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
 
 
@@ -45,7 +52,7 @@ def _mode_of(system, i):
     return obs.get("mode", DEFAULT_MODE)
 
 
-def run_demo(out_dir, only=None, describe_only=False):
+def run_demo(out_dir, only=None, describe_only=False, yield_stars=DEMO_YIELD_STARS):
     """Run the demo chain; return (summary text, JSON-ready dict).  Writes files into ``out_dir``."""
     import json
     import tomllib
@@ -83,6 +90,7 @@ def run_demo(out_dir, only=None, describe_only=False):
     ranking, plans, windows = None, {}, None
     if not describe_only and not only:
         ranking, plans, windows = _catalogue_and_plan(files, out, summary)
+        _population_yields(out, summary, yield_stars)
     if not describe_only:
         _report(report_parts, ranking, plans, windows, out, summary)
         summary.append(f"results written to {out}/")
@@ -203,8 +211,38 @@ def _catalogue_and_plan(files, out, summary):
     return table, {p["name"]: p for p in plans}, merge_windows(windows)
 
 
+def _population_yields(out, summary, stars):
+    """Yields of an invented population for programme budgets, on a local dask cluster."""
+    import sys
+    from ..planning.yields import population_yields
+    from ..output.figures import save_figure
+    from ..output.yield_figures import plot_yields
+    res = population_yields(generate=stars, seed=1, mode=DEFAULT_MODE, resolution=20,
+                            design_texts=[f"name={h} h,hours={h}" for h in DEMO_HOURS],
+                            out_dir=out / "yields", restart=True,
+                            notify=lambda text: print(text, file=sys.stderr))
+    ds = res["dataset"]
+    save_figure(plot_yields(ds, x="hours"), out / "yields_by_budget.png")
+    total = ds["yield_mean"].sum(["planet_class", "hz_position"]).isel(scenario=0, test=0)
+    hz = [h for h in ("optimistic", "conservative") if h in ds["hz_position"].values]
+    in_hz = ds["yield_mean"].sel(hz_position=hz).sum(["planet_class", "hz_position"])
+    summary.append(f"invented population: {res['planets']} transiting planets of {stars} stars; "
+                   f"atmosphere at 5 sigma within 500 transits, each planet's own scenario, "
+                   f"{DEFAULT_MODE}, by programme hours per planet:")
+    for d in ds["design"].values:
+        summary.append(f"  {d}: {float(total.sel(design=d)):.0f} planets, "
+                       f"{float(in_hz.sel(design=d).isel(scenario=0, test=0)):.0f} of them in "
+                       f"the habitable zone")
+    status = ds["status_count"].isel(draw=0, design=0, scenario=0, test=0)
+    counts = ", ".join(f"{int(status.sel(status=s))} {s.replace('_', ' ')}"
+                       for s in ds["status"].values if s != "ok")
+    summary.append(f"  planets with another status than ok (never counted): {counts or 'none'}")
+    summary.append("")
+
+
 def run(args):
-    text, doc = run_demo(args.out, only=args.only, describe_only=args.describe_only)
+    text, doc = run_demo(args.out, only=args.only, describe_only=args.describe_only,
+                         yield_stars=args.yield_stars)
     if args.json:
         print_json(doc)
     else:

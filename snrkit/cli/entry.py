@@ -34,6 +34,7 @@ COMMANDS = {
     "rank": ("rank", "rank a catalogue of planets by the time they need"),
     "plan": ("plan", "the observing programme: transits, dated windows, hours, years"),
     "report": ("report", "one self-contained HTML report of targets and a catalogue"),
+    "yields": ("yields", "how many planets of a population each telescope design characterises"),
 }
 
 

@@ -56,15 +56,16 @@ def add_parser(p):
 class ProgressBar:
     """A one-line progress bar on stderr (only when stderr is a terminal)."""
 
-    def __init__(self, enabled):
+    def __init__(self, enabled, label="ranking", unit=""):
         self.enabled = enabled and sys.stderr.isatty()
+        self.label, self.unit = label, unit
 
     def __call__(self, done, total):
         if not self.enabled:
             return
         width = 30
         k = int(width * done / max(total, 1))
-        sys.stderr.write(f"\r  ranking [{'#' * k}{'.' * (width - k)}] {done}/{total}")
+        sys.stderr.write(f"\r  {self.label} [{'#' * k}{'.' * (width - k)}] {done}/{total}{self.unit}")
         if done >= total:
             sys.stderr.write("\n")
         sys.stderr.flush()

@@ -6,7 +6,11 @@
 * :mod:`snrkit.planning.ephemeris`, :mod:`snrkit.planning.timescales`,
   :mod:`snrkit.planning.observability`, :mod:`snrkit.planning.windows` -- the calendar
   (gathered in :mod:`snrkit.planning.calendar`);
-* :mod:`snrkit.planning.plan` -- the programme plan.
+* :mod:`snrkit.planning.plan` -- the programme plan;
+* :mod:`snrkit.planning.population` -- synthetic populations: the seeded generator and
+  the reader of population files;
+* :mod:`snrkit.planning.yields` -- yields of telescope designs over a population, in
+  chunks on a dask cluster.
 """
 
 __all__ = []

@@ -1,0 +1,18 @@
+"""Synthetic planet populations: a seeded generator in independent blocks, and a reader.
+
+* :func:`generate_block`, :func:`generate_population`, :data:`BLOCK_STARS`
+  (:mod:`.generate`): transiting planets of a documented local-volume model
+  with published occurrence rates;
+* :func:`read_population` (:mod:`.reader`): Parquet, CSV or ECSV populations
+  through the catalogue column mappings, every row kept with a status;
+* :mod:`.model` (hosts, occurrence tables) and :mod:`.rules` (planet class,
+  scenario).
+"""
+
+from .generate import (BLOCK_STARS, COLUMN_UNITS, DEFAULT_OPTIONS, generate_block,
+                       generate_population)
+from .reader import read_population
+from .rules import PLANET_CLASS_LABELS, SCENARIO_RULES
+
+__all__ = ["BLOCK_STARS", "COLUMN_UNITS", "DEFAULT_OPTIONS", "generate_block",
+           "generate_population", "read_population", "PLANET_CLASS_LABELS", "SCENARIO_RULES"]
