@@ -60,7 +60,7 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
         overhead_hours = common_observation(system, "overhead", None)
     res = transits_for_system(system, mode, scenario, test=test, sigma=sigma, n_max=n_max,
                               resolution=resolution, probabilities=(),
-                              overhead_hours=overhead_hours)
+                              overhead_hours=overhead_hours, dataset=False)
     t0 = cal.parse_date(start, "start")
     kw = {} if padding_sigma is None else {"padding_sigma": float(padding_sigma)}
     with cal.offline_time():
