@@ -41,6 +41,14 @@ def test_one_dof_is_the_folded_ncx2():
         49.0, 0.9), 1) == pytest.approx(0.9, rel=1e-12)
 
 
+def test_far_tail_does_not_overflow():
+    # A tiny non-averaging floor gives an asymptotic Delta chi^2 near 1e197: the tail
+    # expansion (Abramowitz & Stegun 1964, 6.5.32) must not square it (found by the
+    # property test below); Z then follows sqrt(Delta chi^2) to leading order.
+    z = probability.significance_from_delta_chi2(7.9e196, 39)
+    assert np.isfinite(z) and z == pytest.approx(np.sqrt(7.9e196), rel=1e-3)
+
+
 def test_edges_and_refusals():
     got = probability.significance_at_probability([0.0, 0.5, np.inf], 0.9, [1, 1, 5])
     assert got[0] == 0.0 and got[1] == 0.0 and got[2] == np.inf     # sqrt(0.5) < 1.28
@@ -52,10 +60,10 @@ def feature(amp, centre=4.3, width=0.15):
     return amp * np.exp(-0.5 * ((WL - centre) / width) ** 2)
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=25, deadline=None)
 @given(amp=st.floats(min_value=5.0, max_value=500.0), sig=st.floats(min_value=1.0, max_value=200.0),
        floor_share=st.floats(min_value=0.0, max_value=1.0), averages=st.booleans(),
-       gof=st.booleans(), n_max=st.integers(min_value=2, max_value=80))
+       gof=st.booleans(), n_max=st.integers(min_value=2, max_value=30))
 def test_curves_order_rise_and_meet_the_search(amp, sig, floor_share, averages, gof, n_max):
     # The 90 % curve never lies above the 50 % curve; both rise (never fall) with N; the
     # 50 % curve is the expected (median) curve; and the first N at which the P curve

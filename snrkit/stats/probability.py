@@ -56,7 +56,7 @@ def _chi2_logsf(x, dof):
     s, y = dof / 2.0, np.maximum(x / 2.0, 1e-300)
     with np.errstate(divide="ignore", invalid="ignore"):
         tail = ((s - 1) * np.log(y) - y - gammaln(s)
-                + np.log1p((s - 1) / y + (s - 1) * (s - 2) / y ** 2))
+                + np.log1p((s - 1) / y + ((s - 1) / y) * ((s - 2) / y)))   # no y**2: overflows past 1e154
         direct = np.log(np.where(sf > 0, sf, 1.0))
     return np.where(sf > 1e-300, direct, tail)
 
