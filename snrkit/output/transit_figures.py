@@ -225,8 +225,9 @@ def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
                     label=f"simulated, {n_show} transit{'s' if n_show != 1 else ''}")
     wavelength_axis(ax, edges[0], edges[-1])
     ax.set_ylabel("transit depth [ppm]")
-    test = str(rec["test"]).partition(":")[2] or str(rec["test"])    # "species:H2O" -> "H2O"
-    ax.set_title(f"{rec['name']}, {test} test: {rec['mode']}", fontsize=9)
+    kind, _, arg = str(rec["test"]).partition(":")      # "species:H2O", "against:B"
+    test = {"species": f"{arg} test", "against": f"test against {arg}"}.get(kind, f"{kind} test")
+    ax.set_title(f"{rec['name']}, {test}: {rec['mode']}", fontsize=9)
     legend_below(ax, ncol=4)
     return fig
 
