@@ -224,6 +224,8 @@ def _flat_items(doc, prefix=""):
 
 
 def _value_text(value):
+    if isinstance(value, bool):                 # as the TOML file writes it
+        return "true" if value else "false"
     if isinstance(value, dict) and {"wavelength_um", "value"} <= set(value):
         return "; ".join(f"{w:g} µm: {x:g}" for w, x in zip(value["wavelength_um"], value["value"]))
     if isinstance(value, dict):
