@@ -166,6 +166,35 @@ def test_legends_sit_outside_the_data(result, windows, precision):
         assert not legend.get_window_extent(r).overlaps(ax.get_window_extent(r))
 
 
+def test_significance_shows_the_curves_reached_with_50_and_90_percent(result):
+    # The drawn lines are the result Dataset's own curves (the figure computes nothing);
+    # their values are checked against scipy.stats.ncx2 in tests/test_significance_reached.py.
+    from snrkit.output.transit_figures import plot_significance
+    ds = result["dataset"]
+    ax = plot_significance(result).axes[0]
+    lines = {ln.get_label(): ln for ln in ax.get_lines()}
+    for k, chance in enumerate(ds["chance"].values):
+        label = next(lab for lab in lines if lab.startswith(f"reached with {chance:.0%}".replace("%", " %")))
+        np.testing.assert_array_equal(lines[label].get_ydata(),
+                                      ds["significance_reached"].values[0, k])
+    assert [round(c, 6) for c in ds["chance"].values] == [0.5, 0.9]
+    z50, z90 = ds["significance_reached"].values[0]
+    assert np.all(z90 <= z50) and np.any(z90 < z50)
+    np.testing.assert_allclose(z50, ds["significance"].values[0], rtol=1e-12)
+
+
+def test_gas_test_spectrum_draws_the_scenario_without_the_gas(cedar):
+    from snrkit.engine.transits import transits_for_system
+    from snrkit.output.transit_figures import plot_simulated_spectrum
+    gas = transits_for_system(cedar.take([0]), MODE, species="H2O", uncertainty_draws=0)
+    ax = plot_simulated_spectrum(gas).axes[0]
+    lines = {ln.get_label(): ln for ln in ax.get_lines()}
+    null = lines[f"null: {gas['planets'][0]['null_model']}"]
+    ok = np.isfinite(gas["dataset"]["white_noise_ppm_per_transit"].values[0])
+    np.testing.assert_array_equal(null.get_ydata()[ok], gas["dataset"]["null_ppm"].values[0][ok])
+    assert "H2O" in gas["planets"][0]["null_model"]
+
+
 def test_scenario_names_in_legends(result):
     from snrkit.output.transit_figures import plot_simulated_spectrum
     ax = plot_simulated_spectrum(result).axes[0]

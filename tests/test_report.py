@@ -16,7 +16,8 @@ from snrkit.io.tables import data_path
 
 def _doc(**extra):
     doc = {"title": "t", "version": "0", "command_line": "snrkit report x", "created_utc": "now",
-           "planets": [], "catalogue": None, "provenance": [], "caution": "careful"}
+           "planets": [], "catalogue": None, "provenance": [], "presets": [],
+           "caution": "careful"}
     doc.update(extra)
     return doc
 
@@ -75,3 +76,29 @@ def test_report_command_refuses_bad_input(argv, field, tmp_path, monkeypatch, ca
     assert main(["report", *argv]) == 2
     err = capsys.readouterr().err
     assert err.startswith(f"error: {field}") and len(err.strip().splitlines()) == 1
+
+
+def test_presets_listed_with_their_parameters_and_sources():
+    # The report lists every parameter of a preset it used with the source the preset
+    # file gives for it (the reference is the shipped file itself, read here directly).
+    import tomllib
+    from snrkit.output.report import render_report
+    from snrkit.output.report_data import preset_provenance
+    mode, scen = "cold6m-prism-lowres", "h2-clear-solar"
+    listed = preset_provenance([scen, f"{scen} (modified)", "my-own"], [mode])
+    assert [(p["kind"], p["name"]) for p in listed] == [("scenario", scen), ("scenario", "my-own"),
+                                                        ("mode", mode)]
+    raw = tomllib.loads(data_path("instruments", f"{mode}.toml").read_text())
+    rows = {r["parameter"]: r for r in listed[2]["parameters"]}
+    for key, src in raw["sources"].items():
+        section, name = key.split(".")
+        assert rows[key]["source"] == src and raw[section][name] is not None
+    assert rows["detector.read_noise_electrons"]["value"] == str(raw["detector"]["read_noise_electrons"])
+    sc_raw = tomllib.loads(data_path("scenarios", f"{scen}.toml").read_text())
+    mix = next(r for r in listed[0]["parameters"] if r["parameter"] == "mixing_ratios")
+    assert all(f"{gas} {x:g}" in mix["value"] for gas, x in sc_raw["mixing_ratios"].items())
+    assert sc_raw["provenance"]["source_H2O"] in mix["source"]
+    assert f"source: {sc_raw['provenance']['source']}" in listed[0]["notes"]
+    assert listed[1]["file"] is None and listed[1]["parameters"] == []
+    html = render_report(_doc(presets=listed), {"_all": {}})
+    assert "detector.read_noise_electrons" in html and "snrkit presets --show h2-clear-solar" in html

@@ -77,8 +77,16 @@ def test_every_image_decoded_no_console_errors_no_network(page_view, demo_run):
     out = demo_run["out"]
     doc = json.loads((out / "report.json").read_text())
     images = page_view["images"]
-    # per planet: spectrum, significance, noise budget; then the timeline and the ranking
-    assert len(images) == 3 * len(doc["planets"]) + 2
+    # per planet its noise budget, and per test (atmosphere, each gas) a spectrum and a
+    # significance figure; then the timeline and the ranking
+    n_tests = sum(len(p["tests"]) for p in doc["planets"])
+    assert n_tests > len(doc["planets"])                    # the demo tests gases too
+    assert len(images) == len(doc["planets"]) + 2 * n_tests + 2
+    alts = [alt for alt, _, _ in images]
+    for p in doc["planets"]:
+        for t in p["tests"]:
+            label = "atmosphere" if t["test"] == "atmosphere" else t["test"].split(":")[1]
+            assert f"significance of {p['name']}, {label} test" in alts
     assert all(complete and width > 0 for _, complete, width in images), images
     assert page_view["console_errors"] == [] and page_view["page_errors"] == []
     # the page is self-contained: the only request is the page itself (images are data URIs)
@@ -141,3 +149,18 @@ def test_demo_prints_the_report_path(demo_run):
     assert f"report: {out / 'report.html'}" in demo_run["stdout"].splitlines()
     html = (out / "report.html").read_text()
     assert "http://" not in html and "https://" not in html     # nothing to fetch
+
+
+def test_presets_used_are_listed_with_the_demo_overrides(demo_run):
+    # Every scenario and mode the demo's tests used is listed with its parameters, and
+    # Cedar c's change to its preset (cedar.toml: cloud_top_pressure = 0.6) beside it.
+    doc = json.loads((demo_run["out"] / "report.json").read_text())
+    listed = {(p["kind"], p["name"]): p for p in doc["presets"]}
+    for planet in doc["planets"]:
+        for t in planet["tests"]:
+            assert ("mode", t["mode"]) in listed
+            assert ("scenario", t["scenario"].removesuffix(" (modified)")) in listed
+    assert all(p["parameters"] for p in listed.values())
+    over = listed[("scenario", "n2-o2-temperate")]["overrides"]
+    assert over == [{"planet": "Cedar c", "source": "cedar.toml", "parameter": "cloud_top_pressure",
+                     "value": "0.6"}]

@@ -265,14 +265,13 @@ def test_contrast_cli(capsys):
     assert rc == 0 and json.loads(capsys.readouterr().out)["planets"][0]["transits_needed"][0][1]
 
 
-def test_demo_writes_results_folder(tmp_path, capsys):
-    rc = main(["demo", "--only", "cedar", "--out", str(tmp_path / "res")])
-    out, _ = capsys.readouterr()
-    assert rc == 0
-    files = {p.name for p in (tmp_path / "res").iterdir()}
+def test_demo_writes_results_folder(demo_run):
+    # the session's one `snrkit demo` run (tests/conftest.py), not a second one
+    assert demo_run["rc"] == 0
+    files = {p.name for p in demo_run["out"].iterdir()}
     assert {"summary.txt", "cedar_spectra.ecsv", "Cedar_b_CO2.png", "Cedar_c_atmosphere.json",
             "report.html", "report.json"} <= files
-    assert "transits for 5 sigma" in (tmp_path / "res" / "summary.txt").read_text()
+    assert "transits for 5 sigma" in (demo_run["out"] / "summary.txt").read_text()
     assert not any(name.startswith(".") for name in files)   # no temporary files left
 
 

@@ -289,6 +289,9 @@ def result_dataset(ctx, planets):
     floor = np.broadcast_to(obs["floor"], usable.shape)
     white = used["white"]
     null = models.null
+    chances = sorted(res["curve_significance_at_probability"])
+    reached = np.stack([res["curve_significance_at_probability"][p] for p in chances], axis=-2) \
+        if chances else np.zeros(usable.shape[:-1] + (0, len(res["curve_transits"])))
     return xr.Dataset(
         {
             "model_ppm": (("planet", "wavelength"), models.data,
@@ -304,7 +307,12 @@ def result_dataset(ctx, planets):
                           {"units": "ppm", "long_name": "floor per bin (quoted at the mode's "
                            "reference resolving power, white in wavelength)"}),
             "significance": (("planet", "transits"), res["curve_significance"], {"units": "sigma"}),
-            "probability": (("planet", "transits"), res["curve_probability"]),
+            "probability": (("planet", "transits"), res["curve_probability"],
+                            {"long_name": "probability of reaching the target significance"}),
+            "significance_reached": (("planet", "chance", "transits"), reached,
+                                     {"units": "sigma", "long_name": "significance reached or "
+                                      "exceeded with the probability `chance` (noncentral chi^2 "
+                                      "quantile; 0.5: the expected curve)"}),
             "transits_needed": ("planet", np.array([p["transits_needed"] or 0 for p in planets])),
             "groups_per_integration": ("planet", np.asarray(used["groups"])),
             "observed_depth_ppm": ("planet", np.asarray(ctx["truth_ds"]["observed_depth_ppm"]),
@@ -314,7 +322,9 @@ def result_dataset(ctx, planets):
         coords={"planet": names, "wavelength": ("wavelength", obs["wl"], {"units": "um"}),
                 "wavelength_lower": ("wavelength", edges_um[:-1], {"units": "um"}),
                 "wavelength_upper": ("wavelength", edges_um[1:], {"units": "um"}),
-                "transits": res["curve_transits"]},
+                "transits": res["curve_transits"],
+                "chance": ("chance", np.asarray(chances, dtype=np.float64),
+                           {"long_name": "probability that a real data set reaches the curve"})},
         attrs={"scenario": ctx["sc"].name, "test": planets[0]["test"] if planets else ctx["kind"],
                "null_model": ctx["label"], "target_sigma": ctx["sigma"],
                "floor_averages_down": int(obs["floor_averages"]),

@@ -115,7 +115,7 @@ def report_document(entries, ranking=None, command_line="", title="snrkit progra
     """
     import datetime
     from .._version import __version__
-    from .report_data import table_provenance
+    from .report_data import preset_provenance, table_provenance
     planets = []
     for e in entries:
         budget = e["_budget"]
@@ -127,12 +127,28 @@ def report_document(entries, ranking=None, command_line="", title="snrkit progra
             "floor_ppm": float(budget.attrs["floor_ppm"]),
             "floor_averages_down": bool(budget.attrs.get("floor_averages_down", False)),
         })
+    tests = [t for e in entries for t in e["tests"]]
+    cat = {} if ranking is None else ranking.meta
+    presets = preset_provenance([t["scenario"] for t in tests] + list(cat.get("scenarios", [])),
+                                [t["mode"] for t in tests] + list(cat.get("modes", [])))
+    _add_overrides(presets, entries)
     doc = {"title": title, "version": __version__, "command_line": command_line,
            "created_utc": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
            "planets": planets,
            "catalogue": None if ranking is None else _catalogue_part(ranking, top),
-           "provenance": table_provenance(), "caution": CAUTION}
+           "provenance": table_provenance(), "presets": presets, "caution": CAUTION}
     return _plain(doc)
+
+
+def _add_overrides(presets, entries):
+    """Each scenario preset's ``overrides``: the values a system file changed, per planet."""
+    from .report_data import MODIFIED
+    for ps in presets:
+        ps["overrides"] = [
+            {"planet": e["name"], "source": e["source"], "parameter": k, "value": str(v)}
+            for e in entries if ps["kind"] == "scenario"
+            and e["tests"][0]["scenario"].removesuffix(MODIFIED) == ps["name"]
+            for k, v in e.get("scenario_overrides", {}).items()]
 
 
 def _plain(x):
@@ -160,16 +176,26 @@ def figure_uri(fig, dpi=90):
 
 
 def report_figures(entries, ranking=None, timeline=None, seed=1):
-    """Every figure of the report as data URIs: ``{planet name: {kind: uri}}`` and ``_all``."""
+    """Every figure of the report as data URIs.
+
+    Returns
+    -------
+    dict
+        ``{planet name: {"noise": uri, "tests": [{"spectrum": uri,
+        "significance": uri}, ...]}}``, one item of ``tests`` per test of the
+        planet in the order of its records (the atmosphere test first, then
+        each gas, whose spectrum shows the scenario without the gas as the
+        null), and ``_all`` (``timeline``, ``ranking``).
+    """
     from .figures import plot_noise_budget, plot_ranking, plot_timeline
     from .transit_figures import plot_significance, plot_simulated_spectrum
     out = {}
     for e in entries:
-        res = e["_results"][0]
         out[e["name"]] = {
-            "spectrum": figure_uri(plot_simulated_spectrum(res, 0, seed=seed)),
-            "significance": figure_uri(plot_significance(res, 0)),
             "noise": figure_uri(plot_noise_budget(e["_budget"], 0)),
+            "tests": [{"spectrum": figure_uri(plot_simulated_spectrum(res, 0, seed=seed)),
+                       "significance": figure_uri(plot_significance(res, 0))}
+                      for res in e["_results"]],
         }
     out["_all"] = {}
     if timeline is not None:

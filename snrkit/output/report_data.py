@@ -8,8 +8,8 @@ The report computes nothing itself: each number comes from a public function
 report holds exactly the numbers the page prints.
 """
 
-__all__ = ["planet_entry", "gather_targets", "gather_catalogue", "table_provenance", "chosen_windows",
-           "merge_windows",
+__all__ = ["planet_entry", "gather_targets", "gather_catalogue", "table_provenance",
+           "preset_provenance", "chosen_windows", "merge_windows",
            "DEFAULT_MODE", "DEFAULT_SCENARIO"]
 
 #: Mode of planets whose system file names none (the demo's default).
@@ -42,7 +42,8 @@ def planet_entry(system, index, source, results, plan=None, budget=None):
     -------
     dict
         ``name``, ``source``, ``inputs`` (star and planet, from
-        :func:`snrkit.describe.describe_system`), ``tests`` (the per-planet
+        :func:`snrkit.describe.describe_system`), ``scenario_overrides`` (the
+        values the system file changes in its scenario preset), ``tests`` (the per-planet
         records), ``plan``, and, not for JSON, ``_results`` and ``_budget``.
     """
     from ..bodies.describe import describe_system
@@ -55,7 +56,11 @@ def planet_entry(system, index, source, results, plan=None, budget=None):
         budget = system_precision(one, first["mode"], readout=int(first["groups_per_integration"]),
                                   n_transits=int(first["transits_needed"] or 1), warn=False,
                                   resolution=DEFAULT_RESOLUTION)
+    atm = system.atmospheres[index]
+    overrides = ({str(k): v for k, v in atm.items() if k != "scenario"}
+                 if isinstance(atm, dict) and "scenario" in atm else {})
     return {"name": first["name"], "source": source, "inputs": desc,
+            "scenario_overrides": overrides,
             "tests": [r["planets"][0] for r in results], "plan": plan,
             "noise_budget_ppm": _median_budget(budget),
             "_results": results, "_budget": budget}
@@ -199,3 +204,93 @@ def _text(value):
     if isinstance(value, (list, tuple)):
         return "; ".join(map(str, value))
     return str(value)
+
+
+#: Suffix of a preset's name once an input file changed some of its values
+#: (:mod:`snrkit.atmosphere.scenario_files`).
+MODIFIED = " (modified)"
+#: Preset folders of the data tables by kind, and the table of each file that holds its sources.
+_PRESET_KINDS = (("scenario", "scenarios", "provenance"), ("mode", "instruments", "sources"))
+
+
+def _flat_items(doc, prefix=""):
+    """``(dotted key, value)`` of a TOML document's parameters, depth first (tables of values kept whole)."""
+    for k, v in doc.items():
+        key = f"{prefix}{k}"
+        if isinstance(v, dict) and not {"wavelength_um", "value"} <= set(v) and key != "mixing_ratios":
+            yield from _flat_items(v, key + ".")
+        else:
+            yield key, v
+
+
+def _value_text(value):
+    if isinstance(value, bool):                 # as the TOML file writes it
+        return "true" if value else "false"
+    if isinstance(value, dict) and {"wavelength_um", "value"} <= set(value):
+        return "; ".join(f"{w:g} µm: {x:g}" for w, x in zip(value["wavelength_um"], value["value"]))
+    if isinstance(value, dict):
+        return ", ".join(f"{k} {v:g}" if isinstance(v, (int, float)) else f"{k} {v}"
+                         for k, v in value.items())
+    return str(value)
+
+
+def _preset_rows(doc, sources_key):
+    """Parameters of one preset file, each with its own source entry ("" where the file gives none).
+
+    Mixing ratios take the ``source_GAS`` entries, gases of one source named together.
+    """
+    sources = doc.get(sources_key, {})
+    rows = []
+    for key, value in _flat_items({k: v for k, v in doc.items()
+                                   if k not in ("name", "description", sources_key)}):
+        if key == "mixing_ratios":
+            by_source = {}
+            for gas in list(value) + [doc.get("fill_gas")]:
+                if f"source_{gas}" in sources:
+                    by_source.setdefault(_text(sources[f"source_{gas}"]), []).append(gas)
+            src = "; ".join(f"{', '.join(g)}: {text}" for text, g in by_source.items())
+        else:
+            src = _text(sources.get(key, ""))
+        rows.append({"parameter": key, "value": _value_text(value), "source": src})
+    return rows
+
+
+def preset_provenance(scenarios=(), modes=()):
+    """The shipped presets a report used: parameters, values and sources (what ``snrkit presets --show`` prints).
+
+    Parameters
+    ----------
+    scenarios, modes : iterable of str
+        Names used; ``NAME (modified)`` lists the preset NAME; a name
+        without a shipped file (a scenario defined in a system file) is
+        listed as such, without parameters.
+
+    Returns
+    -------
+    list of dict
+        ``kind``, ``name``, ``description``, ``file`` (path inside the data
+        tables, or None), ``parameters`` (``parameter``, ``value``,
+        ``source``), ``notes`` (the file's other provenance entries:
+        its general source, method, units, date, script) and ``overrides``
+        (empty here; :func:`snrkit.output.report.report_document` adds the
+        values input files changed).
+    """
+    from ..io.tables import data_path
+    from ..io.tomlfile import read_toml
+    out = []
+    for (kind, folder, sources_key), names in zip(_PRESET_KINDS, (scenarios, modes)):
+        # a preset changed by an input file is named "NAME (modified)": list NAME
+        for name in dict.fromkeys(str(n).removesuffix(MODIFIED) for n in names):
+            path = data_path(folder, f"{name}.toml")
+            if not path.is_file():
+                out.append({"kind": kind, "name": name, "description": "not a shipped preset "
+                            "(defined in the input file)", "file": None, "parameters": [], "notes": [],
+                            "overrides": []})
+                continue
+            doc = read_toml(path, f"{kind} preset")
+            notes = [f"{k}: {_text(v)}" for k, v in doc.get(sources_key, {}).items()
+                     if not k.startswith("source_") and "." not in k]
+            out.append({"kind": kind, "name": name, "description": str(doc.get("description", "")),
+                        "file": f"{folder}/{name}.toml", "parameters": _preset_rows(doc, sources_key),
+                        "notes": notes, "overrides": []})
+    return out

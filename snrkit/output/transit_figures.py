@@ -96,13 +96,31 @@ def _mark_bands(ax, species, lo, hi):
                                                  alpha=0.8))
 
 
+#: Line styles of the significance reached with a given probability.
+_REACHED_STYLES = {0.5: ((0, (4, 3)), 1.6), 0.9: ("-.", 1.1)}
+
+
+def _reached_curves(ax, ds, planet, ntr):
+    """The significance reached with each probability of the Dataset (dashed over the median)."""
+    if "significance_reached" not in ds:
+        return
+    for chance, curve in zip(ds["chance"].values, ds["significance_reached"].values[planet]):
+        ls, lw = _REACHED_STYLES.get(round(float(chance), 6), (":", 1.0))
+        extra = " (the median)" if chance == 0.5 else ""
+        ax.plot(ntr, curve, color="C9" if chance == 0.5 else "C4", ls=ls, lw=lw,
+                label=f"reached with {chance:.0%} probability{extra}".replace("%", " %"))
+
+
 def plot_significance(result, planet=0, ax=None):
     """Expected significance against transits, with the probability of a detection.
 
     The left axis is the significance of the noise-free data (the median
-    outcome); the right axis the probability that a real data set reaches the
-    target, with the transits needed for 50 % and 90 % marked (both from the
-    result, :func:`snrkit.stats.detect` noncentral chi^2).
+    outcome) and the significance a real data set reaches with 50 % and with
+    90 % probability (the result's ``significance_reached``, noncentral
+    chi^2 quantiles; the 50 % curve is the median one); the right axis the
+    probability that a real data set reaches the target, with the transits
+    needed for 50 % and 90 % marked (all from the result,
+    :mod:`snrkit.stats.probability`).
 
     Parameters
     ----------
@@ -119,6 +137,7 @@ def plot_significance(result, planet=0, ax=None):
     ds, rec = result["dataset"], result["planets"][planet]
     ntr = ds["transits"].values
     ax.plot(ntr, ds["significance"].values[planet], color="C0", label="expected significance")
+    _reached_curves(ax, ds, planet, ntr)
     ax.axhline(rec["target_sigma"], color="C3", ls="--", lw=1.0, label=f"target {rec['target_sigma']:g} σ")
     if rec["transits_needed"]:
         ax.axvline(rec["transits_needed"], color="C0", ls=":", lw=1.0,
@@ -206,7 +225,9 @@ def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
                     label=f"simulated, {n_show} transit{'s' if n_show != 1 else ''}")
     wavelength_axis(ax, edges[0], edges[-1])
     ax.set_ylabel("transit depth [ppm]")
-    ax.set_title(f"{rec['name']}: {rec['mode']}", fontsize=9)
+    kind, _, arg = str(rec["test"]).partition(":")      # "species:H2O", "against:B"
+    test = {"species": f"{arg} test", "against": f"test against {arg}"}.get(kind, f"{kind} test")
+    ax.set_title(f"{rec['name']}, {test}: {rec['mode']}", fontsize=9)
     legend_below(ax, ncol=4)
     return fig
 

@@ -16,7 +16,8 @@ from ..errors import InputError
 
 __all__ = ["check_sigma", "check_probability", "significance_from_delta_chi2",
            "critical_delta_chi2", "delta_chi2_for_significance", "expected_statistic",
-           "detection_probability", "noncentrality_for_probability"]
+           "detection_probability", "noncentrality_for_probability",
+           "significance_at_probability"]
 
 
 def check_sigma(sigma, field="sigma"):
@@ -55,7 +56,7 @@ def _chi2_logsf(x, dof):
     s, y = dof / 2.0, np.maximum(x / 2.0, 1e-300)
     with np.errstate(divide="ignore", invalid="ignore"):
         tail = ((s - 1) * np.log(y) - y - gammaln(s)
-                + np.log1p((s - 1) / y + (s - 1) * (s - 2) / y ** 2))
+                + np.log1p((s - 1) / y + ((s - 1) / y) * ((s - 2) / y)))   # no y**2: overflows past 1e154
         direct = np.log(np.where(sf > 0, sf, 1.0))
     return np.where(sf > 1e-300, direct, tail)
 
@@ -234,3 +235,49 @@ def noncentrality_for_probability(probability, sigma, dof=1):
         The noncentrality lambda (dimensionless Delta chi^2).
     """
     return _per_distinct(_noncentrality_one, probability, sigma, dof)
+
+
+def significance_at_probability(noncentrality, probability, dof=1):
+    """Significance reached or exceeded with ``probability`` when the Asimov statistic is lambda.
+
+    The quantile of the measured significance: a real data set reaches at
+    least this Z with the given probability.  One degree of freedom (q0): the
+    fitted amplitude is Gaussian about sqrt(lambda) with unit width, so
+    Z_P = sqrt(lambda) - Phi^-1(P), 0 where that is negative (C11, Sec. 3.5;
+    the inverse of :func:`detection_probability`).  More degrees of freedom:
+    the statistic is noncentral chi^2 (Johnson, Kotz & Balakrishnan 1995,
+    *Continuous Univariate Distributions* vol. 2, ch. 29), its lower
+    1 - P quantile (scipy.special.chndtrix) turned into Z by
+    :func:`significance_from_delta_chi2`.  At P = 1/2 the median of
+    :func:`expected_statistic` is used, so that the 50 % curve is the expected
+    (median) curve itself.
+
+    Parameters
+    ----------
+    noncentrality : array_like
+        Asimov Delta chi^2 lambda (dimensionless); inf gives inf.
+    probability : float
+        Probability P in (0, 1).
+    dof : array_like
+        Degrees of freedom (broadcasts against ``noncentrality``).
+
+    Returns
+    -------
+    numpy.ndarray
+        Z_P [sigma], never above the median significance for P >= 1/2.
+    """
+    from scipy import special
+    p = check_probability(probability)
+    lam = np.clip(np.asarray(noncentrality, dtype=np.float64), 0.0, None)
+    dof = np.broadcast_to(np.asarray(dof, dtype=np.float64), lam.shape)
+    finite = np.where(np.isinf(lam), 0.0, lam)
+    one = np.clip(np.sqrt(finite) - special.ndtri(p), 0.0, None)
+    if np.all(dof == 1):
+        z = one
+    elif p == 0.5:
+        z = significance_from_delta_chi2(expected_statistic(finite, dof), dof)
+    else:
+        with np.errstate(invalid="ignore"):
+            q = special.chndtrix(1.0 - p, np.maximum(dof, 1.0), np.clip(finite, 1e-12, None))
+        z = np.where(dof == 1, one, significance_from_delta_chi2(q, dof))
+    return np.where(np.isinf(lam), np.inf, np.where(lam > 0, z, 0.0))

@@ -12,7 +12,8 @@ import numpy as np
 
 from ..errors import InputError
 from .probability import (check_probability, check_sigma, detection_probability, expected_statistic,
-                          noncentrality_for_probability, significance_from_delta_chi2)
+                          noncentrality_for_probability, significance_at_probability,
+                          significance_from_delta_chi2)
 from .likelihood import nested_delta_chi2
 from .search import _asymptote, _linear_transits_needed, _search_transits
 
@@ -229,8 +230,10 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
         ``asymptotic_significance`` (Z as N -> infinity; inf without a
         non-averaging floor), ``delta_chi2_per_transit``,
         ``transits_for_probability`` ({p: int array}), ``curve_transits``,
-        ``curve_significance`` and ``curve_probability`` (..., n_curve),
-        ``target_sigma``, ``dof``.
+        ``curve_significance`` (the expected, median Z) and
+        ``curve_probability`` (..., n_curve), ``curve_significance_at_probability``
+        ({p: the Z reached with probability p, (..., n_curve)}), ``target_sigma``,
+        ``dof``.
     """
     sigma, probabilities, n_max, null_templates = _check_stack_inputs(
         sigma, probabilities, n_max, templates, null_templates)
@@ -268,29 +271,43 @@ def stack_transits(data, null, sigma1, *, alt=None, shape=None, templates=None,
     if n_curve is None:
         n_curve = default_curve_transits(n_max)
     n_curve = np.asarray(n_curve, dtype=np.int64)
+    p_curve, z_curve, zp_curve = _curves(stk, lam1, linear, dof_arr, sigma, probabilities, n_curve,
+                                         z_of)
+    return {
+        "transits_needed": n_needed, "reachable": reachable, "no_signal": no_signal,
+        "limiting_term": limiting,
+        "significance_per_transit": z_of(lam1),
+        "asymptotic_significance": z_of(lam_inf),
+        "delta_chi2_per_transit": lam1, "delta_chi2_asymptotic": lam_inf,
+        "transits_for_probability": n_prob,
+        "curve_transits": n_curve, "curve_significance": z_curve,
+        "curve_probability": p_curve, "curve_significance_at_probability": zp_curve,
+        "target_sigma": sigma, "dof": dof_arr,
+    }
+
+
+def _curves(stk, lam1, linear, dof_arr, sigma, probabilities, n_curve, z_of):
+    """Curves over ``n_curve``: detection probability, expected Z and the Z reached with each probability.
+
+    lambda(N) is evaluated once per N and serves all three; the quantiles come
+    from :func:`snrkit.stats.probability.significance_at_probability`.
+    """
     if linear:
         lam_curve = lam1[..., None] * n_curve.astype(np.float64)
     else:
         # N = 1 is lambda(1), already known
-        lam_curve = np.stack([lam1 if n == 1 else stk.full(np.full(batch, n)) for n in n_curve],
+        lam_curve = np.stack([lam1 if n == 1 else stk.full(np.full(stk.batch, n)) for n in n_curve],
                              axis=-1)
     p_curve = np.empty_like(lam_curve)
     for k in np.unique(dof_arr):
         sel = dof_arr == k
         p_curve[sel] = detection_probability(lam_curve[sel], sigma, k)
     p_curve = np.where(lam_curve > 0, p_curve, 0.0)
-    z1 = z_of(lam1)
     # a curve of the single point N = 1 is the per-transit significance itself
-    z_curve = z1[..., None] if n_curve.tolist() == [1] else z_of(lam_curve)
-    return {
-        "transits_needed": n_needed, "reachable": reachable, "no_signal": no_signal,
-        "limiting_term": limiting,
-        "significance_per_transit": z1, "asymptotic_significance": z_of(lam_inf),
-        "delta_chi2_per_transit": lam1, "delta_chi2_asymptotic": lam_inf,
-        "transits_for_probability": n_prob,
-        "curve_transits": n_curve, "curve_significance": z_curve,
-        "curve_probability": p_curve, "target_sigma": sigma, "dof": dof_arr,
-    }
+    z_curve = z_of(lam1)[..., None] if n_curve.tolist() == [1] else z_of(lam_curve)
+    dd = np.broadcast_to(dof_arr[..., None], lam_curve.shape)
+    zp_curve = {p: significance_at_probability(lam_curve, p, dd) for p in probabilities}
+    return p_curve, z_curve, zp_curve
 
 
 def stack_needed(data, null, sigma1, *, alt=None, shape=None, templates=None,
