@@ -18,7 +18,8 @@ process is bounded by the chunk, not by the file:
 
 Each chunk is screened with :func:`snrkit.planning.population.reader.screen_population`.
 The one check that spans rows, repeated planet names, is made over the whole
-file when it is opened: the names are hashed chunk by chunk (8 bytes per row
+file when it is opened (one extra pass over the file, two when a name
+repeats): the names are hashed chunk by chunk (8 bytes per row
 are kept: 0.8 GB for 10^8 rows, the one thing that grows with the file), and
 only the names whose hash repeats are read again exactly, so a chunk's row
 gets ``duplicate_name`` (naming the file row of the first use) exactly when a
