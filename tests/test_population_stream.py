@@ -44,6 +44,10 @@ def _same(a, b):
 def test_chunks_screen_every_row_as_a_whole_file_read(population, tmp_path, fmt, rows):
     path = tmp_path / f"pop.{fmt}"
     population.write(path, format=FORMATS[fmt], overwrite=True)
+    if fmt == "parquet":           # row groups of 9 rows: chunks start and stop inside them
+        import pyarrow.parquet as pq
+        pq.write_table(pq.read_table(path), path, row_group_size=9)
+        assert pq.ParquetFile(path).metadata.num_row_groups == 7
     whole = read_population(path)
     pf = PopulationFile(path, chunk_rows=rows)
     assert pf.rows == len(population) and pf.chunks == -(-len(population) // rows)

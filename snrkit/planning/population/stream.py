@@ -74,48 +74,11 @@ class PopulationFile:
         if not self.path.is_file():
             raise InputError("POPULATION", str(self.path), "an existing file")
         if fmt == "parquet":
-            self._open_parquet()
+            self._pf, self.rows, self._group_start = _open_parquet(self.path)
         else:
-            self._scan_text()
+            self._header, self._offsets, self.rows = _scan_text(self.path, self.chunk_rows)
         self.chunks = -(-self.rows // self.chunk_rows) if self.rows else 0
-        self.repeated = self._repeated_names()
-
-    # ---------------------------------------------------------------- layout
-    def _open_parquet(self):
-        try:
-            import pyarrow.parquet as pq
-        except ImportError:
-            raise InputError("POPULATION", str(self.path), "a CSV or ECSV file",
-                             detail="reading Parquet needs pyarrow: pip install pyarrow") from None
-        try:
-            self._pf = pq.ParquetFile(str(self.path))
-        except (OSError, ValueError) as exc:
-            raise InputError("POPULATION", str(self.path), "a readable Parquet table",
-                             detail=f"{type(exc).__name__}: {exc}") from None
-        meta = self._pf.metadata
-        self.rows = meta.num_rows
-        sizes = [meta.row_group(i).num_rows for i in range(meta.num_row_groups)]
-        self._group_start = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
-
-    def _scan_text(self):
-        """Header bytes and the byte offset of each chunk's first data line."""
-        header, offsets, pos, rows = [], [], 0, 0
-        in_header = True
-        with open(self.path, "rb") as f:
-            for line in f:
-                stripped = line.strip()
-                if in_header:
-                    header.append(line)
-                    if stripped and not stripped.startswith(b"#"):
-                        in_header = False      # the column-name line ends the header
-                elif stripped and not stripped.startswith(b"#"):
-                    if rows % self.chunk_rows == 0:
-                        offsets.append(pos)
-                    rows += 1
-                pos += len(line)
-        self._header = b"".join(h if h.endswith(b"\n") else h + b"\n" for h in header)
-        self._offsets = offsets + [pos]
-        self.rows = rows
+        self.repeated = _repeated_names(self)
 
     # ---------------------------------------------------------------- reading
     def raw_chunk(self, index):
@@ -129,23 +92,12 @@ class PopulationFile:
             # unit strings astropy does not know are reported per column by the screening
             warnings.simplefilter("ignore", AstropyWarning)
             if self.format == "parquet":
-                return Table.read(self._parquet_slice(start, stop), format="parquet")
+                return Table.read(_parquet_slice(self._pf, self._group_start, start, stop),
+                                  format="parquet")
             with open(self.path, "rb") as f:
                 f.seek(self._offsets[index])
                 body = f.read(self._offsets[index + 1] - self._offsets[index])
             return Table.read((self._header + body).decode(), format=self.format)
-
-    def _parquet_slice(self, start, stop):
-        """Rows start..stop-1 as an in-memory Parquet file with the file's schema."""
-        import pyarrow.parquet as pq
-        first = int(np.searchsorted(self._group_start, start, side="right") - 1)
-        last = int(np.searchsorted(self._group_start, stop, side="left"))
-        part = self._pf.read_row_groups(list(range(first, last)))
-        part = part.slice(start - int(self._group_start[first]), stop - start)
-        buf = io.BytesIO()
-        pq.write_table(part, buf)
-        buf.seek(0)
-        return buf
 
     def chunk(self, index):
         """Chunk ``index`` screened as in a whole-file read (see the module docstring)."""
@@ -154,45 +106,94 @@ class PopulationFile:
         return screen_population(self.raw_chunk(index), self.mapping, source=str(self.path),
                                  first_row=index * self.chunk_rows, repeated=self.repeated)
 
-    # ---------------------------------------------------------------- names
-    def _names(self, index):
-        """Planet names of chunk ``index`` as the screening reads them ('' if no column)."""
-        from ..catalog import load_mapping
-        from ..screening import _text_values
-        from .reader import _fields
-        table = self.raw_chunk(index)
-        spec = _fields(load_mapping(self.mapping), table).get("planet.name")
-        if spec is None or spec["column"] not in table.colnames:
-            return None
-        col = table[spec["column"]]        # as reader._convert passes a text field on
-        return _text_values(np.where(np.ma.getmaskarray(col), "",
-                                     np.asarray(np.ma.getdata(col)).astype(str)))
 
-    def _repeated_names(self):
-        """{name: file row of its first use} for names used more than once."""
-        from pandas.util import hash_array
-        hashes = np.zeros(self.rows, dtype=np.uint64)
-        for i in range(self.chunks):
-            names = self._names(i)
-            if names is None:
-                return {}
-            s0 = i * self.chunk_rows
-            hashes[s0:s0 + len(names)] = hash_array(names.astype(object))
-        _, first, counts = np.unique(hashes, return_index=True, return_counts=True)
-        suspects = set(hashes[first[counts > 1]].tolist())
-        if not suspects:
+def _open_parquet(path):
+    """(pyarrow ParquetFile, rows, first row of each row group and the end)."""
+    try:
+        import pyarrow.parquet as pq
+    except ImportError:
+        raise InputError("POPULATION", str(path), "a CSV or ECSV file",
+                         detail="reading Parquet needs pyarrow: pip install pyarrow") from None
+    try:
+        pf = pq.ParquetFile(str(path))
+    except (OSError, ValueError) as exc:
+        raise InputError("POPULATION", str(path), "a readable Parquet table",
+                         detail=f"{type(exc).__name__}: {exc}") from None
+    meta = pf.metadata
+    sizes = [meta.row_group(i).num_rows for i in range(meta.num_row_groups)]
+    return pf, meta.num_rows, np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
+
+
+def _parquet_slice(pf, group_start, start, stop):
+    """Rows start..stop-1 as an in-memory Parquet file with the file's schema and metadata."""
+    import pyarrow.parquet as pq
+    first = int(np.searchsorted(group_start, start, side="right") - 1)
+    last = int(np.searchsorted(group_start, stop, side="left"))
+    part = pf.read_row_groups(list(range(first, last)))
+    part = part.slice(start - int(group_start[first]), stop - start)
+    buf = io.BytesIO()
+    pq.write_table(part, buf)
+    buf.seek(0)
+    return buf
+
+
+def _scan_text(path, chunk_rows):
+    """Header bytes, the byte offset of each chunk's first data line (and the end), rows."""
+    header, offsets, pos, rows = [], [], 0, 0
+    in_header = True
+    with open(path, "rb") as f:
+        for line in f:
+            stripped = line.strip()
+            if in_header:
+                header.append(line)
+                if stripped and not stripped.startswith(b"#"):
+                    in_header = False      # the column-name line ends the header
+            elif stripped and not stripped.startswith(b"#"):
+                if rows % chunk_rows == 0:
+                    offsets.append(pos)
+                rows += 1
+            pos += len(line)
+    return b"".join(h if h.endswith(b"\n") else h + b"\n" for h in header), offsets + [pos], rows
+
+
+def _names(pf, index):
+    """Planet names of chunk ``index`` as the screening reads them ('' if no column)."""
+    from ..catalog import load_mapping
+    from ..screening import _text_values
+    from .reader import _fields
+    table = pf.raw_chunk(index)
+    spec = _fields(load_mapping(pf.mapping), table).get("planet.name")
+    if spec is None or spec["column"] not in table.colnames:
+        return None
+    col = table[spec["column"]]        # as reader._convert passes a text field on
+    return _text_values(np.where(np.ma.getmaskarray(col), "",
+                                 np.asarray(np.ma.getdata(col)).astype(str)))
+
+def _repeated_names(pf):
+    """{name: file row of its first use} for names used more than once."""
+    from pandas.util import hash_array
+    hashes = np.zeros(pf.rows, dtype=np.uint64)
+    for i in range(pf.chunks):
+        names = _names(pf, i)
+        if names is None:
             return {}
-        seen, repeated = {}, {}
-        for i in range(self.chunks):           # exact names of the rows whose hash repeats
-            s0 = i * self.chunk_rows
-            names = self._names(i)
-            for j in np.flatnonzero(np.isin(hashes[s0:s0 + len(names)],
-                                            np.fromiter(suspects, np.uint64))).tolist():
-                name = str(names[j])
-                if name == "":
-                    continue
-                if name in seen:
-                    repeated[name] = seen[name]
-                else:
-                    seen[name] = s0 + j
-        return repeated
+        s0 = i * pf.chunk_rows
+        hashes[s0:s0 + len(names)] = hash_array(names.astype(object))
+    _, first, counts = np.unique(hashes, return_index=True, return_counts=True)
+    suspects = set(hashes[first[counts > 1]].tolist())
+    if not suspects:
+        return {}
+    seen, repeated = {}, {}
+    for i in range(pf.chunks):           # exact names of the rows whose hash repeats
+        s0 = i * pf.chunk_rows
+        names = _names(pf, i)
+        for j in np.flatnonzero(np.isin(hashes[s0:s0 + len(names)],
+                                        np.fromiter(suspects, np.uint64))).tolist():
+            name = str(names[j])
+            if name == "":
+                continue
+            if name in seen:
+                repeated[name] = seen[name]
+            else:
+                seen[name] = s0 + j
+    return repeated
