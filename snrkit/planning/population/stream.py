@@ -4,10 +4,13 @@
 chunks of ``chunk_rows`` rows by number, so the memory of the reading
 process is bounded by the chunk, not by the file:
 
-* Parquet (pyarrow, imported here): the row groups that hold the chunk are
-  read and sliced; the slice, with the file's schema and metadata (units),
+* Parquet (pyarrow, imported here): record batches of ``chunk_rows`` rows
+  are streamed from the row groups (``ParquetFile.iter_batches``) and cut at
+  the chunk's rows; the chunk, with the file's schema and metadata (units),
   goes through astropy's Parquet reader, so its columns are those of a
-  whole-file read.
+  whole-file read.  (pyarrow may still buffer one row group's compressed
+  column pages: a file written as one huge row group is read in pieces but
+  not with less I/O buffer than that; not measured here.)
 * CSV and ECSV: one pass over the file records the byte offset of every
   chunk's first data line; a chunk is the header lines followed by its
   data lines, parsed by astropy.  Blank lines are skipped, as astropy does.
@@ -75,6 +78,7 @@ class PopulationFile:
             raise InputError("POPULATION", str(self.path), "an existing file")
         if fmt == "parquet":
             self._pf, self.rows, self._group_start = _open_parquet(self.path)
+            self._stream = None
         else:
             self._header, self._offsets, self.rows = _scan_text(self.path, self.chunk_rows)
         self.chunks = -(-self.rows // self.chunk_rows) if self.rows else 0
@@ -92,8 +96,7 @@ class PopulationFile:
             # unit strings astropy does not know are reported per column by the screening
             warnings.simplefilter("ignore", AstropyWarning)
             if self.format == "parquet":
-                return Table.read(_parquet_slice(self._pf, self._group_start, start, stop),
-                                  format="parquet")
+                return Table.read(_as_parquet(_parquet_rows(self, start, stop)), format="parquet")
             with open(self.path, "rb") as f:
                 f.seek(self._offsets[index])
                 body = f.read(self._offsets[index + 1] - self._offsets[index])
@@ -124,15 +127,42 @@ def _open_parquet(path):
     return pf, meta.num_rows, np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
 
 
-def _parquet_slice(pf, group_start, start, stop):
-    """Rows start..stop-1 as an in-memory Parquet file with the file's schema and metadata."""
+def _parquet_rows(pf, start, stop):
+    """Rows start..stop-1 of a :class:`PopulationFile` as a pyarrow Table, from record batches of the row groups.
+
+    The batch stream is kept between calls, so chunks asked in order (as
+    the run asks them) decode each row once; a chunk before the stream's
+    position restarts it at the chunk's row group.
+    """
+    import pyarrow as pa
+    st = pf._stream
+    if st is None or st["pos"] > start:
+        first = int(np.searchsorted(pf._group_start, start, side="right") - 1)
+        groups = list(range(first, len(pf._group_start) - 1))
+        st = pf._stream = {"pos": int(pf._group_start[first]), "buf": None,
+                             "it": pf._pf.iter_batches(batch_size=pf.chunk_rows,
+                                                         row_groups=groups, use_threads=False)}
+    out = []
+    while st["pos"] < stop:
+        if st["buf"] is None:
+            st["buf"] = next(st["it"])
+        b, lo = st["buf"], max(start - st["pos"], 0)
+        hi = min(stop - st["pos"], b.num_rows)
+        if lo < hi:
+            out.append(b.slice(lo, hi - lo))
+        if hi < b.num_rows:            # the rest of the batch opens the next chunk
+            st["buf"], st["pos"] = b.slice(hi), st["pos"] + hi
+        else:
+            st["buf"], st["pos"] = None, st["pos"] + b.num_rows
+    return pa.Table.from_batches(out, schema=pf._pf.schema_arrow)
+
+
+def _as_parquet(table):
+    """A pyarrow Table (with the file's schema and metadata) as an in-memory Parquet file,
+    for astropy's reader (units and string types as in a whole-file read)."""
     import pyarrow.parquet as pq
-    first = int(np.searchsorted(group_start, start, side="right") - 1)
-    last = int(np.searchsorted(group_start, stop, side="left"))
-    part = pf.read_row_groups(list(range(first, last)))
-    part = part.slice(start - int(group_start[first]), stop - start)
     buf = io.BytesIO()
-    pq.write_table(part, buf)
+    pq.write_table(table, buf)
     buf.seek(0)
     return buf
 
