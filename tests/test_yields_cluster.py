@@ -152,3 +152,17 @@ def test_bad_input_inside_a_worker_reaches_the_caller_as_input_error(cluster):
     pop["scenario"] = ["no-such-scenario"] * 5      # read by the worker, chunk by chunk
     with pytest.raises(InputError, match="scenario: got 'no-such-scenario'; allowed: a preset"):
         population_yields(pop, mode=MODE, resolution=10, scheduler=cluster.scheduler_address)
+
+
+def test_a_file_population_streamed_to_the_cluster_equals_the_whole_table(cluster, tmp_path):
+    """A CSV file sent in chunks of 37 rows (read and screened here, two in flight per
+    worker) gives the yields of its whole table run in process in one chunk."""
+    from snrkit.planning.population import generate_block, read_population
+    path = tmp_path / "pop.csv"
+    generate_block(11, 0).write(path, format="ascii.csv")
+    kw = {k: v for k, v in SETTINGS.items() if k not in ("generate", "seed")}
+    res = population_yields(path, **kw, scheduler=cluster.scheduler_address, chunk_planets=37)
+    ref = population_yields(read_population(path), **kw, scheduler="in-process",
+                            chunk_planets=10**6)
+    assert res["chunks"] > 2 and ref["chunks"] == 1
+    _same(res["dataset"], ref["dataset"])

@@ -5,6 +5,8 @@
   with published occurrence rates;
 * :func:`read_population` (:mod:`.reader`): Parquet, CSV or ECSV populations
   through the catalogue column mappings, every row kept with a status;
+  :class:`.stream.PopulationFile` reads such a file chunk by chunk, each
+  chunk screened as in a whole-file read;
 * :mod:`.model` (hosts, occurrence tables) and :mod:`.rules` (planet class,
   scenario).
 """

@@ -236,8 +236,40 @@ def _fill_required(work, fields, n, source, mark):
                 work[FIELDS[k].column].unit = FIELDS[k].unit
 
 
-def screen_population(table, mapping=None, *, source="<table>"):
+def _global_names(work, status, reason, first_row, repeated):
+    """Duplicate names as in the whole file: repeats of names first used in an earlier
+    chunk, and file row numbers in the reasons (the catalogue counts from the chunk)."""
+    from ..screening import _text_values
+    name_col = FIELDS["planet.name"].column
+    if name_col not in work.colnames:
+        return
+    names = _text_values(work[name_col])
+    rows = np.arange(len(names), dtype=np.int64) + first_row
+    first = np.array([repeated.get(x, -1) for x in names.tolist()], dtype=np.int64) \
+        if repeated else np.full(len(names), -1, dtype=np.int64)
+    dup = (first >= 0) & (first != rows) & (status != "missing_name")
+    status[dup] = "duplicate_name"
+    reason[dup] = [f"planet name '{x}' is already used by input row {r}"
+                   for x, r in zip(names[dup].tolist(), first[dup].tolist())]
+
+
+def screen_population(table, mapping=None, *, source="<table>", first_row=0, repeated=None):
     """Screen an in-memory population Table (see :func:`read_population`).
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+    mapping : str, pathlib.Path, dict or None
+    source : str
+        Named in the reasons.
+    first_row : int
+        Row number of ``table``'s first row in its file (a chunk of a file,
+        see :mod:`snrkit.planning.population.stream`): ``input_index`` and the
+        rows named in ``duplicate_name`` reasons count from the file's start.
+    repeated : dict, optional
+        {planet name: file row of its first use} for names used more than once
+        anywhere in the file; a chunk's row with such a name after its first
+        use gets ``duplicate_name`` as a whole-file read gives it.
 
     Returns
     -------
@@ -258,14 +290,19 @@ def screen_population(table, mapping=None, *, source="<table>"):
     work, used = _convert(table, fields, spec_map, source, mark)
     _fill_required(work, fields, len(table), source, mark)
     cat = catalogue_from_table(work, None, source=source)
+    cat_status = np.asarray(cat.status).astype("<U24")
+    cat_reason = np.asarray(cat.reason, dtype=object)
+    if first_row or repeated:
+        _global_names(work, cat_status, cat_reason, int(first_row), repeated or {})
     out = Table(cat.values, copy=True)
+    out["input_index"] = np.arange(len(table), dtype=np.int64) + int(first_row)
     taken = set(out.colnames) | {"status", "reason"} | set(FLAG_COLUMNS)
     for name in table.colnames:
         if name not in used:
             out[name + "_input" if name in taken else name] = table[name]
     own = mark.code != ""
-    out["status"] = np.where(own, mark.code, np.asarray(cat.status)).astype(str)
-    out["reason"] = np.where(own, mark.why, np.asarray(cat.reason, dtype=object)).astype(str)
+    out["status"] = np.where(own, mark.code, cat_status).astype(str)
+    out["reason"] = np.where(own, mark.why, cat_reason).astype(str)
     for flag in FLAG_COLUMNS:
         out[flag] = np.where(out["status"] == "ok", np.asarray(cat.table[flag]), False)
     out.meta["source"] = source

@@ -16,6 +16,16 @@ A planet is *reached* for a design, scenario and test when its status is
 most the transits that occur in the design's ``years`` (floor(years /
 period)) and its programme hours at most the design's (or the run's)
 ``hours``.
+
+Transits in ``years``: a window of length L = years x 365.25 d holds
+floor(L / P) or floor(L / P) + 1 mid-transit times depending on the phase
+(L / P on average); the yield takes floor(L / P), the number every phase
+guarantees, since a planet's phase relative to a mission is not known in
+advance.  No observability fraction is applied (sky visibility, scheduling
+conflicts): every transit in the window is taken, so on that count the
+yield is an upper bound.  Hours per transit are the engine's: T14 + baseline
+(T14 unless the mode says otherwise) + overhead (1 h by default)
+(:func:`snrkit.stats.forecast.programme_hours`).
 """
 
 import numpy as np

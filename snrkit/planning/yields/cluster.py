@@ -27,7 +27,7 @@ from .store import COUNT_KEYS
 __all__ = ["SCHEDULER_ENV", "IN_PROCESS", "LOCAL", "WORKER_CONFIG", "connect", "parse_memory",
            "worker_memory",
            "check_chunk_memory", "run_chunks", "chunk_task", "ENGINE_BYTES_PER_PLANET",
-           "PROCESS_BASE_BYTES", "planets_per_pass"]
+           "PROCESS_BASE_BYTES", "planets_per_pass", "FileChunk", "IN_FLIGHT_PER_WORKER"]
 
 #: Environment variable naming the scheduler address (or ``local`` / ``in-process``).
 SCHEDULER_ENV = "SNRKIT_SCHEDULER"
@@ -46,6 +46,9 @@ PROCESS_BASE_BYTES = 500_000_000
 #: large numpy temporary is then mapped and unmapped, and the engine runs 2-5
 #: times slower (measured on a chunk of 3 generator blocks); None unsets it.
 WORKER_CONFIG = {"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}
+#: Chunks in flight per worker thread: tasks are sent as others finish, so a
+#: file's chunks (read in this process) and the task graph stay bounded.
+IN_FLIGHT_PER_WORKER = 2
 _UNITS = {"b": 1, "kb": 1e3, "mb": 1e6, "gb": 1e9, "tb": 1e12, "kib": 2**10, "mib": 2**20,
           "gib": 2**30, "tib": 2**40}
 
@@ -150,6 +153,22 @@ def chunk_task(source, seed, block, designs, settings):
     return evaluate_chunk(table, designs, seed=seed, block=block, **settings)
 
 
+class FileChunk:
+    """Chunk ``index`` of a :class:`~snrkit.planning.population.stream.PopulationFile`,
+    read and screened in the calling process by :meth:`load` when its task is sent."""
+
+    def __init__(self, population_file, index):
+        self.file, self.index = population_file, index
+
+    def load(self):
+        return self.file.chunk(self.index)
+
+
+def _rows(source):
+    """What a task receives: a Table, a callable run on the worker, or a loaded file chunk."""
+    return source.load() if isinstance(source, FileChunk) else source
+
+
 def run_chunks(chunks, designs, settings, client=None, store=None, done=None, progress=None,
                key_prefix="snrkit-yields"):
     """Run the chunks not yet done; store and count each as it finishes.
@@ -186,18 +205,30 @@ def run_chunks(chunks, designs, settings, client=None, store=None, done=None, pr
 
     if client is None:
         for key, src in todo:
-            finish(key, chunk_task(src, key[0], key[1], designs, settings))
+            finish(key, chunk_task(_rows(src), key[0], key[1], designs, settings))
         return counts, len(todo)
     from distributed import as_completed
-    futures = {}
+    futures, pending = {}, iter(todo)
+    window = IN_FLIGHT_PER_WORKER * max(sum(client.nthreads().values()), 1)
+
+    def submit():
+        item = next(pending, None)
+        if item is None:
+            return None
+        key, src = item
+        f = client.submit(chunk_task, _rows(src), key[0], key[1], designs, settings,
+                          key=f"{key_prefix}-{key[0]}-{key[1]}", pure=False)
+        futures[f] = key
+        return f
+
     try:
-        for key, src in todo:
-            f = client.submit(chunk_task, src, key[0], key[1], designs, settings,
-                              key=f"{key_prefix}-{key[0]}-{key[1]}", pure=False)
-            futures[f] = key
-        for f in as_completed(list(futures)):
-            finish(futures[f], f.result())
+        ac = as_completed([f for f in (submit() for _ in range(window)) if f is not None])
+        for f in ac:
+            finish(futures.pop(f), f.result())
             f.release()
+            nxt = submit()
+            if nxt is not None:
+                ac.add(nxt)
     finally:
         client.cancel([f for f in futures if not f.done()])
     return counts, len(todo)

@@ -82,17 +82,18 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
     if int(_parse_int(draws, "--draws", 1, MAX_DRAWS)) != 1:
         raise InputError("--draws", draws, "1 for a population file (draws need --generate)")
     from astropy.table import Table
+    rows = int(_parse_int(chunk_planets, "--chunk-planets", 1, 10**7))
     if isinstance(population, Table):
         table, desc = population, {"table_rows": len(population), "table": _table_digest(population)}
-    else:
-        from ..population import read_population
-        from pathlib import Path
-        table = read_population(population, mapping=mapping)
-        st = Path(population).stat()
-        desc = {"file": str(Path(population).resolve()), "size": st.st_size,
-                "mtime_ns": st.st_mtime_ns, "mapping": None if mapping is None else str(mapping)}
-    rows = int(_parse_int(chunk_planets, "--chunk-planets", 1, 10**7))
-    chunks = [((0, b), table[s0:s0 + rows]) for b, s0 in enumerate(range(0, len(table), rows))]
+        chunks = [((0, b), table[s0:s0 + rows]) for b, s0 in enumerate(range(0, len(table), rows))]
+        return chunks, [0], {**desc, "chunk_planets": rows}
+    from ..population.stream import PopulationFile
+    from pathlib import Path
+    pf = PopulationFile(population, mapping, chunk_rows=rows)
+    st = Path(population).stat()
+    desc = {"file": str(Path(population).resolve()), "size": st.st_size,
+            "mtime_ns": st.st_mtime_ns, "mapping": None if mapping is None else str(mapping)}
+    chunks = [((0, b), cl.FileChunk(pf, b)) for b in range(pf.chunks)]
     return chunks, [0], {**desc, "chunk_planets": rows}
 
 
@@ -136,11 +137,14 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
     population : str, pathlib.Path or astropy.table.Table, optional
         A population file (Parquet, CSV or ECSV, read by
         :func:`snrkit.planning.population.read_population` through
-        ``mapping``) or a table in the catalogue's default layout.  A file
-        is read here and sent to the workers in chunks of ``chunk_planets``
-        rows, so it must fit in this process's memory; a generated
-        population is drawn on the workers, block by block, and only the
-        chunk in hand is ever in memory.
+        ``mapping``) or a table in the catalogue's default layout, sent to
+        the workers in chunks of ``chunk_planets`` rows; a generated
+        population is drawn on the workers, block by block.  Either way
+        only the chunks in flight are ever in memory: a file is read here
+        chunk by chunk (:class:`snrkit.planning.population.stream.PopulationFile`,
+        each chunk screened as in a whole-file read) just before its task
+        is sent, at most :data:`snrkit.planning.yields.cluster.IN_FLIGHT_PER_WORKER`
+        chunks per worker at a time.
     generate : int, optional
         Instead: draw this many stars (rounded up to whole generator
         blocks) with :func:`snrkit.planning.population.generate_block`.
