@@ -32,7 +32,7 @@ test: $(STAMP)
 
 # The suite at the dependency floors of pyproject.toml, in its own venv
 # (.venv-oldest): each floor pinned to its oldest release series.
-OLDEST := numpy==2.0.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.* jinja2==3.1.* "dask[distributed]==2024.8.*" pyarrow==16.* pandas==2.2.2
+OLDEST := numpy==2.1.* scipy==1.13.* astropy==7.0.* xarray==2024.6.* matplotlib==3.10.* jinja2==3.1.* "dask[distributed]==2024.8.*" pyarrow==16.* pandas==2.2.2
 test-oldest:
 	$(PYTHON) -m venv .venv-oldest
 	.venv-oldest/bin/python -m pip install --quiet --upgrade pip

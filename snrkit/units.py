@@ -16,13 +16,23 @@ never an ``OverflowError``.  :func:`parse_quantity` and
 import math
 from functools import lru_cache
 
+import os
+from typing import Union
+
 import numpy as np
+import numpy.typing as npt
 import astropy.units as u
 
 from .errors import InputError, UnitMismatchError
 
-__all__ = ["parse_quantity", "to_si", "check_range", "as_float_array", "parse_number",
+__all__ = ["QuantityLike", "PathLike", "parse_quantity", "to_si", "check_range", "as_float_array", "parse_number",
            "scalar_si", "si_scale"]
+
+#: What public functions accept for a physical value: an astropy Quantity, or a
+#: number or array in the parameter's documented default unit (annotations only).
+QuantityLike = Union[u.Quantity, float, npt.ArrayLike]
+#: A file path as a string or an ``os.PathLike``.
+PathLike = Union[str, "os.PathLike[str]"]
 
 
 def parse_quantity(value, field, default_unit):

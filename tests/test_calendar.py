@@ -66,14 +66,14 @@ def test_mid_times_follow_linear_ephemeris_exactly(alder):
     n = np.asarray(tab["epoch"])
     assert np.all(np.diff(n) == 1)                         # consecutive epochs, no gaps
     for ni, mid in zip(n, tab["mid_bjd_tdb"]):
-        assert abs(float(t0 + int(ni) * p) - float(mid)) < 1e-9
+        assert abs(float(t0 + int(ni) * p) - float(mid.jd)) < 1e-9
     # Completeness: the neighbours of the first/last epoch fall outside the range
     with offline_time():
         from astropy.time import Time
         lo = Time("2026-01-01", scale="utc").tdb.jd
         hi = Time("2027-01-01", scale="utc").tdb.jd
-    assert float(t0 + (int(n[0]) - 1) * p) < lo <= float(tab["mid_bjd_tdb"][0])
-    assert float(tab["mid_bjd_tdb"][-1]) <= hi < float(t0 + (int(n[-1]) + 1) * p)
+    assert float(t0 + (int(n[0]) - 1) * p) < lo <= float(tab["mid_bjd_tdb"][0].jd)
+    assert float(tab["mid_bjd_tdb"][-1].jd) <= hi < float(t0 + (int(n[-1]) + 1) * p)
     assert len(tab) in (77, 78)     # 365 d / 4.7371 d = 77.05: 77 or 78 transits
 
 
@@ -181,7 +181,10 @@ def test_bjd_to_utc_against_astropy_for_demo_epoch(alder):
         ref = Time(t.tdb, location=geo).utc
         assert abs(float((utc - ref).to_value(u.s))) < 1e-3
         tab = transit_windows(alder, "2025-11-20", "2025-11-21")
-        assert tab["mid_utc"][0] == Time(ref, precision=0).isot
+        # the column is a UTC Time at full precision, shown to the second
+        assert tab["mid_utc"].scale == "utc" and tab["mid_utc"].format == "isot"
+        assert abs(float((tab["mid_utc"][0] - ref).to_value(u.s))) < 1e-3
+        assert tab["mid_utc"][0].isot == Time(ref, precision=0).isot
 
 
 def test_light_time_sign_and_size():
@@ -306,7 +309,7 @@ def test_seasons_restrict_windows(cedar):
     seas = transit_windows(cedar, "2026-06-01", "2026-09-30", observatory=SpaceObservatory(
         seasons=[("2026-07-01", "2026-07-31")]))
     assert len(free) == len(seas)
-    mid = np.asarray(seas["mid_utc"], dtype="datetime64[s]")
+    mid = seas["mid_utc"].datetime64
     july = (mid > np.datetime64("2026-07-01T12")) & (mid < np.datetime64("2026-07-31T12"))
     assert np.array_equal(np.asarray(seas["observable"]), np.asarray(free["observable"]) & july)
     assert all("seasonal" in r for r in seas["reason"][~july])
@@ -455,6 +458,40 @@ def test_cli_site_outputs(capsys, tmp_path):
     rc, _, _ = _cli(capsys, CEDAR, "--from", "2026-04-01", "--to", "2026-04-30",
                     "--out", str(tmp_path / "w.csv"))
     assert rc == 0 and (tmp_path / "w.csv").read_text().startswith("planet,epoch,")
+
+
+def test_time_columns_round_trip_through_ecsv_and_fits(capsys, tmp_path, cedar):
+    # The windows carry astropy Time columns (BJD in TDB as Julian dates, the
+    # observer's times in UTC as ISO); `--out` writes them as astropy does (ECSV:
+    # ISO strings with their scale, rounded to the second shown; FITS: two-part
+    # Julian dates with the time scale, lossless) and they read back as Time.
+    # 2031 lies past the bundled leap-second table: writing must not warn.
+    from astropy.table import Table
+    from snrkit.cli.calendar import windows_json
+    dates = ("--from", "2031-03-01", "--to", "2031-04-30")
+    ref = transit_windows(cedar, *dates[1::2])
+    assert ref["mid_bjd_tdb"].scale == "tdb" and ref["mid_bjd_tdb"].format == "jd"
+    for suffix in (".ecsv", ".fits"):
+        path = tmp_path / f"w{suffix}"
+        rc, _, err = _cli(capsys, CEDAR, *dates, "--out", str(path))
+        assert rc == 0, err
+        with offline_time():   # UTC past the leap-second table warns otherwise
+            back = Table.read(path, astropy_native=True) if suffix == ".fits" else Table.read(path)
+            assert len(back) == len(ref) > 0
+            assert list(back["planet"]) == list(ref["planet"])
+            for col, scale, tol_s in (("mid_bjd_tdb", "tdb", 1e-3), ("mid_utc", "utc", 0.5),
+                                      ("start_utc", "utc", 0.5), ("end_utc", "utc", 0.5)):
+                assert back[col].scale == scale, (suffix, col)
+                if suffix == ".fits":
+                    tol_s = 1e-6
+                assert np.max(np.abs((back[col] - ref[col]).to_value(u.s))) < tol_s, (suffix, col)
+    # JSON keeps ISO strings, the same the table shows
+    doc = windows_json(ref)
+    first = doc["planets"][0]["windows"][0]
+    assert isinstance(first["mid_utc"], str)
+    with offline_time():
+        assert first["mid_utc"] == ref[ref["planet"] == "Cedar b"]["mid_utc"][0].isot
+    assert first["mid_bjd_tdb"] == pytest.approx(float(ref[ref["planet"] == "Cedar b"]["mid_bjd_tdb"][0].jd))
 
 
 @pytest.mark.parametrize("argv,needle", [

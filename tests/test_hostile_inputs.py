@@ -223,6 +223,23 @@ def test_class9_partial_file_from_a_killed_run_is_removed_next_time(tmp_path):
     assert (tmp_path / "new.txt").read_text() == "x"
 
 
+@pytest.mark.parametrize("umask,expected", [(0o022, 0o644), (0o077, 0o600), (0o002, 0o664)])
+def test_outputs_get_the_users_umask(tmp_path, umask, expected):
+    # A file written atomically gets the mode a plain open() would give it (0666 less
+    # the umask; POSIX open(2)), not mkstemp's 0600; a table through `--out` too.
+    from astropy.table import Table as T
+    from snrkit.io.atomic import atomic_write_text
+    from snrkit.cli._common import write_table
+    old = os.umask(umask)
+    try:
+        atomic_write_text(tmp_path / "a.txt", "x")
+        write_table(T({"x": [1.0]}), tmp_path / "t.ecsv")
+    finally:
+        os.umask(old)
+    for name in ("a.txt", "t.ecsv"):
+        assert (tmp_path / name).stat().st_mode & 0o777 == expected, name
+
+
 def _system_with_observation(tmp_path, lines):
     f = tmp_path / "sys.toml"
     f.write_text(CEDAR.read_text().replace(

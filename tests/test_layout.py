@@ -95,7 +95,16 @@ def _imports(module):
     path, is_package = MODULES[module]
     package = module if is_package else module.rpartition(".")[0]
     out = []
-    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    # imports under `if TYPE_CHECKING:` name types for annotations only and never run:
+    # they are no arrow between layers (photons.targets annotates a System it is handed)
+    typing_only = {id(n) for block in ast.walk(tree)
+                   if isinstance(block, ast.If) and isinstance(block.test, ast.Name)
+                   and block.test.id == "TYPE_CHECKING"
+                   for stmt in block.body for n in ast.walk(stmt)}
+    for node in ast.walk(tree):
+        if id(node) in typing_only:
+            continue
         if isinstance(node, ast.Import):
             out += [(node.lineno, a.name) for a in node.names if a.name.split(".")[0] == "snrkit"]
         elif isinstance(node, ast.ImportFrom):

@@ -210,7 +210,7 @@ def test_rank_cli_json_and_files(tmp_path, capsys):
     assert rc == 2
 
 
-def test_plan_turns_transits_into_dated_windows():
+def test_plan_turns_transits_into_dated_windows(tmp_path):
     system = load_system(data_path("demo", "cedar.toml"))
     plan = programme_plan(system, PRISM, test="species:CO2", start="2027-01-01", years=3,
                           resolution=30)
@@ -225,16 +225,39 @@ def test_plan_turns_transits_into_dated_windows():
             assert p["reason"] or p["status"] != "ok"
     with pytest.raises(InputError):
         programme_plan(system, PRISM, years=0)
+    # the plan's table keeps astropy Time columns through ECSV and FITS (what `plan --out` writes)
+    from astropy.table import Table
+    from snrkit.cli._common import write_table
+    import astropy.units as u
+    table = plan["table"]
+    assert table["mid_utc"].scale == "utc" and table["mid_bjd_tdb"].scale == "tdb"
+    from snrkit.planning.calendar import offline_time
+    for name, tol_s in (("plan.ecsv", 0.5), ("plan.fits", 1e-6)):   # ECSV: to the second shown
+        write_table(table, tmp_path / name)
+        with offline_time():   # UTC from 2030 lies past the leap-second table: ERFA warns
+            back = Table.read(tmp_path / name, astropy_native=True) if name.endswith("fits") else \
+                Table.read(tmp_path / name)
+            for col in ("mid_bjd_tdb", "mid_utc", "start_utc", "end_utc"):
+                assert back[col].scale == table[col].scale, (name, col)
+                assert np.max(np.abs((back[col] - table[col]).to_value(u.s))) < tol_s, (name, col)
 
 
 def test_plan_cli(tmp_path, capsys):
-    png = tmp_path / "plan.png"
+    png, fits = tmp_path / "plan.png", tmp_path / "plan.fits"
     rc = main(["plan", str(data_path("demo", "cedar.toml")), "--mode", PRISM, "--test",
-               "species:H2O", "--years", "2", "--json", "--plot", str(png)])
+               "species:H2O", "--years", "2", "--json", "--plot", str(png), "--out", str(fits)])
     assert rc == 0
     doc = json.loads(capsys.readouterr().out)
     assert {"planets", "programme"} <= set(doc)
     assert png.exists()
+    # JSON keeps ISO strings; the FITS table holds the same chosen windows as UTC Time
+    from astropy.table import Table
+    back = Table.read(fits, astropy_native=True)
+    json_mid = sorted(w["mid_utc"] for p in doc["planets"] for w in p["windows"])
+    assert json_mid and all(isinstance(m, str) for m in json_mid)
+    assert back["mid_utc"].scale == "utc"
+    back["mid_utc"].format, back["mid_utc"].precision = "isot", 0
+    assert sorted(back["mid_utc"].isot) == json_mid
 
 
 def test_each_scenario_gives_one_row_per_planet_and_scenario(cat):

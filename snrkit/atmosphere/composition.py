@@ -6,7 +6,10 @@ Molar masses come from ``data_tables/species.ecsv`` (IUPAC 2021 standard
 atomic weights).
 """
 
+from __future__ import annotations
+
 import difflib
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -16,6 +19,11 @@ from ..io.tables import read_columns
 
 __all__ = ["species_molar_masses", "SPECIES", "normalise_mixing_ratios",
            "mean_molecular_weight", "MU_H2_HE_DEFAULT", "SUM_TOLERANCE"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Mapping
+    import numpy.typing as npt
+
 
 #: Default mean molecular weight [g/mol] for a hydrogen-helium envelope
 #: (solar H2/He, common practice, no source beyond e.g. Kempton et al. 2018).
@@ -94,7 +102,8 @@ def normalise_mixing_ratios(mixing_ratios, fill_gas=None, field="mixing_ratios")
     return {k: v / total for k, v in out.items()}
 
 
-def mean_molecular_weight(mixing_ratios, fill_gas=None, field="mixing_ratios"):
+def mean_molecular_weight(mixing_ratios: Mapping[str, npt.ArrayLike], fill_gas: str | None = None,
+                          field: str = "mixing_ratios") -> float | np.ndarray:
     """Mean molecular weight of a gas mixture.
 
     Parameters

@@ -1,5 +1,9 @@
 """The validated, immutable Planet (arrays over a leading entry axis)."""
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
 
 import numpy as np
 import astropy.units as u
@@ -7,11 +11,15 @@ import astropy.units as u
 from . import metrics as met
 from ..constants import R_EARTH, M_EARTH
 from ..errors import InputError
-from ..units import to_si, as_float_array, check_range
+from ..units import QuantityLike, to_si, as_float_array, check_range
 from .limits import LIMITS
 from .star import _Frozen, _opt, _size
 
 __all__ = ["Planet"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Sequence
+    import numpy.typing as npt
 
 
 # size: an immutable record: __init__ checks each field (61 lines, estimates in helpers), then one-line properties
@@ -66,12 +74,18 @@ class Planet(_Frozen):
                  "_b", "_inc", "_ecc", "_omega", "_t0", "_t0_sigma", "_p_sigma",
                  "_albedo", "_redist", "_b_assumed", "_name")
 
-    def __init__(self, radius, period, mass=None, mass_uncertainty=None, radius_uncertainty=None,
-                 semi_major_axis=None,
-                 impact_parameter=None, inclination=None, eccentricity=0.0,
-                 periastron_argument=90.0, transit_midtime=None,
-                 transit_midtime_uncertainty=None, period_uncertainty=None,
-                 albedo=0.0, redistribution=0.25, name=None):
+    def __init__(self, radius: QuantityLike, period: QuantityLike, mass: QuantityLike | None = None,
+                 mass_uncertainty: QuantityLike | None = None,
+                 radius_uncertainty: QuantityLike | None = None,
+                 semi_major_axis: QuantityLike | None = None,
+                 impact_parameter: npt.ArrayLike | None = None,
+                 inclination: QuantityLike | None = None, eccentricity: npt.ArrayLike = 0.0,
+                 periastron_argument: QuantityLike = 90.0,
+                 transit_midtime: QuantityLike | None = None,
+                 transit_midtime_uncertainty: QuantityLike | None = None,
+                 period_uncertainty: QuantityLike | None = None,
+                 albedo: npt.ArrayLike = 0.0, redistribution: npt.ArrayLike = 0.25,
+                 name: str | Sequence[str] | None = None) -> None:
         rad = to_si(radius, "planet.radius", u.R_earth, *LIMITS["planet.radius"])
         per = to_si(period, "planet.period", u.day, *LIMITS["planet.period"])
         rsig = _opt(radius_uncertainty, "planet.radius_uncertainty", u.R_earth,

@@ -1,15 +1,22 @@
 """The validated, immutable Star (arrays over a leading entry axis)."""
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
 
 import numpy as np
 import astropy.units as u
 
 from ..constants import R_SUN, M_SUN, G
 from ..errors import InputError
-from ..units import to_si, as_float_array, check_range
+from ..units import QuantityLike, to_si, as_float_array, check_range
 from .limits import BANDS, LIMITS, TEFF_RANGE_K
 
 __all__ = ["Star"]
+
+if TYPE_CHECKING:   # annotations only: these stay unimported at run time
+    from collections.abc import Mapping, Sequence
+    import numpy.typing as npt
 
 
 def _readonly(a):
@@ -84,8 +91,11 @@ class Star(_Frozen):
     __slots__ = ("_n", "_teff", "_radius", "_mass", "_metallicity", "_mags",
                  "_distance", "_ra", "_dec", "_name", "mass_from_logg")
 
-    def __init__(self, teff, radius, mass=None, logg=None, metallicity=0.0,
-                 magnitudes=None, distance=None, ra=None, dec=None, name=None):
+    def __init__(self, teff: QuantityLike, radius: QuantityLike, mass: QuantityLike | None = None,
+                 logg: npt.ArrayLike | None = None, metallicity: npt.ArrayLike = 0.0,
+                 magnitudes: Mapping[str, npt.ArrayLike] | None = None,
+                 distance: QuantityLike | None = None, ra: QuantityLike | None = None,
+                 dec: QuantityLike | None = None, name: str | Sequence[str] | None = None) -> None:
         teff_a = to_si(teff, "star.effective_temperature", u.K, *TEFF_RANGE_K)
         rad = to_si(radius, "star.radius", u.R_sun, *LIMITS["star.radius"])
         if mass is None and logg is None:
@@ -159,11 +169,11 @@ class Star(_Frozen):
     dec = property(lambda self: (self._dec * u.rad).to(u.deg), doc="declination (ICRS)")
     name = property(lambda self: self._name, doc="names (array of str) or None")
 
-    def magnitude(self, band):
+    def magnitude(self, band: str) -> np.ndarray:
         """Magnitudes in ``band`` (NaN array where not given)."""
         return self._mags.get(band, np.full(self._n, np.nan))
 
-    def broadcast(self, n):
+    def broadcast(self, n: int) -> Star:
         """Return this star repeated for ``n`` planets."""
         if n == self._n:
             return self

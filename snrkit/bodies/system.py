@@ -9,8 +9,10 @@ everything later stages need (gravity, a/Rs, Teq, T14/T23, depth, scale
 height, TSM/ESM, habitable zone) and returns an astropy Table.
 """
 
-import warnings
+from __future__ import annotations
 
+import warnings
+from typing import TYPE_CHECKING
 
 import numpy as np
 import astropy.units as u
@@ -19,12 +21,18 @@ from . import geometry as geo
 from . import metrics as met
 from ..constants import R_EARTH, M_EARTH, G, AU, HOUR
 from ..errors import InputError, NoTransitError, GrazingTransitWarning, SnrkitWarning
-from ..units import as_float_array, check_range
+from ..units import QuantityLike, as_float_array, check_range
 from .limits import DEFAULT_MEAN_MOLECULAR_WEIGHT, KEPLER_TOLERANCE
 from .star import Star, _Frozen, _opt
 from .planet import Planet
 
 __all__ = ["System", "derive", "common_observation"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Mapping, Sequence
+    from typing import Any
+    import numpy.typing as npt
+    from astropy.table import QTable
 
 
 # size: an immutable record: __init__ (44 lines, its checks in helpers), one-line properties and short methods
@@ -77,9 +85,12 @@ class System(_Frozen):
     __slots__ = ("_n", "star", "planet", "_a", "_b", "_inc", "_mu", "_tatm", "_tfac",
                  "atmospheres", "observations", "grazing", "kepler_mismatch")
 
-    def __init__(self, star, planet, mean_molecular_weight=None, atmosphere_temperature=None,
-                 atmosphere_temperature_factor=1.0, atmospheres=None, observations=None,
-                 warn_kepler=False):
+    def __init__(self, star: Star, planet: Planet, mean_molecular_weight: npt.ArrayLike | None = None,
+                 atmosphere_temperature: QuantityLike | None = None,
+                 atmosphere_temperature_factor: npt.ArrayLike = 1.0,
+                 atmospheres: Sequence[Mapping[str, Any] | None] | None = None,
+                 observations: Sequence[Mapping[str, Any] | None] | None = None,
+                 warn_kepler: bool = False) -> None:
         if not isinstance(star, Star):
             raise InputError("star", type(star).__name__, "a snrkit.Star")
         if not isinstance(planet, Planet):
@@ -119,14 +130,14 @@ class System(_Frozen):
     inclination_rad = property(lambda self: self._inc, doc="inclination [rad]")
     mean_molecular_weight = property(lambda self: self._mu, doc="mu used for H [g/mol]")
 
-    def select(self, name):
+    def select(self, name: str | Sequence[str]) -> System:
         """Return the sub-system holding only the planet called ``name``."""
         idx = np.flatnonzero(self.planet.name == name)
         if idx.size == 0:
             raise InputError("--planet", name, "one of " + ", ".join(self.planet.name))
         return self.take(idx)
 
-    def take(self, idx):
+    def take(self, idx: int | Sequence[int] | np.ndarray) -> System:
         """Return the sub-system of the planets at integer positions ``idx``."""
         idx = np.atleast_1d(np.asarray(idx, dtype=int))
         s, p = self.star, self.planet
@@ -155,14 +166,14 @@ class System(_Frozen):
                           atmospheres=[self.atmospheres[i] for i in idx],
                           observations=[self.observations[i] for i in idx])
 
-    def derived_arrays(self):
+    def derived_arrays(self) -> dict[str, np.ndarray]:
         """All derived quantities as a dict of SI numpy arrays (compute layer).
 
         See :meth:`derived` for the list and the published methods.
         """
         return derive(self)
 
-    def derived(self):
+    def derived(self) -> QTable:
         """Derived quantities of every planet as an astropy Table.
 
         Columns (one row per planet): ``name``, ``surface_gravity`` [m s-2],

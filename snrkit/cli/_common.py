@@ -121,7 +121,11 @@ def write_table(table, path):
     FITS: units that the FITS standard does not name (``earthRad``, ``earthMass``)
     go into the column description and the table's settings into one JSON
     header value (``SNRKIT``), so the file reads back without warnings.
+    Time columns (calendar, plan) are written as astropy writes them: ISO
+    strings with their scale in ECSV, two-part Julian dates with their time
+    scale in FITS (read back with ``Table.read(..., astropy_native=True)``).
     """
+    import contextlib
     import json
     from pathlib import Path
     from ..io.atomic import atomic_path
@@ -132,15 +136,20 @@ def write_table(table, path):
     if fmt == "fits":
         for name in out.colnames:
             col = out[name]
-            if col.unit is not None:
+            if getattr(col, "unit", None) is not None:   # Time columns have no unit
                 try:
                     col.unit.to_string("fits")
                 except ValueError:
                     col.description = f"{col.description or name} [{col.unit.to_string()}]"
                     col.unit = None
         out.meta = {"SNRKIT": json.dumps(jsonable(dict(table.meta)), separators=(",", ":"))}
-    with atomic_path(path) as tmp:
-        out.write(tmp, format=fmt, overwrite=True)
+    with contextlib.ExitStack() as stack:
+        if any(col.__class__.__name__ == "Time" for col in out.itercols()):
+            # UTC Time columns are formatted by ERFA, which warns past its leap-second table
+            from ..planning.calendar import offline_time
+            stack.enter_context(offline_time())
+        with atomic_path(path) as tmp:
+            out.write(tmp, format=fmt, overwrite=True)
 
 
 def one_mode(args, command):

@@ -48,16 +48,18 @@ def _seasons(values):
 
 def windows_json(table):
     """The JSON object of a :func:`snrkit.planning.calendar.transit_windows` table."""
+    from ..planning.calendar import iso_strings
     planets = []
     for name in table.meta["planets"]:
         rows = table[table["planet"] == name]
+        mid, start, end = (iso_strings(rows[c]) for c in ("mid_utc", "start_utc", "end_utc"))
         planets.append({"name": name, "windows": [
-            {"epoch": int(r["epoch"]), "mid_bjd_tdb": float(r["mid_bjd_tdb"]),
-             "mid_utc": str(r["mid_utc"]), "start_utc": str(r["start_utc"]),
-             "end_utc": str(r["end_utc"]), "sigma_minutes": float(r["sigma_minutes"]),
+            {"epoch": int(r["epoch"]), "mid_bjd_tdb": float(r["mid_bjd_tdb"].jd),
+             "mid_utc": mid[i], "start_utc": start[i], "end_utc": end[i],
+             "sigma_minutes": float(r["sigma_minutes"]),
              "duration_hours": float(r["duration_hours"]),
              "observable": bool(r["observable"]), "reason": str(r["reason"]) or None}
-            for r in rows]})
+            for i, r in enumerate(rows)]})
     return {"planets": planets, "observatory": table.meta["observatory"],
             "from_utc": table.meta["from_utc"], "to_utc": table.meta["to_utc"],
             "notes": table.meta["notes"]}
@@ -65,6 +67,8 @@ def windows_json(table):
 
 def format_windows(table):
     """Plain-text listing of a windows table."""
+    from ..planning.calendar import iso_strings
+    mid, start, end = (iso_strings(table[c]) for c in ("mid_utc", "start_utc", "end_utc"))
     lines = [f"transit windows {table.meta['from_utc'][:16]} to {table.meta['to_utc'][:16]} UTC",
              f"  observatory: {table.meta['observatory']}",
              f"  window: {table.meta['window']}; baseline {table.meta['baseline']}, "
@@ -72,9 +76,8 @@ def format_windows(table):
     head = ("planet", "epoch", "mid (UTC)", "start (UTC)", "end (UTC)", "sigma [min]",
             "length [h]", "observable")
     rows = [head]
-    for r in table:
-        rows.append((str(r["planet"]), str(int(r["epoch"])), str(r["mid_utc"])[:16],
-                     str(r["start_utc"])[:16], str(r["end_utc"])[:16],
+    for i, r in enumerate(table):
+        rows.append((str(r["planet"]), str(int(r["epoch"])), mid[i][:16], start[i][:16], end[i][:16],
                      f"{float(r['sigma_minutes']):.1f}", f"{float(r['duration_hours']):.2f}",
                      "yes" if r["observable"] else "no: " + str(r["reason"])))
     widths = [max(len(row[j]) for row in rows) for j in range(len(head) - 1)]

@@ -18,6 +18,10 @@ Everything runs on whole arrays over the planet axis; the result holds one
 summary record per planet plus an xarray Dataset of curves and spectra.
 """
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from ..errors import InputError
@@ -35,6 +39,13 @@ __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamin
            "MAX_SCALE_HEIGHT_RATIO", "JEANS_PARAMETER_MIN", "HYDROGEN_RICH_MU", "STATUSES",
            "TEST_STATISTICS"]
 
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Sequence
+    from typing import Any
+    from ..bodies.system import System
+    from ..units import PathLike, QuantityLike
+
+
 #: Test kinds: "atmosphere" (vs a flat line), "species" (one molecule removed),
 #: "against" (another scenario), and the goodness of fit of a flat line.
 TESTS = ("atmosphere", "species", "against", hy.GOODNESS_OF_FIT)
@@ -44,7 +55,8 @@ STATUSES = ("ok", "not_reachable", "no_signal", "saturated", "unbound_atmosphere
 
 
 # size: the docstring documents every option of the public entry point; the body is 20 lines
-def transits_for_system(system, mode, scenario=None, *, dataset=True, **options):
+def transits_for_system(system: System, mode: str | PathLike, scenario: str | PathLike | None = None, *,
+                        dataset: bool = True, **options: Any) -> dict[str, Any]:
     """How many transits each planet needs to pass a test, and what they cost.
 
     Parameters
@@ -173,10 +185,12 @@ def _one_scenario(system, mode, scenario, *, resolution=None, bin_edges=None, fl
             "notes": list(dict.fromkeys(obs["notes"] + notes))}
 
 
-def contrast_for_system(system, mode, scenarios, *, sigma=5.0, n_max=DEFAULT_MAX_TRANSITS,
-                        resolution=None, bin_edges=None, floor_ppm=None,
-                        floor_averages_down=None, baseline=None, overhead_hours=None,
-                        solver="analytic", readout=None):
+def contrast_for_system(system: System, mode: str | PathLike, scenarios: str | Sequence[str], *,
+                        sigma: float = 5.0, n_max: int = DEFAULT_MAX_TRANSITS,
+                        resolution: float | str | None = None, bin_edges: QuantityLike | None = None,
+                        floor_ppm: float | None = None, floor_averages_down: bool | None = None,
+                        baseline: float | str | None = None, overhead_hours: float | None = None,
+                        solver: str = "analytic", readout: int | str | None = None) -> dict[str, Any]:
     """Transits needed to tell every ordered pair of scenarios apart.
 
     For each planet and each ordered pair (A true, B rejected) this is the

@@ -34,15 +34,18 @@ have the right dimension.  Unknown keys are errors that suggest the
 closest valid key.
 """
 
+from __future__ import annotations
+
 import difflib
 import os
 import warnings
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..errors import InputError, UnknownKeyError
-from ..units import parse_number, scalar_si
+from ..units import PathLike, parse_number, scalar_si
 from .tomlfile import read_toml, loads_toml
 from ..bodies.limits import BANDS
 from ..bodies.planet import Planet
@@ -51,6 +54,10 @@ from ..bodies.system import System
 
 __all__ = ["load_system", "read_system_text", "STAR_KEYS", "PLANET_KEYS", "OBSERVATION_KEYS", "TOP_KEYS",
            "OVERHEAD_MAX_HOURS"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Sequence
+
 
 TOP_KEYS = {"star": "table", "planet": "array of tables", "title": "text", "notes": "text"}
 
@@ -212,7 +219,7 @@ def _atmosphere_summary(atm, where):
     return float(mu), temp, float(sc.temperature_factor)
 
 
-def read_system_text(text, source="<text>"):
+def read_system_text(text: str, source: str = "<text>") -> System:
     """Build a :class:`~snrkit.bodies.system.System` from system-file text.
 
     Parameters
@@ -311,7 +318,7 @@ def _stack_planets(singles):
                   redistribution=cat("_redist"), name=cat("_name"))
 
 
-def load_system(path, planet=None):
+def load_system(path: PathLike, planet: str | Sequence[str] | None = None) -> System:
     """Read a system file.
 
     Parameters

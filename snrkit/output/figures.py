@@ -235,7 +235,7 @@ def plot_timeline(table, title=None, ax=None, fit_windows=False):
     Parameters
     ----------
     table : astropy.table.Table
-        A :func:`snrkit.calendar.transit_windows` result (or the plan's chosen windows).
+        A :func:`snrkit.planning.calendar.transit_windows` result (or the plan's chosen windows).
     title : str, optional
     ax : matplotlib.axes.Axes, optional
     fit_windows : bool
@@ -251,8 +251,9 @@ def plot_timeline(table, title=None, ax=None, fit_windows=False):
     names = list(dict.fromkeys(table.meta.get("planets", []) or list(table["planet"])))
     fig, ax = new_axes(ax, (10.0, 1.6 + 0.55 * max(len(names), 1)))
     if len(table):
-        t1 = mdates.date2num(np.asarray(table["start_utc"], dtype="datetime64[s]"))
-        t2 = mdates.date2num(np.asarray(table["end_utc"], dtype="datetime64[s]"))
+        from ..planning.calendar import iso_strings
+        t1, t2 = (mdates.date2num(np.asarray(iso_strings(table[c]), dtype="datetime64[s]"))
+                  for c in ("start_utc", "end_utc"))
         row = np.array([names.index(p) for p in table["planet"]])
         ok = np.asarray(table["observable"], dtype=bool)
         # edges in the face colour keep windows of a few hours visible on a

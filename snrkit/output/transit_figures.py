@@ -9,12 +9,23 @@ here is a seeded noise realisation of the stacked spectrum
 (:func:`simulated_spectrum`), with the noise of :func:`snrkit.detect.noise_per_bin`.
 """
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from .figures import legend_below, new_axes, plain_log_ticks, wavelength_axis
 
 __all__ = ["plot_transits", "plot_significance", "plot_simulated_spectrum", "plot_spectrum",
            "simulated_spectrum", "display_bins", "band_labels", "flat_spectra", "BAND_MARKS"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Mapping, Sequence
+    from typing import Any
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
+
 
 #: Main bands marked on spectra: species -> centres [µm] (standard band
 #: centres, e.g. the HITRAN band list; rounded).
@@ -111,7 +122,7 @@ def _reached_curves(ax, ds, planet, ntr):
                 label=f"reached with {chance:.0%} probability{extra}".replace("%", " %"))
 
 
-def plot_significance(result, planet=0, ax=None):
+def plot_significance(result: Mapping[str, Any], planet: int | str = 0, ax: Axes | None = None) -> Figure:
     """Expected significance against transits, with the probability of a detection.
 
     The left axis is the significance of the noise-free data (the median
@@ -232,7 +243,7 @@ def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
     return fig
 
 
-def plot_transits(result, seed=0, axes=None):
+def plot_transits(result: Mapping[str, Any], seed: int = 0, axes: Sequence[Axes] | None = None) -> Figure:
     """Significance against transits and a simulated spectrum, one row per planet.
 
     Parameters

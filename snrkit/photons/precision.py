@@ -74,7 +74,10 @@ default (``in_transit="weighted"``); ``"t14"`` and ``"t23"`` remain
 available.
 """
 
+from __future__ import annotations
+
 import warnings
+from typing import TYPE_CHECKING
 
 import numpy as np
 import astropy.units as u
@@ -94,6 +97,16 @@ from .inputs import _check_readout, _n_planets, _normalised_spectrum, _timing_in
 __all__ = ["SaturationWarning", "BinningNote", "IN_TRANSIT_CHOICES", "DEFAULT_RESOLUTION",
            "readout_candidates", "resolution_elements", "TERMS", "native_bin_edges",
            "resolution_bin_edges", "choose_readout", "rebin_rates", "transit_precision"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from collections.abc import Sequence
+    import numpy.typing as npt
+    import xarray
+    from ..labelled import Labelled
+    from ..units import PathLike, QuantityLike
+    from .mode import Mode
+    from .stellar_spectrum import StellarSpectrum
+
 
 #: Names of the noise-budget terms, in the order of the ``term`` axis.
 TERMS = ("photon", "background", "dark", "read", "floor")
@@ -152,12 +165,15 @@ def _merged(mode, edges, what):
 
 # size: the docstring documents eighteen public parameters and the returned variables;
 # the body is a short list of steps, each a helper
-def transit_precision(mode, *, magnitude, band="J", transit_duration, teff=None,
-                      in_transit_time=None, baseline=None, baseline_factor=1.0,
-                      depth=0.0, n_transits=1, readout="auto", floor_ppm=None,
-                      floor_averages_down=None, resolution=None, bin_edges=None,
-                      spectrum=None, planet=None, warn=True, readout_options=False,
-                      as_arrays=False):
+def transit_precision(mode: str | PathLike | Mode, *, magnitude: npt.ArrayLike, band: str = "J",
+                      transit_duration: QuantityLike, teff: QuantityLike | None = None,
+                      in_transit_time: QuantityLike | str | None = None, baseline: QuantityLike | None = None,
+                      baseline_factor: float = 1.0, depth: npt.ArrayLike = 0.0, n_transits: int = 1,
+                      readout: int | str = "auto", floor_ppm: float | None = None,
+                      floor_averages_down: bool | None = None, resolution: float | str | None = None,
+                      bin_edges: QuantityLike | None = None, spectrum: StellarSpectrum | PathLike | None = None,
+                      planet: str | Sequence[str] | None = None, warn: bool = True,
+                      readout_options: bool = False, as_arrays: bool = False) -> xarray.Dataset | Labelled:
     """Per-bin transit-depth precision of one transit (and of ``n_transits``).
 
     All per-planet inputs accept one value or one value per planet; bare

@@ -1,5 +1,9 @@
 """Stellar spectra: Planck or a user's file, normalised to a magnitude, with photometry through the bands."""
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
 from pathlib import Path
 
 import numpy as np
@@ -12,6 +16,10 @@ from .sed import (_PLANCK_GRID_M, _band, _check_covers, _loglog_interp, band_mea
 
 __all__ = ["StellarSpectrum", "planck_spectrum", "read_spectrum", "stellar_flux_density",
            "synthetic_magnitude"]
+
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    import numpy.typing as npt
+    from ..units import PathLike
 
 
 def _planck_band_mean(teff_k, band):
@@ -73,7 +81,7 @@ class StellarSpectrum:
         """(shortest, longest) wavelength covered [m]."""
         return float(self.wavelength_m[0]), float(self.wavelength_m[-1])
 
-    def normalised(self, magnitude, band):
+    def normalised(self, magnitude: npt.ArrayLike, band: str) -> StellarSpectrum:
         """Return a copy scaled so that its magnitude in ``band`` is ``magnitude``.
 
         The spectrum's mean flux density over the band's response curve
@@ -114,7 +122,7 @@ class StellarSpectrum:
         scale = normalise_to_band_si(self.wavelength_m, shape, mag, band)
         return StellarSpectrum(self.wavelength_m, shape * scale[:, None], self.origin)
 
-    def magnitude(self, band):
+    def magnitude(self, band: str) -> np.ndarray:
         """Synthetic magnitude of each star in ``band``.
 
         Planck stars are integrated exactly (up to the quadrature); sampled
@@ -183,7 +191,7 @@ def planck_spectrum(teff):
 _FLUX_UNIT = u.W / u.m**3
 
 
-def read_spectrum(path):
+def read_spectrum(path: PathLike) -> StellarSpectrum:
     """Read a user stellar spectrum file.
 
     Parameters

@@ -7,6 +7,10 @@ tables, then calls :func:`snrkit.photons.precision.transit_precision`;
 magnitudes of a mode.
 """
 
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
 
 import numpy as np
 import astropy.units as u
@@ -20,9 +24,20 @@ from .precision import IN_TRANSIT_CHOICES, transit_precision
 
 __all__ = ["limiting_magnitudes", "system_precision"]
 
+if TYPE_CHECKING:   # annotations only: not imported at run time
+    from typing import Any
+    import xarray
+    from ..bodies.system import System
+    from ..labelled import Labelled
+    from ..units import PathLike, QuantityLike
+    from .mode import Mode
+    from .stellar_spectrum import StellarSpectrum
 
-def limiting_magnitudes(mode, teff, band="J", *, transit_duration=3.0,
-                        baseline_factor=1.0, reference_wavelength=None, spectrum=None):
+
+def limiting_magnitudes(mode: str | PathLike | Mode, teff: QuantityLike, band: str = "J", *,
+                        transit_duration: QuantityLike = 3.0, baseline_factor: float = 1.0,
+                        reference_wavelength: QuantityLike | None = None,
+                        spectrum: StellarSpectrum | PathLike | None = None) -> dict[str, Any]:
     """Brightest usable magnitude and the magnitude where the floor equals photon noise.
 
     Parameters
@@ -99,10 +114,15 @@ def _common(values, field, names):
     return first
 
 
-def system_precision(system, mode=None, *, band=None, n_transits=None, in_transit=None,
-                     baseline=None, readout=None, floor_ppm=None, floor_averages_down=None,
-                     resolution=None, bin_edges=None, spectrum=None, warn=True,
-                     readout_options=False, as_arrays=False):
+def system_precision(system: System, mode: str | PathLike | Mode | None = None, *,
+                     band: str | None = None, n_transits: int | None = None,
+                     in_transit: str | None = None, baseline: QuantityLike | None = None,
+                     readout: int | str | None = None, floor_ppm: float | None = None,
+                     floor_averages_down: bool | None = None, resolution: float | str | None = None,
+                     bin_edges: QuantityLike | None = None,
+                     spectrum: StellarSpectrum | PathLike | None = None, warn: bool = True,
+                     readout_options: bool = False,
+                     as_arrays: bool = False) -> xarray.Dataset | Labelled:
     """Per-bin transit-depth precision for every planet of a :class:`snrkit.System`.
 
     A thin wrapper of :func:`transit_precision`: Teff, the magnitude in

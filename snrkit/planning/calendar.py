@@ -83,7 +83,7 @@ from .observability import (GROUND_SAMPLE_MINUTES, SPACE_SAMPLE_HOURS, altitude_
 from .observatories import (DEFAULT_ELONGATION_DEG, DEFAULT_MIN_ALTITUDE_DEG,
                             DEFAULT_SUN_ALTITUDE_DEG, GroundSite, SpaceObservatory,
                             bjd_to_utc, parse_observatory)
-from .timescales import observer_times, offline_time
+from .timescales import iso_strings, observer_times, offline_time, tdb_column, utc_column
 from .windows import MAX_LIGHT_TIME_S, transit_windows
 
 __all__ = [
@@ -94,5 +94,5 @@ __all__ = [
     "offline_time", "epoch_grid", "timing_sigma", "window_half_width",
     "elongation_deg", "altitude_deg", "in_any_season",
     "observer_times", "bjd_to_utc", "altitudes_deg", "predict_transits", "transit_windows",
-    "CalendarWarning",
+    "CalendarWarning", "utc_column", "tdb_column", "iso_strings",
 ]

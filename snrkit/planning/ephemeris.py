@@ -15,7 +15,7 @@ import astropy.units as u
 from ..constants import DAY
 from ..errors import InputError, SnrkitWarning
 from ..units import to_si, check_range
-from .timescales import _tdb_jd_of, offline_time
+from .timescales import _tdb_jd_of, offline_time, tdb_column
 
 __all__ = ["DEFAULT_PADDING_SIGMA", "DEFAULT_BASELINE_T14", "MAX_RANGE_YEARS", "MAX_WINDOWS",
            "CalendarWarning", "parse_date", "parse_baseline", "epoch_grid", "timing_sigma",
@@ -254,7 +254,8 @@ def predict_transits(system, start, end):
     -------
     astropy.table.Table
         One row per transit whose BJD_TDB lies in the range: ``planet``,
-        ``epoch``, ``mid_bjd_tdb`` [d], ``sigma_minutes`` [min].
+        ``epoch``, ``mid_bjd_tdb`` (astropy Time, scale TDB, format jd),
+        ``sigma_minutes`` [min].
 
     Raises
     ------
@@ -271,8 +272,7 @@ def predict_transits(system, start, end):
     tab = Table()
     tab["planet"] = np.asarray(system.planet.name)[idx].astype(str)
     tab["epoch"] = n
-    tab["mid_bjd_tdb"] = mid
-    tab["mid_bjd_tdb"].unit = u.day
+    tab["mid_bjd_tdb"] = tdb_column(mid)
     tab["sigma_minutes"] = sig / 60.0
     tab["sigma_minutes"].unit = u.min
     tab.meta["method"] = ("linear ephemeris T0 + n P; sigma_n^2 = sigma_T0^2 + n^2 sigma_P^2 "

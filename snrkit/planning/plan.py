@@ -46,7 +46,9 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
         this exceeds the N (T14 + baseline + overhead) of ``snrkit transits``
         by the padding), ``span_days`` / ``span_years`` (first window start
         to last window end), ``observable_fraction``; ``programme``: total
-        hours and the longest span; ``table``: every window as an astropy Table.
+        hours and the longest span; ``table``: every window as an astropy Table
+        (times as astropy Time columns, see
+        :func:`snrkit.planning.calendar.transit_windows`).
     """
     from astropy.time import Time
     from . import calendar as cal
@@ -87,7 +89,6 @@ def programme_plan(system, mode, scenario=None, *, test=None, sigma=5.0, start="
 
 def _planet_plan(rec, table, overhead, years):
     """One planet's record: its windows, the first ``transits_needed`` observable ones, hours."""
-    from astropy.time import Time
     from . import calendar as cal
     rows = table[table["planet"] == rec["name"]]
     obs_rows = rows[np.asarray(rows["observable"], dtype=bool)]
@@ -99,13 +100,7 @@ def _planet_plan(rec, table, overhead, years):
     # hours (T14 + baseline + overhead per visit) do not
     k_pad = float(table.meta.get("padding_sigma", cal.DEFAULT_PADDING_SIGMA))
     padding = float(np.sum(2.0 * k_pad * np.asarray(chosen["sigma_minutes"], dtype=np.float64)) / 60.0)
-    if len(chosen):
-        with cal.offline_time():   # dates past the bundled leap-second table
-            a = Time(str(chosen["start_utc"][0]), scale="utc")
-            b = Time(str(chosen["end_utc"][-1]), scale="utc")
-            span = float(b.jd - a.jd)
-    else:
-        span = None
+    span = float(chosen["end_utc"][-1].jd - chosen["start_utc"][0].jd) if len(chosen) else None
     enough = bool(n) and len(chosen) == n
     record = {
         "name": rec["name"], "scenario": rec["scenario"], "test": rec["test"],
@@ -120,8 +115,10 @@ def _planet_plan(rec, table, overhead, years):
         "timing_padding_hours": padding if enough else None, "padding_sigma": k_pad,
         "span_days": span if enough else None,
         "span_years": (span / 365.25) if (span is not None and enough) else None,
-        "windows": [{"epoch": int(r["epoch"]), "mid_utc": str(r["mid_utc"]),
-                     "start_utc": str(r["start_utc"]), "end_utc": str(r["end_utc"]),
-                     "sigma_minutes": float(r["sigma_minutes"])} for r in chosen],
+        # ISO strings here (the records go to JSON); the table keeps Time columns
+        "windows": [{"epoch": int(r["epoch"]), "mid_utc": m, "start_utc": a, "end_utc": b,
+                     "sigma_minutes": float(r["sigma_minutes"])}
+                    for r, m, a, b in zip(chosen, *(cal.iso_strings(chosen[c]) for c in
+                                                    ("mid_utc", "start_utc", "end_utc")))],
     }
     return record, hours, span, enough

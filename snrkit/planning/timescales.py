@@ -16,7 +16,7 @@ import astropy.units as u
 
 from ..constants import DAY
 
-__all__ = ["offline_time", "observer_times"]
+__all__ = ["offline_time", "observer_times", "utc_column", "tdb_column", "iso_strings"]
 
 
 @contextlib.contextmanager
@@ -104,11 +104,39 @@ def observer_times(bary_jd, ra_rad, dec_rad, location=None):
     return obs, np.asarray(delta)
 
 
-def _utc_isot(jd_tdb, location=None):
+def utc_column(jd_tdb, location=None):
+    """TDB Julian dates [d] at the observer as a UTC Time column (ISO format, whole seconds shown).
+
+    The column keeps the full two-part Julian date (``precision`` only sets how
+    many decimals of the second are shown) and carries no location, so it
+    writes to ECSV and FITS as it is.  Formatting UTC past the bundled
+    leap-second table (about five years ahead) makes ERFA warn of a "dubious
+    year": format such columns inside :func:`offline_time`.
+    """
+    from astropy.time import Time
     with offline_time():
         t = _times(jd_tdb, location=location).utc
-        t.precision = 0
-        return np.asarray(t.isot, dtype=str)
+        out = Time(t.jd1, t.jd2, format="jd", scale="utc")
+    out.format = "isot"
+    out.precision = 0
+    return out
+
+
+def tdb_column(jd_tdb):
+    """BJD_TDB [d] as a TDB Time column in Julian-date format (no location: barycentric)."""
+    return _times(jd_tdb)
+
+
+def iso_strings(times):
+    """ISO strings (UTC, as the column shows them) of a Time column, formatted offline.
+
+    A column of strings (a windows table read from CSV) is returned as strings.
+    """
+    from astropy.time import Time
+    if not isinstance(times, Time):
+        return [str(x) for x in times]
+    with offline_time():
+        return [str(x) for x in np.atleast_1d(times.isot)]
 
 
 def _tdb_jd_of(time):

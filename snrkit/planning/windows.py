@@ -14,7 +14,7 @@ import astropy.units as u
 from ..constants import AU, C_LIGHT, DAY, HOUR
 from ..errors import InputError
 from ..units import check_range
-from .timescales import _tdb_jd_of, _utc_isot, observer_times, offline_time
+from .timescales import _tdb_jd_of, observer_times, offline_time, tdb_column, utc_column
 from .ephemeris import (CalendarWarning, DEFAULT_BASELINE_T14, DEFAULT_PADDING_SIGMA, _ephemeris,
                         _range, epoch_grid, parse_baseline, timing_sigma, window_half_width)
 from .observability import _ground_constraints, _space_constraints
@@ -58,8 +58,10 @@ def transit_windows(system, start, end, observatory="space", baseline=DEFAULT_BA
     -------
     astropy.table.Table
         One row per window, in time order: ``planet``, ``epoch``,
-        ``mid_bjd_tdb`` [d], ``mid_utc``, ``start_utc``, ``end_utc`` (ISO,
-        at the observer), ``sigma_minutes`` [min], ``duration_hours`` [h],
+        ``mid_bjd_tdb`` (astropy Time, scale TDB, format jd: barycentric),
+        ``mid_utc``, ``start_utc``, ``end_utc`` (astropy Time, scale UTC,
+        format isot shown to the second, at the observer; format them inside
+        :func:`offline_time` past 2029), ``sigma_minutes`` [min], ``duration_hours`` [h],
         ``light_time_s`` [s] (barycentric correction removed),
         ``observable`` (bool), ``reason`` (empty when observable), and the
         constraint values (``min_elongation_deg``/``max_elongation_deg`` in
@@ -181,11 +183,10 @@ def _windows_table(system, idx, n, bary, sig, obs, ltt, half, start_jd, end_jd, 
     tab = Table()
     tab["planet"] = np.asarray(system.planet.name)[idx].astype(str)
     tab["epoch"] = n.astype(np.int64)
-    tab["mid_bjd_tdb"] = bary
-    tab["mid_bjd_tdb"].unit = u.day
-    tab["mid_utc"] = _utc_isot(obs, location)
-    tab["start_utc"] = _utc_isot(start_jd, location)
-    tab["end_utc"] = _utc_isot(end_jd, location)
+    tab["mid_bjd_tdb"] = tdb_column(bary)
+    tab["mid_utc"] = utc_column(obs, location)
+    tab["start_utc"] = utc_column(start_jd, location)
+    tab["end_utc"] = utc_column(end_jd, location)
     tab["sigma_minutes"] = sig / 60.0
     tab["sigma_minutes"].unit = u.min
     tab["duration_hours"] = 2.0 * half / HOUR
