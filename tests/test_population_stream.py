@@ -1,5 +1,8 @@
 """A population file read in chunks (snrkit.planning.population.stream): per-row
-status and yields identical to a whole-file read, whatever the chunk size."""
+status and yields identical to a whole-file read, whatever the chunk size.
+
+These are consistency checks (a chunk within a file, nested as one planet within a
+catalogue), so no outside source is needed: the whole-file read is the reference."""
 
 import warnings
 
