@@ -219,9 +219,9 @@ def test_plan_starts_today_by_default(capsys, monkeypatch):
     import datetime
     from snrkit.cli import plan as plan_cmd
     today = datetime.datetime.now(datetime.timezone.utc).date().isoformat()
-    assert plan_cmd._today_utc() == today
+    assert plan_cmd.today_utc() == today
     # the default start is that date: moved to 2031, the windows follow
-    monkeypatch.setattr(plan_cmd, "_today_utc", lambda: "2031-03-01")
+    monkeypatch.setattr(plan_cmd, "today_utc", lambda: "2031-03-01")
     cedar = str(data_path("demo", "cedar.toml"))
     rc, out, _ = run_cli(capsys, "plan", cedar, "--planet", "Cedar b", "--mode",
                          "cold6m-prism-lowres", "--years", "1", "--json")

@@ -70,6 +70,8 @@ def test_report_command_on_a_catalogue(tmp_path, capsys):
     (["x.txt", "--out", "r.html"], "TARGET"),
     (["a.ecsv", "b.ecsv", "--out", "r.html"], "TARGET"),
     ([str(data_path("demo", "catalogue.ecsv")), "--out", "r.pdf"], "--out"),
+    # the engine's one rule for a target significance, (0, 37] sigma, not a report's own
+    ([str(data_path("demo", "alder.toml")), "--out", "r.html", "--sigma", "50"], "sigma"),
 ])
 def test_report_command_refuses_bad_input(argv, field, tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)

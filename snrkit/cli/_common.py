@@ -152,6 +152,18 @@ def write_table(table, path):
             out.write(tmp, format=fmt, overwrite=True)
 
 
+def add_target_options(p, transits_help="largest number of transits considered (default 500)"):
+    """``--sigma`` and ``--max-transits``, the same in every command that counts transits."""
+    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
+    p.add_argument("--max-transits", type=int, default=500, metavar="N", help=transits_help)
+
+
+def today_utc():
+    """Today's date in UTC (YYYY-MM-DD), the default start of a calendar search."""
+    import datetime
+    return datetime.datetime.now(datetime.timezone.utc).date().isoformat()
+
+
 def one_mode(args, command):
     """The single --mode of a command that takes one (None: the system file's)."""
     modes = list(dict.fromkeys(getattr(args, "mode", None) or []))

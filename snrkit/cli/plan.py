@@ -1,6 +1,7 @@
 """``snrkit plan SYSTEM.toml ... --mode M``: the observing programme for a target list."""
 
-from ._common import one_mode, print_json, print_notes, check_output_path, write_table
+from ._common import (one_mode, print_json, print_notes, check_output_path, write_table,
+                      add_target_options, today_utc)
 from .transits import resolution_value
 
 __all__ = ["add_parser", "run"]
@@ -15,9 +16,7 @@ def add_parser(p):
                    help="scenario assumed true (default: each planet's [planet.atmosphere])")
     p.add_argument("--test", default="atmosphere",
                    help="atmosphere (default), species:GAS or against:SCENARIO")
-    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--max-transits", type=int, default=500, metavar="N",
-                   help="largest number of transits considered (default 500)")
+    add_target_options(p)
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100)")
     p.add_argument("--from", dest="start", default=None, metavar="DATE",
@@ -50,7 +49,7 @@ def run(args):
         seen.add(key)
         system = load_system(path, planet=args.planet)
         res = programme_plan(system, one_mode(args, "plan"), args.scenario, test=args.test, sigma=args.sigma,
-                             start=args.start or _today_utc(), years=args.years, observatory=args.observatory,
+                             start=args.start or today_utc(), years=args.years, observatory=args.observatory,
                              n_max=args.max_transits, resolution=resolution_value(args.resolution),
                              overhead_hours=args.overhead)
         results.append(res)
@@ -107,9 +106,3 @@ def run(args):
           "the timing padding of each window")
     print("planning estimate; official observatory tools govern real proposals")
     return 0
-
-
-def _today_utc():
-    """Today's date in UTC (YYYY-MM-DD), the default start of the search."""
-    import datetime
-    return datetime.datetime.now(datetime.timezone.utc).date().isoformat()

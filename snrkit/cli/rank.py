@@ -2,7 +2,7 @@
 
 import sys
 
-from ._common import print_json, print_notes
+from ._common import add_target_options, print_json, print_notes
 from .transits import resolution_value
 
 __all__ = ["add_parser", "run", "ProgressBar"]
@@ -21,9 +21,7 @@ def add_parser(p):
     p.add_argument("--test", default="atmosphere",
                    help="atmosphere (default), species:GAS, against:SCENARIO, or goodness-of-fit "
                         "(a flat line rejected at bins - 1 degrees of freedom)")
-    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--max-transits", type=int, default=500, metavar="N",
-                   help="largest number of transits considered (default 500)")
+    add_target_options(p)
     p.add_argument("--resolution", metavar="R",
                    help="resolving power of the bins, or 'native' (default 100, as for transits; "
                         "bins narrower than a resolution element are merged)")

@@ -27,8 +27,8 @@ def add_parser(p):
     p.add_argument("--gas", action="append", default=[], metavar="GAS",
                    help="also test this gas where the scenario has it (repeatable)")
     p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--start", default="2027-01-01", metavar="YYYY-MM-DD",
-                   help="first day of the calendar (default 2027-01-01)")
+    p.add_argument("--start", metavar="YYYY-MM-DD",
+                   help="first day of the calendar (default today, UTC)")
     p.add_argument("--years", type=float, default=5.0, help="length of the calendar (default 5)")
     p.add_argument("--json", action="store_true", help="also print the report's JSON document")
 
@@ -53,16 +53,13 @@ def _split_targets(targets):
 def run(args):
     import shlex
     import sys
-    from ..errors import InputError
     from ..output.report import write_report
     from ..output.report_data import DEFAULT_MODE, DEFAULT_SCENARIO, gather_catalogue, gather_targets
-    from ._common import check_output_path
+    from ._common import check_output_path, today_utc
     check_output_path(args.out, (".html",), "--out")
-    if not 0 < args.sigma <= 100:
-        raise InputError("--sigma", args.sigma, "a significance in (0, 100]")
     systems, catalogue = _split_targets(args.targets)
     entries, timeline = gather_targets(systems, mode=args.mode, scenario=args.scenario,
-                                       species=tuple(args.gas), sigma=args.sigma, start=args.start,
+                                       species=tuple(args.gas), sigma=args.sigma, start=args.start or today_utc(),
                                        years=args.years) if systems else ([], None)
     ranking = None
     if catalogue is not None:

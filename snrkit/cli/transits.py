@@ -1,6 +1,6 @@
 """``snrkit transits SYSTEM.toml --mode M``: transits needed for a detection."""
 
-from ._common import add_system_args, print_json, print_notes, check_output_path
+from ._common import add_system_args, add_target_options, print_json, print_notes, check_output_path
 
 __all__ = ["add_parser", "run", "add_observation_args", "parse_contamination", "resolution_value",
            "format_result", "plural", "compare_modes"]
@@ -11,9 +11,7 @@ def add_observation_args(p):
     p.add_argument("--mode", metavar="PRESET_OR_FILE", action="append",
                    help="instrument mode preset or file (default: observation.mode in the file); "
                         "`transits` takes it several times and compares the modes side by side")
-    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--max-transits", type=int, default=500, metavar="N",
-                   help="largest number of transits considered (default 500)")
+    add_target_options(p)
     p.add_argument("--resolution", metavar="R",
                    help="bin the spectrum to this resolving power, or 'native' for the mode's own "
                         "bins (default 100; bins narrower than a resolution element are merged)")

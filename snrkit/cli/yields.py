@@ -2,7 +2,7 @@
 
 import sys
 
-from ._common import print_json, check_output_path
+from ._common import add_target_options, print_json, check_output_path
 
 __all__ = ["add_parser", "run"]
 
@@ -34,9 +34,7 @@ def add_parser(p):
                         "is each planet's own scenario from the population")
     p.add_argument("--test", action="append", metavar="TEST",
                    help="atmosphere (default), species:GAS or against:SCENARIO (repeatable)")
-    p.add_argument("--sigma", type=float, default=5.0, help="target significance (default 5)")
-    p.add_argument("--max-transits", type=int, default=500, metavar="N",
-                   help="largest number of transits per planet (default 500)")
+    add_target_options(p, "largest number of transits per planet (default 500)")
     p.add_argument("--hours", type=float, metavar="H",
                    help="programme hours per planet for designs that set none (default: no limit)")
     p.add_argument("--resolution", metavar="R",
