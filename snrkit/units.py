@@ -32,7 +32,7 @@ __all__ = ["QuantityLike", "PathLike", "parse_quantity", "to_si", "check_range",
 #: number or array in the parameter's documented default unit (annotations only).
 QuantityLike = Union[u.Quantity, float, npt.ArrayLike]
 #: A file path as a string or an ``os.PathLike``.
-PathLike = Union[str, "os.PathLike[str]"]
+PathLike = Union[str, os.PathLike[str]]
 
 
 def parse_quantity(value, field, default_unit):
