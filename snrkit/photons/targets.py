@@ -76,12 +76,12 @@ def limiting_magnitudes(mode: str | PathLike | Mode, teff: QuantityLike, band: s
     ds = transit_precision(m, magnitude=mags, band=band, teff=teff,
                            transit_duration=transit_duration, baseline_factor=baseline_factor,
                            spectrum=spectrum, warn=False,
-                           bin_edges=edges[k:k + 2] * 1e6)
+                           bin_edges=edges[k:k + 2] * 1e6, as_arrays=True)
     # photon term of one transit, recomputed without the saturation mask
-    r = ds["photon_rate"].values[:, 0]
-    duty = ds["duty_cycle"].values
-    t_in = ds["in_transit_time"].values * HOUR
-    t_out = ds["baseline_time"].values * HOUR
+    r = ds["photon_rate"][:, 0]
+    duty = ds["duty_cycle"]
+    t_in = ds["in_transit_time"] * HOUR
+    t_out = ds["baseline_time"] * HOUR
     photon = np.sqrt(1.0 / (r * duty * t_in) + 1.0 / (r * duty * t_out)) * 1e6
     floor = m.floor_ppm
     above = photon > floor
@@ -91,7 +91,7 @@ def limiting_magnitudes(mode: str | PathLike | Mode, teff: QuantityLike, band: s
         j = int(np.argmax(above))   # first magnitude where photon noise exceeds the floor
         x0, x1 = np.log(photon[j - 1] / floor), np.log(photon[j] / floor)
         floor_mag = mags[j - 1] + (mags[j] - mags[j - 1]) * (0 - x0) / (x1 - x0)
-    sat = ds["saturation_limit_mag"].values[0]
+    sat = ds["saturation_limit_mag"][0]
     return {"saturation_mag": float(sat), "floor_mag": float(floor_mag),
             "reference_wavelength_um": float(0.5 * (edges[k] + edges[k + 1]) * 1e6),
             "floor_ppm": float(floor)}
