@@ -22,7 +22,7 @@ from ..constants import R_EARTH, M_EARTH
 from .rank_table import (SORT_KEYS, _STATUS_CLASS, _empty_columns, _ranked_table, _resolution_label,
                          _sort_key, _statistic)
 
-__all__ = ["rank_catalogue", "SORT_KEYS", "FILTER_KEYS", "DEFAULT_CHUNK"]
+__all__ = ["rank_catalogue", "run_chunk", "with_magnitudes", "SORT_KEYS", "FILTER_KEYS", "DEFAULT_CHUNK"]
 
 #: Accepted filter keys (see :func:`rank_catalogue`).
 FILTER_KEYS = ("radius_min", "radius_max", "teq_min", "teq_max", "habitable_zone_only",
@@ -144,7 +144,7 @@ def rank_catalogue(catalogue, modes, scenarios, *, test=None, sigma=5.0, n_max=5
     reason = np.array([str(r) for r in catalogue.reason], dtype=object)
     names = np.array([str(x) for x in catalogue.names], dtype=object)
     notes = {}
-    system, good = _with_magnitudes(catalogue, status, reason)
+    system, good = with_magnitudes(catalogue, status, reason)
     if system is not None and len(good):
         run_kw = dict(test=test, sigma=sigma, n_max=n_max, resolution=resolution,
                       probabilities=(), overhead_hours=overhead_hours, readout=readout,
@@ -214,7 +214,7 @@ def _evaluate_rows(system, good, modes, scs, run_kw, chunk, progress, out, statu
         idx = np.arange(s0, min(s0 + int(chunk), len(good)))
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", SnrkitWarning)
-            res = _run_chunk(system.take(idx), modes, scs, run_kw)
+            res = run_chunk(system.take(idx), modes, scs, run_kw)
         for w in caught:
             notes.setdefault(f"{type(w.message).__name__}: {w.message}"[:300], None)
         notes.update({n[:300]: None for n in res["notes"][:3]})
@@ -231,7 +231,7 @@ def _evaluate_rows(system, good, modes, scs, run_kw, chunk, progress, out, statu
     reason[good] = best_reason
 
 
-def _with_magnitudes(catalogue, status, reason):
+def with_magnitudes(catalogue, status, reason):
     """The usable rows that have a stellar magnitude; the others get ``missing_magnitude``."""
     system, good = catalogue.system, catalogue.good_index
     if system is None or not len(good):
@@ -247,7 +247,7 @@ def _with_magnitudes(catalogue, status, reason):
     return (system.take(np.flatnonzero(have)) if have.any() else None), good[have]
 
 
-def _run_chunk(sub, modes, scs, kw):
+def run_chunk(sub, modes, scs, kw):
     """The engine on a chunk of planets; if the chunk is refused, each planet alone.
 
     A row that the chain refuses gets status ``bad_value`` with the message as
@@ -263,13 +263,13 @@ def _run_chunk(sub, modes, scs, kw):
                     for c, v in _BAD_ROW.items()}
             cols["reason"] = np.full(shape, str(exc), dtype=object)
             return {"columns": cols, "notes": []}
-    parts = [_run_chunk(sub.take([i]), modes, scs, kw) for i in range(len(sub.names))]
+    parts = [run_chunk(sub.take([i]), modes, scs, kw) for i in range(len(sub.names))]
     return {"columns": {c: np.concatenate([p["columns"][c] for p in parts], axis=-1)
                         for c in parts[0]["columns"]},
             "notes": [x for p in parts for x in p["notes"]]}
 
 
-#: Columns of a row that the chain refused (see _run_chunk).
+#: Columns of a row that the chain refused (see run_chunk).
 _BAD_ROW = {"status": "bad_value", "reason": "", "mode": "", "scenario": "", "transits_needed": 0,
             "hours_per_transit": np.nan, "hours_total": np.nan,
             "significance_per_transit": np.nan, "limiting_term": "",

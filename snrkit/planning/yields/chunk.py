@@ -32,7 +32,7 @@ import numpy as np
 
 from ...planning.catalog import catalogue_from_table
 from ...engine.engine import parse_test
-from ...planning.rank import _run_chunk, _with_magnitudes
+from ..rank import run_chunk, with_magnitudes
 from ...atmosphere.scenarios import load_scenario
 
 __all__ = ["evaluate_chunk", "reached_mask", "ASSIGNED", "PLANET_COLUMNS", "UNCLASSIFIED", "YEAR_S"]
@@ -70,7 +70,7 @@ def _screen(table):
         bad = pre != "ok"
         status[bad] = pre[bad]
         reason[bad] = _labels(table, "reason", len(table), "")[bad]
-    system, good = _with_magnitudes(cat, status, reason)
+    system, good = with_magnitudes(cat, status, reason)
     if system is not None and len(good):
         keep = status[good] == "ok"
         if not keep.all():
@@ -85,7 +85,7 @@ def _engine_columns(system, mode, scs, kw, per_pass):
     parts = []
     for s0 in range(0, n, per_pass):
         sub = system.take(np.arange(s0, min(s0 + per_pass, n)))
-        res = _run_chunk(sub, [mode], scs, kw)
+        res = run_chunk(sub, [mode], scs, kw)
         parts.append({c: res["columns"][c][0] for c in ("status", "reason", "transits_needed",
                                                          "hours_total")})
     return {c: np.concatenate([p[c] for p in parts], axis=-1) for c in parts[0]}
