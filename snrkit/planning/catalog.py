@@ -65,7 +65,7 @@ from .mapping import (DEFAULT_COLUMNS, FIELDS, FORMATS, _FORMAT_NAMES, _resolve,
 from .screening import (_Status, _estimates, _field_values, _screen_missing, _screen_names,
                         _screen_ranges, _screened_system)
 
-__all__ = ["read_catalogue", "catalogue_from_table", "load_mapping", "Catalogue",
+__all__ = ["read_catalogue", "catalogue_from_table", "load_mapping", "read_table_file", "Catalogue",
            "FIELDS", "DEFAULT_COLUMNS", "STATUS_CODES", "FLAG_COLUMNS", "FORMATS"]
 
 #: status code -> meaning.
@@ -100,7 +100,12 @@ _ADDED = ("input_index", "status", "reason") + FLAG_COLUMNS
 # ----------------------------------------------------------------------------- reading
 
 
-def _read_table(path, format):
+def read_table_file(path, format):
+    """A catalogue or population file as an astropy Table (format from the name or given).
+
+    Unit strings astropy cannot parse and overflowing numbers are left to the
+    screening, which reports them per row and column.
+    """
     from astropy.table import Table
     path = Path(path)
     if format is None:
@@ -155,7 +160,7 @@ def read_catalogue(path, mapping=None, *, format=None):
     UnknownKeyError
         Unknown key in the mapping.
     """
-    table = _read_table(path, format)
+    table = read_table_file(path, format)
     return catalogue_from_table(table, mapping, source=str(path))
 
 

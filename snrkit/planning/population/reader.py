@@ -28,8 +28,8 @@ from pathlib import Path
 import numpy as np
 import astropy.units as u
 
-from ...planning.catalog import (DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping,
-                        _read_table)
+from ..catalog import (DEFAULT_COLUMNS, FIELDS, FLAG_COLUMNS, catalogue_from_table, load_mapping,
+                       read_table_file)
 from ...errors import InputError
 
 __all__ = ["read_population", "screen_population", "POPULATION_FORMATS", "COLUMN_STATUS_CODES"]
@@ -54,7 +54,7 @@ def _read(path, format):
                          "a file ending in .parquet, .pq, .csv or .ecsv, or format parquet, csv, ecsv")
     try:
         if fmt != "parquet":
-            return _read_table(path, fmt)
+            return read_table_file(path, fmt)
         return _read_parquet(path)
     except InputError as exc:      # the same message, naming the population
         raise InputError("POPULATION", exc.value, exc.allowed, detail=exc.detail) from None

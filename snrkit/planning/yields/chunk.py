@@ -30,7 +30,7 @@ yield is an upper bound.  Hours per transit are the engine's: T14 + baseline
 
 import numpy as np
 
-from ...planning.catalog import catalogue_from_table
+from ..catalog import catalogue_from_table
 from ...engine.engine import parse_test
 from ..rank import run_chunk, with_magnitudes
 from ...atmosphere.scenarios import load_scenario
