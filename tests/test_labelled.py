@@ -49,6 +49,27 @@ def test_spectrum_arrays_equal_the_dataset(scenario, contributions):
             ds["depth_without_species_ppm"].sel(species=gas).values)
 
 
+@pytest.mark.parametrize("contributions", [False, True])
+def test_each_scenario_of_a_stack_is_its_own_spectrum(contributions):
+    # nested consistency: a scenario within a list gives the spectrum it gives alone; the
+    # species axis of the stack is the union, NaN where a scenario lacks the species
+    from snrkit.atmosphere.spectrum import transmission_spectrum
+    args = ([2.0, 2.5] * u.R_earth, [0.5, 0.6] * u.R_sun)
+    names = ["h2-clear-solar", "steam", "co2-thick"]
+    many = transmission_spectrum(names, *args, contributions=contributions, **PLANETS)
+    assert list(many["scenario"].values) == names
+    for name in names:
+        one = transmission_spectrum(name, *args, contributions=contributions, **PLANETS)
+        part = many.sel(scenario=name)
+        for k in one.data_vars:
+            np.testing.assert_array_equal(part[k].sel(species=one["species"]).values
+                                          if "species" in one[k].dims else part[k].values,
+                                          one[k].values, err_msg=f"{name} {k}")
+        if contributions:
+            absent = sorted(set(many["species"].values) - set(one["species"].values))
+            assert np.all(np.isnan(part["depth_without_species_ppm"].sel(species=absent).values))
+
+
 def test_precision_arrays_equal_the_dataset():
     from snrkit.io.systemfile import load_system
     from snrkit.io.tables import data_path

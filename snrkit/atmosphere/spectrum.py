@@ -189,9 +189,8 @@ def transmission_spectrum(scenario, planet_radius, stellar_radius, *, planet_mas
         datasets.append(ds)
     attrs = _attributes(solver, n_g, p_top, refraction, radius_calibration, calibration_band,
                         n_layers)
-    if as_arrays:
-        return _stacked(datasets, contrib, scenarios, names, many, attrs)
-    return _combined([d.to_dataset() for d in datasets], contrib, scenarios, names, many, attrs)
+    out = _stacked(datasets, contrib, scenarios, names, many, attrs)
+    return out if as_arrays else out.to_dataset()
 
 
 #: Attributes of the depths with one species removed.
@@ -231,36 +230,8 @@ def _attributes(solver, n_g, p_top, refraction, radius_calibration, calibration_
     return attrs
 
 
-def _combined(datasets, contrib, scenarios, names, many, attrs):
-    """One Dataset (or one per scenario along a ``scenario`` axis), contributions included."""
-    if not many:
-        out = datasets[0]
-        out = out.assign_coords(scenario=scenarios[0].name)
-    else:
-        import xarray as xr
-        out = xr.concat(datasets, dim="scenario", join="outer", coords="different",
-                        compat="equals", combine_attrs="override")
-        out = out.assign_coords(scenario=("scenario", names))
-        out.attrs = {}
-        out["scenario_description"] = ("scenario", [s.description for s in scenarios])
-    if contrib:
-        import xarray as xr
-        arrays = [xr.DataArray(data, dims=("planet", "species", "wavelength"),
-                               coords={"species": sp}) for data, sp in contrib]
-        if many:
-            da = xr.concat(arrays, dim="scenario", join="outer", fill_value=np.nan,
-                           coords="minimal", compat="override")
-            da = da.assign_coords(scenario=("scenario", names))
-        else:
-            da = arrays[0]
-        da.attrs = dict(_CONTRIBUTION_ATTRS)
-        out["depth_without_species_ppm"] = da
-    out.attrs.update(attrs)
-    return out
-
-
 def _stacked(datasets, contrib, scenarios, names, many, attrs):
-    """What :func:`_combined` makes, as labelled arrays (the engine's form).
+    """One scenario's arrays, or several stacked on a ``scenario`` axis, contributions included.
 
     Several scenarios share the planets and bins, so every variable is
     stacked on a leading ``scenario`` axis; the species of the contributions
@@ -283,7 +254,7 @@ def _stacked(datasets, contrib, scenarios, names, many, attrs):
                       np.stack([d[k] if k in d else fill for d in datasets]), have.attrs_of(k))
         out["scenario_description"] = ("scenario", [s.description for s in scenarios])
     if contrib:
-        # the union of the scenarios' species, sorted as xarray's outer join sorts it
+        # the union of the scenarios' species, sorted (one order for any set of scenarios)
         species = (sorted({name for _, names_i in contrib for name in names_i}) if many
                    else list(contrib[0][1]))
         rows = []
