@@ -85,3 +85,61 @@ def test_evaluate_shapes_and_mode_once(cat):
         assert v.shape == (2, 2, 4), c
     assert out["scenarios"] == SCENARIOS
     assert set(out["columns"]["mode"][0].ravel()) == {MODES[0]}
+
+
+@pytest.mark.filterwarnings("ignore::snrkit.errors.SnrkitWarning")  # notes of random planets
+def test_designs_sharing_bins_solve_each_spectrum_once(cat, monkeypatch):
+    # modes that differ only in aperture and throughput have the same bins and calibration
+    # weights up to a factor, so one spectrum per scenario serves them all; the answers equal
+    # those of each mode alone
+    from snrkit.atmosphere import spectrum
+    from snrkit.planning.yields.designs import build_mode, design_from_text
+    modes = [build_mode(design_from_text(t, MODES[0]))[0]
+             for t in ("aperture_m=6", "aperture_m=9,throughput_scale=0.8")]
+    sub = cat.system.take(np.arange(8))
+    calls = []
+    real = spectrum.transmission_spectrum
+
+    def counted(*a, **k):
+        calls.append(1)
+        return real(*a, **k)
+
+    monkeypatch.setattr(spectrum, "transmission_spectrum", counted)
+    both = evaluate(sub, modes, SCENARIOS, resolution=30, probabilities=())
+    assert len(calls) == len(SCENARIOS)
+    for m, mode in enumerate(modes):
+        alone = evaluate(sub, [mode], SCENARIOS, resolution=30, probabilities=())["columns"]
+        for c in ("status", "transits_needed"):
+            assert np.array_equal(both["columns"][c][m], alone[c][0]), (m, c)
+        np.testing.assert_allclose(both["columns"]["significance_per_transit"][m],
+                                   alone["significance_per_transit"][0], rtol=1e-9)
+    # modes with other bins solve their own spectra
+    calls.clear()
+    evaluate(sub, MODES, SCENARIOS[:1], resolution=30, probabilities=())
+    assert len(calls) == len(MODES)
+
+
+def test_spectrum_reuse_rule():
+    # reused only for equal bins, solver and contributions and proportional weights
+    from snrkit.engine.engine import _scenario_spectrum
+    calls = []
+
+    def fake(sc, rp, rs, contributions=False, **kw):
+        calls.append(kw["calibration_weights"].copy())
+        return {"weights": kw["calibration_weights"].copy()}
+
+    def obs(weights, edges=(1.0, 2.0, 3.0), solver="analytic"):
+        return {"notes": [], "rp": np.ones(2), "rs": np.ones(2),
+                "spec_kw": {"calibration_weights": np.asarray(weights, dtype=float),
+                            "wavelength_edges": np.asarray(edges), "solver": solver}}
+
+    memo = []
+    w = np.array([[1.0, 2.0], [3.0, 1.0]])
+    first = _scenario_spectrum(memo, obs(w), "sc", False, fake)
+    assert _scenario_spectrum(memo, obs(7.5 * w), "sc", False, fake) is first
+    assert len(calls) == 1
+    for other in (obs(w * [1.0, 1.001]), obs(w, edges=(1.0, 2.0, 3.5)), obs(w, solver="layered")):
+        assert _scenario_spectrum(memo, other, "sc", False, fake) is not first
+    assert _scenario_spectrum(memo, obs(w), "sc", ["H2O"], fake) is not first
+    assert len(calls) == 5
+    assert _scenario_spectrum(None, obs(w), "sc", False, fake) is not first

@@ -167,7 +167,7 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
                      sigma=5.0, probabilities=(0.5, 0.9), n_max=DEFAULT_MAX_TRANSITS,
                      overhead_hours=None, contamination=None, uncertainty_draws=0, seed=0,
                      fisher=False, against_wavelength_unit=None, against_depth_kind="ppm",
-                     refit=(), curves=True, min_jeans=None):
+                     refit=(), curves=True, min_jeans=None, spectra=None):
     """One scenario and one test on planets already observed through a mode.
 
     The engine's step after :func:`observe`: the scenario's spectrum on the
@@ -186,6 +186,12 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
     scenario : str, dict or Scenario
     **options :
         As in :func:`snrkit.engine.transits.transits_for_system`.
+    spectra : list, optional
+        Shared by the calls of one :func:`evaluate` for the same planets and
+        scenario: a spectrum already computed on the same bins, with the same
+        solver and contributions and calibration weights proportional to
+        these (modes that differ only in aperture, throughput or floor), is
+        reused instead of solved again (see :func:`_scenario_spectrum`).
 
     Returns
     -------
@@ -205,8 +211,8 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
     sc = load_scenario(scenario)
     refit = check_refit(refit, kind, arg, sc)
     d = obs["derived"]
-    truth_ds = _noted(obs["notes"], transmission_spectrum, sc, obs["rp"], obs["rs"],
-                      contributions=[arg] if kind == "species" else False, **obs["spec_kw"])
+    truth_ds = _scenario_spectrum(spectra, obs, sc, [arg] if kind == "species" else False,
+                                  transmission_spectrum)
     truth = np.asarray(truth_ds["transit_depth_ppm"], dtype=np.float64)
     null, label = _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
                                  against_wavelength_unit, against_depth_kind)
@@ -245,6 +251,37 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
                n_max=int(n_max), obs=obs, truth_ds=truth_ds, models=models, res=res, used=used,
                hours=hours, spread=spread, fisher=fisher_out, refit=refit_values, extra=extra)
     return ctx
+
+
+def _scenario_spectrum(spectra, obs, sc, contributions, transmission_spectrum):
+    """The scenario's spectrum on the observation's bins, reused from ``spectra`` where it can be.
+
+    The spectrum depends on the mode only through the bins, the solver and
+    the calibration weights, and on those only through their shape across
+    the band (the model is calibrated to the weighted band average, so a
+    uniform factor -- aperture, throughput -- cancels).  A stored spectrum is
+    reused when the bin edges, solver and contributions are equal and the
+    normalised weights agree to 1e-12; the notes its solve raised are added
+    again to this observation's notes.
+    """
+    kw = obs["spec_kw"]
+    w = np.asarray(kw["calibration_weights"], dtype=np.float64)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        shape = w / np.sum(w, axis=-1, keepdims=True)
+    for edges, solver, contrib, other, ds, notes in (spectra or ()):
+        if (solver == kw["solver"] and contrib == contributions
+                and np.array_equal(edges, kw["wavelength_edges"])
+                and other.shape == shape.shape and np.allclose(other, shape, rtol=1e-12, atol=0.0)):
+            obs["notes"].extend(notes)
+            return ds
+    notes = []
+    ds = _noted(notes, transmission_spectrum, sc, obs["rp"], obs["rs"], contributions=contributions,
+                **kw)
+    obs["notes"].extend(notes)
+    if spectra is not None:
+        spectra.append((np.asarray(kw["wavelength_edges"]), kw["solver"], contributions, shape,
+                        ds, notes))
+    return ds
 
 
 def _side_statistics(kind, truth, null, eps, fitted, models, used, obs, res):
@@ -310,7 +347,10 @@ def evaluate(system, modes, scenarios, *, resolution=None, bin_edges=None, floor
     """Every mode x scenario for a set of planets, as columns.
 
     The precision is computed once per mode and reused by every scenario;
-    each scenario's spectrum, test and hours run over all planets at once
+    a scenario's spectrum is solved once for all modes that share its bins
+    (modes that differ only in aperture, throughput or floor: see
+    :func:`_scenario_spectrum`); each scenario's test and hours run over all
+    planets at once
     (:func:`scenario_context`), and the statuses and numbers are read off as
     arrays (:func:`snrkit.engine.transit_records.columns`).
 
@@ -338,12 +378,13 @@ def evaluate(system, modes, scenarios, *, resolution=None, bin_edges=None, floor
     options.setdefault("curves", False)
     out = {c: [] for c in COLUMNS}
     notes, names = [], []
+    spectra = [[] for _ in scenarios]          # per scenario: spectra to reuse across modes
     for mode in modes:
         obs = observe(system, mode, resolution, bin_edges, floor_ppm, floor_averages_down,
                       baseline, solver, readout)
         rows = {c: [] for c in COLUMNS}
-        for sc in scenarios:
-            ctx = scenario_context(system, obs, mode, sc, **options)
+        for sc, memo in zip(scenarios, spectra):
+            ctx = scenario_context(system, obs, mode, sc, spectra=memo, **options)
             cols = columns(ctx)
             for c in COLUMNS:
                 rows[c].append(cols[c])

@@ -79,15 +79,15 @@ def _screen(table):
     return cat, status, reason, system, good
 
 
-def _engine_columns(system, mode, scs, kw, per_pass):
-    """Engine columns (scenario, planet) for the system, in passes of ``per_pass`` planets."""
+def _engine_columns(system, modes, scs, kw, per_pass):
+    """Engine columns (mode, scenario, planet) for the system, in passes of ``per_pass`` planets."""
     n = len(system.names)
     parts = []
     for s0 in range(0, n, per_pass):
         sub = system.take(np.arange(s0, min(s0 + per_pass, n)))
-        res = run_chunk(sub, [mode], scs, kw)
-        parts.append({c: res["columns"][c][0] for c in ("status", "reason", "transits_needed",
-                                                         "hours_total")})
+        res = run_chunk(sub, modes, scs, kw)
+        parts.append({c: res["columns"][c] for c in ("status", "reason", "transits_needed",
+                                                     "hours_total")})
     return {c: np.concatenate([p[c] for p in parts], axis=-1) for c in parts[0]}
 
 
@@ -104,11 +104,17 @@ def _applies(kind, arg, sc):
     return ""
 
 
-def _one_scenario(system, mode, spec, test, kw, per_pass, assigned):
-    """Status, reason, transits, hours of every usable planet for one scenario entry."""
+def _one_scenario(system, modes, spec, test, kw, per_pass, assigned):
+    """Per mode: status, reason, transits, hours of every usable planet for one scenario entry.
+
+    All modes go through the engine together, so a spectrum is solved once
+    for the modes that share its bins (designs that differ in aperture,
+    throughput or floor).
+    """
     n = len(system.names)
-    out = {"status": np.full(n, "", dtype=object), "reason": np.full(n, "", dtype=object),
-           "transits_needed": np.zeros(n, dtype=np.int64), "hours_total": np.full(n, np.nan)}
+    outs = [{"status": np.full(n, "", dtype=object), "reason": np.full(n, "", dtype=object),
+             "transits_needed": np.zeros(n, dtype=np.int64), "hours_total": np.full(n, np.nan)}
+            for _ in modes]
     kind, arg = parse_test(test)
     groups = ([(spec, np.arange(n))] if spec != ASSIGNED else
               [(name, np.flatnonzero(assigned == name)) for name in sorted(set(assigned))])
@@ -116,13 +122,36 @@ def _one_scenario(system, mode, spec, test, kw, per_pass, assigned):
         sc = load_scenario(name)
         why = _applies(kind, arg, sc)
         if why:
-            out["status"][idx], out["reason"][idx] = "not_applicable", why
+            for out in outs:
+                out["status"][idx], out["reason"][idx] = "not_applicable", why
             continue
-        cols = _engine_columns(system.take(idx) if spec == ASSIGNED else system, mode, [sc],
-                               {**kw, "test": test}, per_pass)
-        for c in out:
-            out[c][idx] = cols[c][0]
-    return out
+        cols = _engine_columns(system.take(idx) if spec == ASSIGNED else system, list(modes),
+                               [sc], {**kw, "test": test}, per_pass)
+        for m, out in enumerate(outs):
+            for c in out:
+                out[c][idx] = cols[c][m, 0]
+    return outs
+
+
+def _evaluate_designs(system, designs, scenarios, tests, kw, per_pass, assigned):
+    """{(instrument key, scenario index, test index): engine columns} for the distinct designs.
+
+    Designs that differ only in their name and budgets share one evaluation;
+    the distinct ones go through the engine together (see :func:`_one_scenario`).
+    """
+    if system is None:
+        return {}
+    distinct = {}
+    for design, mode in designs:
+        distinct.setdefault(_instrument_key(design), mode)
+    keys = list(distinct)
+    engine = {}
+    for si, spec in enumerate(scenarios):
+        for ti, test in enumerate(tests):
+            outs = _one_scenario(system, [distinct[k] for k in keys], spec, test, kw, per_pass,
+                                 assigned)
+            engine.update({(k, si, ti): out for k, out in zip(keys, outs)})
+    return engine
 
 
 def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=500,
@@ -180,19 +209,16 @@ def evaluate_chunk(table, designs, scenarios, tests, *, sigma=5.0, max_transits=
     per_pass = max(int(planets_per_pass), 1)
     cols = {c: [] for c in PLANET_COLUMNS}
     reached_counts, status_counts = [], []
-    engine = {}          # designs that differ only in their budgets share one evaluation
-    for di, (design, mode) in enumerate(designs):
+    engine = _evaluate_designs(system, designs, scenarios, tests, kw, per_pass,
+                               assigned[good] if system is not None else None)
+    for di, (design, _) in enumerate(designs):
         budget_h = design.hours if design.hours is not None else hours
         for si, spec in enumerate(scenarios):
             for ti, test in enumerate(tests):
                 st, rs = status.copy(), reason.copy()
                 tn, hrs = np.zeros(n, dtype=np.int64), np.full(n, np.nan)
                 if system is not None:
-                    key = (_instrument_key(design), si, ti)
-                    if key not in engine:
-                        engine[key] = _one_scenario(system, mode, spec, test, kw, per_pass,
-                                                    assigned[good])
-                    r = engine[key]
+                    r = engine[(_instrument_key(design), si, ti)]
                     st[good], rs[good] = r["status"], r["reason"]
                     tn[good], hrs[good] = r["transits_needed"], r["hours_total"]
                 ok, avail = reached_mask(st, tn, hrs, period_s, max_transits, design.years,
