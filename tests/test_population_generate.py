@@ -41,10 +41,10 @@ def _cell_counts(pop, cells):
 
 @pytest.mark.parametrize("table, sample", [("FGK", "g_stars"), ("M", "m_stars")])
 def test_occurrence_reproduces_the_published_table(table, sample, request):
-    # The shipped tables (data_tables/population: Fressin et al. 2013, ApJ 766, 81, Table 3,
+    # The shipped tables (data_tables/population: Fressin et al. 2013, ApJ 766, 81, Table 2,
     # with the cells it leaves empty filled after Hsu et al. 2019, AJ 158, 109, for FGK;
-    # Dressing & Charbonneau 2015, ApJ 807, 45, Figure 12, for M; cell values value from
-    # memory, see the tables' provenance): planets counted per cell before the transit cut,
+    # Dressing & Charbonneau 2015, ApJ 807, 45, Figure 12, for M; published cells equal the
+    # SAG13 compilation's transcription, tests/test_occurrence_sources.py): planets counted per cell before the transit cut,
     # against rate x stars, within Poisson errors (each cell at 4 sigma, all cells by a
     # chi-square at 99.9 %).
     n, pop = request.getfixturevalue(sample)

@@ -20,15 +20,20 @@ Tables written
     F, RECONS 10 pc for M), read in the record's description.
 ``occurrence_fgk.ecsv``
     Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), the occurrence table
-    (Table 3, table number value from memory): mean number of planets per
-    star (published in per cent) in 5 size classes (0.8-1.25, 1.25-2, 2-4,
-    4-6, 6-22 R_earth) x 11 period bins (0.8-418 d), with 1-sigma
-    uncertainties.  The cell values could not be read in the paper here
-    (the stored copies of the paper reachable from this project end before
-    its tables): they are marked "value from memory" in the table's
-    provenance.  They are checked against the sentence of the paper's
-    abstract that was read (16.5 +/- 3.6 % of FGK stars have at least one
-    planet of 0.8-1.25 R_earth with P < 85 d; tests/test_population_generate.py).
+    (Table 2 according to the transcription below; written as Table 3 from
+    memory before it was read): mean number of planets per star (published
+    in per cent) in 5 size classes (0.8-1.25, 1.25-2, 2-4, 4-6, 6-22
+    R_earth) x 11 period bins (0.8-418 d), with 1-sigma uncertainties.  The
+    paper itself could not be read here (the stored copies reachable from
+    this project end before its tables).  Every cell value and uncertainty
+    was checked against an independent public transcription of the table,
+    the SAG13 occurrence-rate compilation (github.com/dgarrett622/Occurrence,
+    Data/Fressin2013/eta.txt and sigma_p.txt, commit b3135fc1), and agrees
+    in all 50 cells, including which cells are empty
+    (tests/test_occurrence_sources.py); and against the sentence of the
+    paper's abstract that was read (16.5 +/- 3.6 % of FGK stars have at
+    least one planet of 0.8-1.25 R_earth with P < 85 d;
+    tests/test_population_generate.py).
     The cells the paper leaves empty are filled so that Sun-like hosts have
     temperate small planets (a table without them would give none):
 
@@ -50,11 +55,15 @@ Tables written
       (common practice, no source), uncertainty scaled alike.
 ``occurrence_m.ecsv``
     Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), the
-    occurrence grid in period and radius (Figure 12, figure number value
-    from memory): planets per M dwarf in 7 radius bins (0.5-4 R_earth, 0.5
-    wide) x 5 period bins (0.5-200 d), with upper 1-sigma uncertainties.
-    As for the FGK table, the cell values could not be read in the paper
-    here: "value from memory" in the provenance.  They are checked against
+    occurrence grid in period and radius (Figure 12): planets per M dwarf
+    in 7 radius bins (0.5-4 R_earth, 0.5 wide) x 5 period bins (0.5-200 d),
+    with upper 1-sigma uncertainties.  As for the FGK table, the paper could
+    not be read here; every cell value and upper uncertainty was checked
+    against the same SAG13 compilation's transcription of that figure
+    (DressingCharbonneau2015/eta.txt and sigma_p.txt, commit ab607965),
+    which agrees in all 30 cells with a value and lacks the same six,
+    among them the interior cell interpolated below
+    (tests/test_occurrence_sources.py).  They are also checked against
     the abstract, which was read: for P < 50 d, 0.56 (+0.06 -0.05)
     planets of 1-1.5 R_earth and 0.46 (+0.07 -0.05) of 1.5-2 R_earth per M
     dwarf; 2.5 +/- 0.2 planets of 1-4 R_earth with P < 200 d.  Cells
@@ -134,8 +143,8 @@ DWARFS = [
 #: class: local number density [pc^-3] (Mamajek 2016, figshare 3206527).
 DENSITIES = {"F": 2.3e-3, "G": 4.8e-3, "K": 1.05e-2, "M": 5.92e-2}
 
-# Fressin et al. 2013, occurrence table (Table 3, value from memory); cell values value from
-# memory (not read in the paper here). "hsu" = empty in the paper, filled from Hsu et al. 2019;
+# Fressin et al. 2013, occurrence table; cell values checked against the SAG13 compilation's
+# transcription (module docstring). "hsu" = empty in the paper, filled from Hsu et al. 2019;
 # "flat" = empty in the paper, the left neighbour's density carried flat in ln P.
 FRESSIN_RADIUS = [0.8, 1.25, 2.0, 4.0, 6.0, 22.0]
 FRESSIN_PERIOD = [0.8, 2.0, 3.4, 5.9, 10.0, 17.0, 29.0, 50.0, 85.0, 145.0, 245.0, 418.0]
@@ -167,8 +176,8 @@ HSU_FILL_FRACTION = 0.5
 HSU_GAMMA = (HSU_FILL_FRACTION * HSU_UPPER_LIMIT
              / (np.log(HSU_RADIUS[1] / HSU_RADIUS[0]) * np.log(HSU_PERIOD[1] / HSU_PERIOD[0])))
 
-# Dressing & Charbonneau 2015, occurrence grid (Figure 12, value from memory); cell values value
-# from memory (not read in the paper here).
+# Dressing & Charbonneau 2015, occurrence grid (Figure 12); cell values checked against the
+# SAG13 compilation's transcription (module docstring).
 DC15_RADIUS = [0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0]
 DC15_PERIOD = [0.5, 1.7, 5.5, 18.2, 60.3, 200.0]
 # per cent; rows = radius bins; None = no value; "interp" = interpolated here (docstring)
@@ -276,9 +285,12 @@ def _grid(radius, period, rate, sigma, source, method):
 
 FGK_SOURCE = (
     "Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), occurrence by size class and period bin "
-    "(all Kepler dwarfs, mostly FGK), Table 3 (table number value from memory); every cell value "
-    "of status published is value from memory (not read in the paper here), checked against the "
-    "abstract's 16.5 +/- 3.6 % of FGK stars with a 0.8-1.25 R_earth planet within 85 d. Cells "
+    "(all Kepler dwarfs, mostly FGK), Table 2 (as named by the transcription below); the paper "
+    "was not read here: every cell of status published, value and 1-sigma, equals the SAG13 "
+    "occurrence-rate compilation's transcription (github.com/dgarrett622/Occurrence, "
+    "Data/Fressin2013/eta.txt and sigma_p.txt, commit b3135fc1; checked cell by cell in "
+    "tests/test_occurrence_sources.py) and agrees with the abstract's 16.5 +/- 3.6 % of FGK "
+    "stars with a 0.8-1.25 R_earth planet within 85 d. Cells "
     "of status filled_hsu2019: Hsu et al. 2019, AJ 158, 109 (arXiv:1902.01417), abstract (read): "
     "< 0.27 planets per FGK star of 0.75-1.5 R_earth with P = 237-500 d (84.13th percentile), "
     "true rate possibly lower by a factor of about 2")
@@ -292,14 +304,16 @@ FGK_METHOD = (
     "ln P (common practice, no source)")
 M_SOURCE = (
     "Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), occurrence grid by radius and "
-    "period, Figure 12 (figure number value from memory); every cell value is value from memory "
-    "(not read in the paper here), checked against the abstract (read): 0.56 planets of "
+    "period, Figure 12; the paper was not read here: every cell value and upper 1-sigma equals "
+    "the SAG13 occurrence-rate compilation's transcription (github.com/dgarrett622/Occurrence, "
+    "DressingCharbonneau2015/eta.txt and sigma_p.txt, commit ab607965; checked cell by cell in "
+    "tests/test_occurrence_sources.py), and agrees with the abstract (read): 0.56 planets of "
     "1-1.5 R_earth and 0.46 of 1.5-2 R_earth per M dwarf within 50 d, 2.5 +/- 0.2 of "
     "1-4 R_earth within 200 d")
 M_METHOD = (
     "per cent / 100 = mean planets per star; uncertainty = the upper 1-sigma; cells without a "
-    "value are 0 (not_published); the cell 1.0-1.5 R_earth x 5.5-18.2 d, whose value is not "
-    "available here, is the geometric mean of its radius neighbours (interpolated, not "
+    "value are 0 (not_published); the cell 1.0-1.5 R_earth x 5.5-18.2 d, which has no value in "
+    "the transcription either, is the geometric mean of its radius neighbours (interpolated, not "
     "published)")
 
 

@@ -15,7 +15,7 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   planet's cell drawn with probability rate / total (this splitting of a
   Poisson process is the same as an independent Poisson number per cell);
   within a cell, period and radius log-uniform (common practice, no
-  source).  Tables: Fressin et al. 2013 (ApJ 766, 81, Table 3) for F, G and K
+  source).  Tables: Fressin et al. 2013 (ApJ 766, 81, Table 2) for F, G and K
   hosts, with the cells it leaves empty (small planets beyond 85-245 d)
   filled after Hsu et al. 2019 (AJ 158, 109), and Dressing & Charbonneau
   2015 (ApJ 807, 45, Figure 12) for M dwarfs; provenance and the filling
