@@ -10,7 +10,7 @@ from hypothesis import example, given, settings, strategies as st
 from snrkit.constants import AU, R_EARTH, R_SUN
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.planning.population import (BLOCK_STARS, COLUMN_UNITS, generate_block,
-                                        generate_population)
+                                        generate_population, stars_in_volume)
 from snrkit.planning.population.generate import block_columns
 from snrkit.planning.population.model import (CLASS_TEFF_RANGE_K, class_fractions,
                                               dwarf_properties, occurrence_cells)
@@ -176,6 +176,22 @@ def test_host_model_against_its_sources():
     cls = np.concatenate([c["host_spectral_class"] for c in cols])
     for c, (t0, t1) in CLASS_TEFF_RANGE_K.items():
         assert np.all((teff[cls == c] >= t0) & (teff[cls == c] <= t1))
+
+
+def test_stars_in_the_volume():
+    # Mamajek 2016 (figshare 3206527) local densities 2.3e-3 (F), 4.8e-3 (G), 1.05e-2 (K) and
+    # 5.92e-2 (M) per pc^3 in the shell 1-50 pc: 0.0768 x 4/3 pi (50^3 - 1) = 40,212 dwarfs
+    shell = 4.0 / 3.0 * np.pi * (50.0 ** 3 - 1.0)
+    assert stars_in_volume() == pytest.approx(0.0768 * shell, rel=1e-12)
+    assert stars_in_volume() == pytest.approx(40212, abs=1)
+    assert stars_in_volume(host_mix={"M": 3.0}) == pytest.approx(5.92e-2 * shell, rel=1e-12)
+    assert stars_in_volume(max_distance_pc=10.0, min_distance_pc=1.0) == pytest.approx(
+        0.0768 * 4.0 / 3.0 * np.pi * 999.0, rel=1e-12)
+    # a mix of several classes at other than the local densities is no real volume
+    assert np.isnan(stars_in_volume(host_mix={"G": 1.0, "M": 1.0}))
+    # the volume scales as d^3 (a property of the shell, for any outer edge)
+    assert stars_in_volume(max_distance_pc=100.0, min_distance_pc=1e-3) == pytest.approx(
+        8.0 * stars_in_volume(max_distance_pc=50.0, min_distance_pc=1e-3), rel=1e-9)
 
 
 def test_masses_follow_the_mass_radius_relation(m_stars):

@@ -12,7 +12,7 @@ from snrkit.cli import main
 from snrkit.planning.catalog import catalogue_from_table
 from snrkit.errors import InputError, UnknownKeyError
 from snrkit.photons.instruments import load_mode
-from snrkit.planning.population import generate_block
+from snrkit.planning.population import generate_block, generate_population
 from snrkit.planning.yields import population_yields
 from snrkit.planning.yields.chunk import reached_mask, YEAR_S
 from snrkit.planning.yields.designs import (build_mode, design_from_text, load_designs,
@@ -199,3 +199,16 @@ def test_draws_give_the_spread_over_independent_populations():
                                one.std("draw", ddof=1))
     np.testing.assert_allclose(ds["poisson_sigma"], np.sqrt(ds["yield_mean"]))
     assert (ds["reached"] <= ds["planets"]).all()
+    # the yield of the real volume: each draw holds one block of 4096 stars, the 50 pc volume
+    # about 40,200 (Mamajek 2016 local densities, see test_population_generate)
+    from snrkit.planning.population import BLOCK_STARS, stars_in_volume
+    scale = stars_in_volume() / BLOCK_STARS
+    assert ds.attrs["volume_scale"] == pytest.approx(scale, rel=1e-12)
+    np.testing.assert_allclose(ds["yield_per_volume"], ds["yield_mean"] * scale, rtol=1e-12)
+    # a population file has no volume
+    table = generate_population(300, 4)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        ds_file = population_yields(table, mode=MODE, scenarios=[SCENARIO], resolution=10,
+                                    scheduler="in-process")["dataset"]
+    assert np.isnan(ds_file.attrs["volume_scale"]) and ds_file["yield_per_volume"].isnull().all()

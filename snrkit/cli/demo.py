@@ -229,10 +229,14 @@ def _population_yields(out, summary, stars):
     summary.append(f"invented population: {res['planets']} transiting planets of {stars} stars; "
                    f"atmosphere at 5 sigma within 500 transits, each planet's own scenario, "
                    f"{DEFAULT_MODE}, by programme hours per planet:")
+    scale = float(ds.attrs["volume_scale"])
     for d in ds["design"].values:
         summary.append(f"  {d}: {float(total.sel(design=d)):.0f} planets, "
                        f"{float(in_hz.sel(design=d).isel(scenario=0, test=0)):.0f} of them in "
-                       f"the habitable zone")
+                       f"the habitable zone ({float(total.sel(design=d)) * scale:.0f} for the "
+                       "real stars of the volume)")
+    summary.append(f"  (the {stars} stars drawn are {1.0 / scale:.2g} times the dwarfs within "
+                   "50 pc: the real-volume numbers scale the yields by that factor)")
     status = ds["status_count"].isel(draw=0, design=0, scenario=0, test=0)
     counts = ", ".join(f"{int(status.sel(status=s))} {s.replace('_', ' ')}"
                        for s in ds["status"].values if s != "ok")

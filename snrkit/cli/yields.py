@@ -1,5 +1,6 @@
 """``snrkit yields``: how many planets of a population each design characterises."""
 
+import math
 import sys
 
 from ._common import add_target_options, print_json, check_output_path
@@ -74,6 +75,7 @@ def _rows(ds):
     planets = ds["planets"].sum("hz_position").mean("draw")
     hz = [h for h in ("optimistic", "conservative") if h in ds["hz_position"].values]
     in_hz = ds["reached"].sel(hz_position=hz).sum("hz_position").mean("draw")
+    scale = float(ds.attrs.get("volume_scale", math.nan))
     rows = []
     for d in ds["design"].values:
         for s in ds["scenario"].values:
@@ -86,6 +88,8 @@ def _rows(ds):
                                  "yield_mean": float(mean.sel(**at)),
                                  "yield_spread": None if spread is None else float(spread.sel(**at)),
                                  "poisson_sigma": float(mean.sel(**at)) ** 0.5,
+                                 "yield_per_volume": (float(mean.sel(**at)) * scale
+                                                      if math.isfinite(scale) else None),
                                  "yield_in_habitable_zone": float(in_hz.sel(**at))})
     return rows
 
@@ -132,14 +136,20 @@ def run(args):
           f"({res['computed']} computed now); target {ds.attrs['target_sigma']:g} sigma within "
           f"{ds.attrs['max_transits']} transits")
     print(f"{'design':<22} {'scenario':<18} {'test':<14} {'planet class':<18} {'planets':>9} "
-          f"{'yield':>9} {'spread':>7} {'in HZ':>7}")
+          f"{'yield':>9} {'spread':>7} {'in HZ':>7} {'real vol':>8}")
     for r in rows:
         spread = r["yield_spread"] if r["yield_spread"] is not None else r["poisson_sigma"]
+        real = "-" if r["yield_per_volume"] is None else f"{r['yield_per_volume']:.1f}"
         print(f"{r['design'][:22]:<22} {r['scenario'][:18]:<18} {r['test'][:14]:<14} "
               f"{r['planet_class'][:18]:<18} {r['planets']:>9.0f} {r['yield_mean']:>9.1f} "
-              f"{spread:>7.1f} {r['yield_in_habitable_zone']:>7.1f}")
+              f"{spread:>7.1f} {r['yield_in_habitable_zone']:>7.1f} {real:>8}")
     print("spread: over the draws" if ds.sizes["draw"] > 1 else
           "spread: Poisson sqrt(yield) (one draw; --draws K for the spread over draws)")
+    scale = float(ds.attrs.get("volume_scale", math.nan))
+    if math.isfinite(scale):
+        print(f"real vol: the yield of the real neighbourhood; each draw is {1.0 / scale:.3g} "
+              "times the stars the generator's volume holds (yield x "
+              f"{scale:.3g})")
     print(f"results in {res['out_dir']}/ (yields.nc, planets/*.parquet)")
     print("planning estimate; official observatory tools govern real proposals")
     return 0

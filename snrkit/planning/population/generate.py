@@ -66,6 +66,7 @@ from . import draws, model
 from .rules import assign_scenario, planet_class
 
 __all__ = ["BLOCK_STARS", "DEFAULT_OPTIONS", "generate_block", "generate_population",
+           "stars_in_volume",
            "block_columns", "columns_to_table", "runaway_greenhouse_flux", "COLUMN_UNITS"]
 
 #: Stars per generation block.
@@ -337,3 +338,41 @@ def generate_population(n_stars, seed, **options):
     keep = cols["star_index"] < n_stars
     cols = {k: v[keep] for k, v in cols.items()}
     return columns_to_table(cols, _meta(_seed(seed, 0)[0], o, [0, n_blocks], n_stars))
+
+
+def stars_in_volume(**options):
+    """Expected number of stars the generator's volume holds in reality.
+
+    The local number densities of the shipped ``host_mix.ecsv`` (Mamajek
+    2016; see :mod:`.model`) times the shell volume 4/3 pi (d_max^3 -
+    d_min^3).  The generator draws as many stars as it is asked for,
+    uniformly in that volume; a population of N stars is therefore N /
+    ``stars_in_volume`` realisations of the real neighbourhood, and a yield
+    per real volume is the count times ``stars_in_volume / N``.
+
+    Parameters
+    ----------
+    **options
+        As :func:`generate_block` (only the distances and ``host_mix`` matter).
+
+    Returns
+    -------
+    float
+        Stars of the drawn classes in the volume; NaN when ``host_mix``
+        gives more than one class weights that are not the local densities
+        (the drawn mix is then not that of any real volume, so no single
+        factor converts the counts).
+    """
+    import math
+    o = _options(options)
+    density = model.class_densities()
+    mix = o["host_mix"]
+    if mix is None:
+        rho = sum(density.values())
+    else:
+        drawn = [c for c, w in mix.items() if w > 0]
+        if len(drawn) > 1:
+            return math.nan
+        rho = density[drawn[0]]
+    d0, d1 = o["min_distance_pc"], o["max_distance_pc"]
+    return rho * 4.0 / 3.0 * math.pi * (d1 ** 3 - d0 ** 3)

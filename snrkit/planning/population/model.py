@@ -34,7 +34,7 @@ import numpy as np
 from ...io.tables import read_columns
 
 __all__ = ["SPECTRAL_CLASSES", "HOST_CLASS", "CLASS_TEFF_RANGE_K", "OCCURRENCE_TABLES",
-           "class_fractions", "dwarf_properties", "occurrence_cells", "draw_hosts",
+           "class_fractions", "class_densities", "dwarf_properties", "occurrence_cells", "draw_hosts",
            "apparent_magnitudes"]
 
 #: Spectral classes of the host model, hottest first.
@@ -52,6 +52,17 @@ CLASS_TEFF_RANGE_K = {"F": (5960.0, 7200.0), "G": (5335.0, 5960.0), "K": (3890.0
 def _mix():
     t = read_columns("population", "host_mix.ecsv")
     return dict(zip(t["spectral_class"].tolist(), t["number_density"].tolist()))
+
+
+def class_densities():
+    """Local number densities of the dwarf classes [pc^-3] (``host_mix.ecsv``, Mamajek 2016).
+
+    Returns
+    -------
+    dict of str to float
+        By class ``F``, ``G``, ``K``, ``M``.
+    """
+    return dict(_mix())
 
 
 def class_fractions(mix=None):

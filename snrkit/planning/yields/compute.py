@@ -77,8 +77,10 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
         opts = dict(generator_options or {})
         chunks = [((s, b), partial(generate_blocks, count=min(per, blocks - b), options=opts))
                   for s in seeds for b in range(0, blocks, per)]
+        from ..population import stars_in_volume
         return chunks, seeds, {"generated_stars": blocks * BLOCK_STARS, "seeds": seeds,
-                               "block_stars": BLOCK_STARS, "generator_options": opts}
+                               "block_stars": BLOCK_STARS, "generator_options": opts,
+                               "stars_in_volume": stars_in_volume(**opts)}
     if int(_parse_int(draws, "--draws", 1, MAX_DRAWS)) != 1:
         raise InputError("--draws", draws, "1 for a population file (draws need --generate)")
     from astropy.table import Table
@@ -227,7 +229,8 @@ def population_yields(population=None, *, generate=None, seed=0, draws=1, mappin
     counts, computed, dashboard = _compute(
         chunks, [(d, m) for d, m, _ in built], settings, scheduler, workers, connect_timeout,
         chunk_bytes, store, done, progress, notify, f"snrkit-yields-{digest}")
-    ds = yield_dataset(counts, seeds, design_list, [a for _, _, a in built], scenarios, tests)
+    ds = yield_dataset(counts, seeds, design_list, [a for _, _, a in built], scenarios, tests,
+                       volume_scale=_volume_scale(pop_desc))
     ds.attrs.update(_attrs(sigma, max_transits, hours, resolution, pop_desc))
     if out_dir is not None:
         _write_netcdf(ds, store.folder / "yields.nc")
@@ -259,6 +262,13 @@ def _compute(chunks, designs, settings, scheduler, workers, connect_timeout, chu
     return counts, computed, dashboard
 
 
+def _volume_scale(pop_desc):
+    """Stars in the real volume per star drawn (generated populations; NaN otherwise)."""
+    if "generated_stars" not in pop_desc:
+        return math.nan
+    return pop_desc["stars_in_volume"] / pop_desc["generated_stars"]
+
+
 def _bins_factor(resolution):
     """Bins relative to R = 100 (the engine memory scales with the bins)."""
     if resolution is None or isinstance(resolution, str):
@@ -279,8 +289,14 @@ def _attrs(sigma, max_transits, hours, resolution, pop_desc):
             "note": "planning estimates; official observatory tools govern real proposals"}
 
 
-def yield_dataset(counts, seeds, designs, apertures, scenarios, tests):
+def yield_dataset(counts, seeds, designs, apertures, scenarios, tests, volume_scale=math.nan):
     """The labelled yields from the chunks' counts.
+
+    ``volume_scale`` is the number of stars the real volume holds per star
+    drawn (:func:`snrkit.planning.population.stars_in_volume` over the stars
+    of one draw): ``yield_per_volume`` = ``yield_mean`` x ``volume_scale``
+    is the yield of the real neighbourhood (NaN for a population file, or a
+    host mix that is not the local one).
 
     Returns
     -------
@@ -290,9 +306,9 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests):
         ``status_count`` (draw, design, scenario, test, status): planets by
         status (``ok``, ``not_reachable``, ``saturated``, the population's
         and the catalogue's refusals, ...);
-        ``yield_mean`` and ``yield_spread`` over the draws and
-        ``poisson_sigma`` (design, scenario, test, planet_class,
-        hz_position).  Design coordinates: ``mode``, ``aperture_m``,
+        ``yield_mean`` and ``yield_spread`` over the draws,
+        ``poisson_sigma`` and ``yield_per_volume`` (design, scenario, test,
+        planet_class, hz_position); attribute ``volume_scale``.  Design coordinates: ``mode``, ``aperture_m``,
         ``throughput_scale``, ``floor_ppm``, ``hours``, ``years``.
     """
     import xarray as xr
@@ -328,6 +344,11 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests):
     ds["yield_spread"] = (ds["reached"].std("draw", ddof=1) if len(seeds) > 1
                           else xr.full_like(ds["yield_mean"], np.nan))
     ds["poisson_sigma"] = np.sqrt(ds["yield_mean"])
+    ds["yield_per_volume"] = ds["yield_mean"] * float(volume_scale)
+    ds["yield_per_volume"].attrs["description"] = (
+        "yield_mean x stars in the real volume / stars drawn: the yield of the real "
+        "neighbourhood (NaN for a population file or a host mix that is not the local one)")
+    ds.attrs["volume_scale"] = float(volume_scale)
     ds["aperture_m"].attrs["units"] = "m"
     ds["floor_ppm"].attrs["units"] = "ppm"
     ds["hours"].attrs["units"] = "h"
