@@ -42,7 +42,9 @@ def plot_yields(ds, x="aperture_m", scenario=None, test=None, hz_positions=None,
     matplotlib.figure.Figure
         Classes that no design reaches are left out.  Error bars: the spread
         over population draws where there are several,
-        else the Poisson spread sqrt(mean).
+        else the Poisson spread sqrt(mean).  For a generated population a
+        right-hand axis reads the counts for the stars the generator's
+        volume really holds (``volume_scale``).
     """
     if x not in PLOT_AXES:
         raise InputError("x", x, "one of " + ", ".join(PLOT_AXES))
@@ -74,11 +76,16 @@ def plot_yields(ds, x="aperture_m", scenario=None, test=None, hz_positions=None,
                     yerr=np.asarray(spread.sel(planet_class=pc).values), marker="os^vD"[k % 5],
                     color=colours(k % 20), capsize=3, label=str(pc))
     ax.set_xlabel(PLOT_AXES[x])
-    ax.set_ylabel("planets reaching the target")
+    ax.set_ylabel("planets reaching the target (stars drawn)")
+    scale = float(ds.attrs.get("volume_scale", np.nan))
+    if np.isfinite(scale) and scale > 0:    # the same counts for the stars the volume holds
+        right = ax.secondary_yaxis("right", functions=(lambda y: y * scale, lambda y: y / scale))
+        right.set_ylabel("in the real volume")
     hz = "all" if hz_positions is None else ", ".join(hz_positions)
     ax.set_title(f"{te} at {float(ds.attrs.get('target_sigma', 5)):g} sigma, {sc}; habitable zone: {hz}",
                  fontsize=9)
     if shown:
-        ax.legend(title="planet class", fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0))
+        ax.legend(title="planet class", fontsize=7, loc="upper left",
+                  bbox_to_anchor=(1.16 if np.isfinite(scale) else 1.01, 1.0))
     ax.grid(alpha=0.3)
     return fig
