@@ -19,10 +19,11 @@ this one run on this machine:
   workers (linear scaling assumed: chunks are independent, nothing is shared
   between workers).
 
-The issue's figure is 10^6 planets; on a 2-core machine shared with other
-jobs that takes hours, so the default size (3000 planets) is the largest
-whose two runs (cluster and in process) take about 2-3 minutes there, and
-the output extrapolates from it.  ``--planets 1000000`` runs the full size.
+The target figure is 10^6 planets; on a 2-core machine shared with other
+jobs that takes hours, so the default size (3000 planets) keeps the two
+runs (cluster and in process) to about a minute there, and the output
+extrapolates from it (the figures are per planet and per worker; they were
+the same at 3000 and 30000 planets).  ``--planets 1000000`` runs the full size.
 
     python benchmarks/bench_population.py [--planets 3000] [--chunk-blocks 2]
 """
@@ -38,9 +39,8 @@ SCENARIOS = ["h2-clear-solar", "h2-metal-rich", "steam", "co2-thick"]
 DESIGNS = ["name=6m,aperture_m=6", "name=9m,aperture_m=9"]
 MODE = "cold6m-prism-lowres"
 TARGET = 10**6
-#: Default size: the largest whose two runs take about 2-3 minutes on the
-#: 2-core development machine (measured: about 160 planet-scenario-designs/s
-#: for the two runs together).
+#: Default size: the two runs take about a minute on the 2-core development
+#: machine (measured: about 350 planet-scenario-designs/s for the two runs together).
 DEFAULT_PLANETS = 3000
 
 

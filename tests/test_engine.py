@@ -121,12 +121,12 @@ def test_designs_sharing_bins_solve_each_spectrum_once(cat, monkeypatch):
 
 def test_spectrum_reuse_rule():
     # reused only for equal bins, solver and contributions and proportional weights
-    from snrkit.engine.engine import _scenario_spectrum
+    from snrkit.engine.shared_spectra import scenario_spectrum
     calls = []
 
     def fake(sc, rp, rs, contributions=False, **kw):
         calls.append(kw["calibration_weights"].copy())
-        return {"weights": kw["calibration_weights"].copy()}
+        return {"transit_depth_ppm": np.ones((2, 2))}
 
     def obs(weights, edges=(1.0, 2.0, 3.0), solver="analytic"):
         return {"notes": [], "rp": np.ones(2), "rs": np.ones(2),
@@ -135,11 +135,11 @@ def test_spectrum_reuse_rule():
 
     memo = []
     w = np.array([[1.0, 2.0], [3.0, 1.0]])
-    first = _scenario_spectrum(memo, obs(w), "sc", False, fake)
-    assert _scenario_spectrum(memo, obs(7.5 * w), "sc", False, fake) is first
+    first = scenario_spectrum(memo, obs(w), "sc", False, fake)
+    assert scenario_spectrum(memo, obs(7.5 * w), "sc", False, fake) is first
     assert len(calls) == 1
     for other in (obs(w * [1.0, 1.001]), obs(w, edges=(1.0, 2.0, 3.5)), obs(w, solver="layered")):
-        assert _scenario_spectrum(memo, other, "sc", False, fake) is not first
-    assert _scenario_spectrum(memo, obs(w), "sc", ["H2O"], fake) is not first
+        assert scenario_spectrum(memo, other, "sc", False, fake) is not first
+    assert scenario_spectrum(memo, obs(w), "sc", ["H2O"], fake) is not first
     assert len(calls) == 5
-    assert _scenario_spectrum(None, obs(w), "sc", False, fake) is not first
+    assert scenario_spectrum(None, obs(w), "sc", False, fake) is not first

@@ -13,9 +13,12 @@ here file by file:
 * Dressing & Charbonneau 2015, ApJ 807, 45: ``DressingCharbonneau2015/eta.txt``
   and ``sigma_p.txt`` (upper 1-sigma), commit
   ab60796582f3cabfbac61fcb8a6c9f50ffe42d06; radius edges 0.5-4 R_earth in
-  0.5 steps, period edges 0.5, 1.7, 5.5, 18.2, 60.3, 200 d
-  (``DressingCharbonneau2015.json``, commit a5390e6); the notes name the
-  paper's Figure 12.
+  0.5 steps, period edges 0.5, 1.7, 5.5, 18.2, 60.3, 200 d, matching the 7 x 5
+  grid of ``eta.txt``, from ``Data/DressingCharbonneau2015/DressingCharbonneau2015.json``
+  (commit b3135fc; the top-level ``DressingCharbonneau2015.json`` at commit
+  a5390e6 lists 10 finer period bins that do not match ``eta.txt``: the
+  repository's own files disagree there); the notes name the paper's
+  Figure 12.
 
 Numbers in per cent, rows small to large radius, columns short to long
 period; NaN where the compilation has no value.  Every cell with a value

@@ -41,7 +41,8 @@ def _cell_counts(pop, cells):
 
 @pytest.mark.parametrize("table, sample", [("FGK", "g_stars"), ("M", "m_stars")])
 def test_occurrence_reproduces_the_published_table(table, sample, request):
-    # The shipped tables (data_tables/population: Fressin et al. 2013, ApJ 766, 81, Table 2,
+    # The shipped tables (data_tables/population: Fressin et al. 2013, ApJ 766, 81, Table 2 as the
+    # SAG13 transcription names it,
     # with the cells it leaves empty filled after Hsu et al. 2019, AJ 158, 109, for FGK;
     # Dressing & Charbonneau 2015, ApJ 807, 45, Figure 12, for M; published cells equal the
     # SAG13 compilation's transcription, tests/test_occurrence_sources.py): planets counted per cell before the transit cut,
@@ -187,8 +188,13 @@ def test_stars_in_the_volume():
     assert stars_in_volume(host_mix={"M": 3.0}) == pytest.approx(5.92e-2 * shell, rel=1e-12)
     assert stars_in_volume(max_distance_pc=10.0, min_distance_pc=1.0) == pytest.approx(
         0.0768 * 4.0 / 3.0 * np.pi * 999.0, rel=1e-12)
-    # a mix of several classes at other than the local densities is no real volume
+    # a mix of several classes at other than the local densities is no real volume; weights
+    # proportional to the densities are the same volume
     assert np.isnan(stars_in_volume(host_mix={"G": 1.0, "M": 1.0}))
+    assert stars_in_volume(host_mix={"G": 4.8, "M": 59.2}) == pytest.approx(
+        (4.8e-3 + 5.92e-2) * shell, rel=1e-12)
+    assert stars_in_volume(host_mix={"F": 2.3, "G": 4.8, "K": 10.5, "M": 59.2}) == \
+        pytest.approx(stars_in_volume(), rel=1e-12)
     # the volume scales as d^3 (a property of the shell, for any outer edge)
     assert stars_in_volume(max_distance_pc=100.0, min_distance_pc=1e-3) == pytest.approx(
         8.0 * stars_in_volume(max_distance_pc=50.0, min_distance_pc=1e-3), rel=1e-9)

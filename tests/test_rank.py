@@ -308,3 +308,32 @@ def test_plan_hours_are_transit_hours_plus_timing_padding():
         assert p["timing_padding_hours"] > 0
         assert p["hours_total"] == pytest.approx(q["hours_total"] + p["timing_padding_hours"],
                                                  rel=1e-12)
+
+
+def test_a_mode_that_refuses_one_planet_leaves_its_other_modes_alone(monkeypatch):
+    # the fallback of run_chunk: a chunk refused by the engine is split into planets, and a
+    # planet refused with several modes is evaluated mode by mode (the engine is replaced by
+    # a stand-in that refuses planet "b" in mode "bad" only)
+    import snrkit.engine.engine as eng
+    from snrkit.planning.rank import run_chunk
+
+    class Sub:
+        def __init__(self, names):
+            self.names = names
+
+        def take(self, idx):
+            return Sub([self.names[i] for i in idx])
+
+    def fake(sub, modes, scs, **kw):
+        if "bad" in modes and "b" in sub.names:
+            raise InputError("mode", "bad", "a mode that accepts planet b")
+        shape = (len(modes), len(scs), len(sub.names))
+        return {"columns": {"status": np.full(shape, "ok", dtype=object),
+                            "transits_needed": np.ones(shape, dtype=np.int64)},
+                "notes": []}
+
+    monkeypatch.setattr(eng, "evaluate", fake)
+    out = run_chunk(Sub(["a", "b", "c"]), ["good", "bad"], ["s"], {})["columns"]
+    assert out["status"].shape == (2, 1, 3)
+    assert out["status"][0, 0].tolist() == ["ok", "ok", "ok"]
+    assert out["status"][1, 0].tolist() == ["ok", "bad_value", "ok"]

@@ -205,6 +205,9 @@ def test_draws_give_the_spread_over_independent_populations():
     scale = stars_in_volume() / BLOCK_STARS
     assert ds.attrs["volume_scale"] == pytest.approx(scale, rel=1e-12)
     np.testing.assert_allclose(ds["yield_per_volume"], ds["yield_mean"] * scale, rtol=1e-12)
+    # its sampling error: Poisson counts averaged over the 3 draws, scaled alike
+    np.testing.assert_allclose(ds["yield_per_volume_error"],
+                               scale * np.sqrt(ds["yield_mean"] / 3), rtol=1e-12)
     # a population file has no volume
     table = generate_population(300, 4)
     with warnings.catch_warnings():

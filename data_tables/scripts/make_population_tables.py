@@ -20,8 +20,8 @@ Tables written
     F, RECONS 10 pc for M), read in the record's description.
 ``occurrence_fgk.ecsv``
     Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), the occurrence table
-    (Table 2 according to the transcription below; written as Table 3 from
-    memory before it was read): mean number of planets per star (published
+    (Table 2 as the transcription below names it; the paper was not read
+    here): mean number of planets per star (published
     in per cent) in 5 size classes (0.8-1.25, 1.25-2, 2-4, 4-6, 6-22
     R_earth) x 11 period bins (0.8-418 d), with 1-sigma uncertainties.  The
     paper itself could not be read here (the stored copies reachable from
@@ -29,7 +29,7 @@ Tables written
     was checked against an independent public transcription of the table,
     the SAG13 occurrence-rate compilation (github.com/dgarrett622/Occurrence,
     Data/Fressin2013/eta.txt and sigma_p.txt, commit b3135fc1), and agrees
-    in all 50 cells, including which cells are empty
+    in all 49 published cells, and the 6 empty cells are the same
     (tests/test_occurrence_sources.py); and against the sentence of the
     paper's abstract that was read (16.5 +/- 3.6 % of FGK stars have at
     least one planet of 0.8-1.25 R_earth with P < 85 d;
@@ -55,14 +55,15 @@ Tables written
       (common practice, no source), uncertainty scaled alike.
 ``occurrence_m.ecsv``
     Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), the
-    occurrence grid in period and radius (Figure 12): planets per M dwarf
+    occurrence grid in period and radius (Figure 12 as the transcription
+    below names it): planets per M dwarf
     in 7 radius bins (0.5-4 R_earth, 0.5 wide) x 5 period bins (0.5-200 d),
     with upper 1-sigma uncertainties.  As for the FGK table, the paper could
     not be read here; every cell value and upper uncertainty was checked
     against the same SAG13 compilation's transcription of that figure
     (DressingCharbonneau2015/eta.txt and sigma_p.txt, commit ab607965),
-    which agrees in all 30 cells with a value and lacks the same six,
-    among them the interior cell interpolated below
+    which agrees in all 28 cells with a value and lacks the same 7 (the 6
+    not_published cells and the interior cell interpolated below)
     (tests/test_occurrence_sources.py).  They are also checked against
     the abstract, which was read: for P < 50 d, 0.56 (+0.06 -0.05)
     planets of 1-1.5 R_earth and 0.46 (+0.07 -0.05) of 1.5-2 R_earth per M
@@ -286,7 +287,7 @@ def _grid(radius, period, rate, sigma, source, method):
 FGK_SOURCE = (
     "Fressin et al. 2013, ApJ 766, 81 (arXiv:1301.0842), occurrence by size class and period bin "
     "(all Kepler dwarfs, mostly FGK), Table 2 (as named by the transcription below); the paper "
-    "was not read here: every cell of status published, value and 1-sigma, equals the SAG13 "
+    "was not read here: each of the 49 cells of status published, value and 1-sigma, equals the SAG13 "
     "occurrence-rate compilation's transcription (github.com/dgarrett622/Occurrence, "
     "Data/Fressin2013/eta.txt and sigma_p.txt, commit b3135fc1; checked cell by cell in "
     "tests/test_occurrence_sources.py) and agrees with the abstract's 16.5 +/- 3.6 % of FGK "
@@ -304,7 +305,8 @@ FGK_METHOD = (
     "ln P (common practice, no source)")
 M_SOURCE = (
     "Dressing & Charbonneau 2015, ApJ 807, 45 (arXiv:1501.01623), occurrence grid by radius and "
-    "period, Figure 12; the paper was not read here: every cell value and upper 1-sigma equals "
+    "period, Figure 12 (as named by the transcription below); the paper was not read here: "
+    "each of the 28 cells of status published, value and upper 1-sigma, equals "
     "the SAG13 occurrence-rate compilation's transcription (github.com/dgarrett622/Occurrence, "
     "DressingCharbonneau2015/eta.txt and sigma_p.txt, commit ab607965; checked cell by cell in "
     "tests/test_occurrence_sources.py), and agrees with the abstract (read): 0.56 planets of "

@@ -213,6 +213,7 @@ def _catalogue_and_plan(files, out, summary):
 
 def _population_yields(out, summary, stars):
     """Yields of an invented population for programme budgets, on a local dask cluster."""
+    import json
     import sys
     from ..planning.yields import population_yields
     from ..output.figures import save_figure
@@ -235,8 +236,10 @@ def _population_yields(out, summary, stars):
                        f"{float(in_hz.sel(design=d).isel(scenario=0, test=0)):.0f} of them in "
                        f"the habitable zone ({float(total.sel(design=d)) * scale:.0f} for the "
                        "real stars of the volume)")
-    summary.append(f"  (the {stars} stars drawn are {1.0 / scale:.2g} times the dwarfs within "
-                   "50 pc: the real-volume numbers scale the yields by that factor)")
+    drawn = json.loads(ds.attrs["population"])["generated_stars"]
+    summary.append(f"  (the {drawn} stars drawn, whole blocks of 4096, are {1.0 / scale:.2g} "
+                   "times the dwarfs within 50 pc: the real-volume numbers divide the yields by "
+                   "that factor; expected values, if every planet there is known)")
     status = ds["status_count"].isel(draw=0, design=0, scenario=0, test=0)
     counts = ", ".join(f"{int(status.sel(status=s))} {s.replace('_', ' ')}"
                        for s in ds["status"].values if s != "ok")

@@ -90,6 +90,9 @@ def _rows(ds):
                                  "poisson_sigma": float(mean.sel(**at)) ** 0.5,
                                  "yield_per_volume": (float(mean.sel(**at)) * scale
                                                       if math.isfinite(scale) else None),
+                                 "yield_per_volume_error": (
+                                     scale * (float(mean.sel(**at)) / ds.sizes["draw"]) ** 0.5
+                                     if math.isfinite(scale) else None),
                                  "yield_in_habitable_zone": float(in_hz.sel(**at))})
     return rows
 
@@ -136,20 +139,23 @@ def run(args):
           f"({res['computed']} computed now); target {ds.attrs['target_sigma']:g} sigma within "
           f"{ds.attrs['max_transits']} transits")
     print(f"{'design':<22} {'scenario':<18} {'test':<14} {'planet class':<18} {'planets':>9} "
-          f"{'yield':>9} {'spread':>7} {'in HZ':>7} {'real vol':>8}")
+          f"{'yield':>9} {'spread':>7} {'in HZ':>7} {'real vol':>11}")
     for r in rows:
         spread = r["yield_spread"] if r["yield_spread"] is not None else r["poisson_sigma"]
-        real = "-" if r["yield_per_volume"] is None else f"{r['yield_per_volume']:.1f}"
+        real = ("-" if r["yield_per_volume"] is None else
+                f"{r['yield_per_volume']:.0f}+-{r['yield_per_volume_error']:.0f}")
         print(f"{r['design'][:22]:<22} {r['scenario'][:18]:<18} {r['test'][:14]:<14} "
               f"{r['planet_class'][:18]:<18} {r['planets']:>9.0f} {r['yield_mean']:>9.1f} "
-              f"{spread:>7.1f} {r['yield_in_habitable_zone']:>7.1f} {real:>8}")
+              f"{spread:>7.1f} {r['yield_in_habitable_zone']:>7.1f} {real:>11}")
     print("spread: over the draws" if ds.sizes["draw"] > 1 else
           "spread: Poisson sqrt(yield) (one draw; --draws K for the spread over draws)")
     scale = float(ds.attrs.get("volume_scale", math.nan))
     if math.isfinite(scale):
-        print(f"real vol: the yield of the real neighbourhood; each draw is {1.0 / scale:.3g} "
-              "times the stars the generator's volume holds (yield x "
-              f"{scale:.3g})")
+        print(f"real vol: expected yield of the stars the generator's volume really holds "
+              f"(yield x {scale:.3g}; each draw is {1.0 / scale:.3g} times that many stars) "
+              "+- its sampling error; if every planet there is known and every transit taken; "
+              "the real sky scatters by about its square root; occurrence-rate uncertainty "
+              "not included")
     print(f"results in {res['out_dir']}/ (yields.nc, planets/*.parquet)")
     print("planning estimate; official observatory tools govern real proposals")
     return 0

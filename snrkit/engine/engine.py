@@ -30,7 +30,8 @@ from ..stats import detect as dt
 from ..stats import forecast as fc
 from ..stats import hypotheses as hy
 from ..constants import HOUR, R_EARTH, M_EARTH
-from .observe import _noted, observe
+from .observe import observe
+from .shared_spectra import scenario_spectrum
 
 __all__ = ["observe", "scenario_context", "evaluate", "parse_test", "contamination_templates",
            "DEFAULT_MAX_TRANSITS", "MAX_TRANSITS_LIMIT", "MAX_UNCERTAINTY_DRAWS"]
@@ -191,7 +192,8 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
         scenario: a spectrum already computed on the same bins, with the same
         solver and contributions and calibration weights proportional to
         these (modes that differ only in aperture, throughput or floor), is
-        reused instead of solved again (see :func:`_scenario_spectrum`).
+        reused instead of solved again
+        (:func:`snrkit.engine.shared_spectra.scenario_spectrum`).
 
     Returns
     -------
@@ -211,7 +213,7 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
     sc = load_scenario(scenario)
     refit = check_refit(refit, kind, arg, sc)
     d = obs["derived"]
-    truth_ds = _scenario_spectrum(spectra, obs, sc, [arg] if kind == "species" else False,
+    truth_ds = scenario_spectrum(spectra, obs, sc, [arg] if kind == "species" else False,
                                   transmission_spectrum)
     truth = np.asarray(truth_ds["transit_depth_ppm"], dtype=np.float64)
     null, label = _null_spectrum(kind, arg, sc, truth_ds, truth, obs, transmission_spectrum,
@@ -251,37 +253,6 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
                n_max=int(n_max), obs=obs, truth_ds=truth_ds, models=models, res=res, used=used,
                hours=hours, spread=spread, fisher=fisher_out, refit=refit_values, extra=extra)
     return ctx
-
-
-def _scenario_spectrum(spectra, obs, sc, contributions, transmission_spectrum):
-    """The scenario's spectrum on the observation's bins, reused from ``spectra`` where it can be.
-
-    The spectrum depends on the mode only through the bins, the solver and
-    the calibration weights, and on those only through their shape across
-    the band (the model is calibrated to the weighted band average, so a
-    uniform factor -- aperture, throughput -- cancels).  A stored spectrum is
-    reused when the bin edges, solver and contributions are equal and the
-    normalised weights agree to 1e-12; the notes its solve raised are added
-    again to this observation's notes.
-    """
-    kw = obs["spec_kw"]
-    w = np.asarray(kw["calibration_weights"], dtype=np.float64)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        shape = w / np.sum(w, axis=-1, keepdims=True)
-    for edges, solver, contrib, other, ds, notes in (spectra or ()):
-        if (solver == kw["solver"] and contrib == contributions
-                and np.array_equal(edges, kw["wavelength_edges"])
-                and other.shape == shape.shape and np.allclose(other, shape, rtol=1e-12, atol=0.0)):
-            obs["notes"].extend(notes)
-            return ds
-    notes = []
-    ds = _noted(notes, transmission_spectrum, sc, obs["rp"], obs["rs"], contributions=contributions,
-                **kw)
-    obs["notes"].extend(notes)
-    if spectra is not None:
-        spectra.append((np.asarray(kw["wavelength_edges"]), kw["solver"], contributions, shape,
-                        ds, notes))
-    return ds
 
 
 def _side_statistics(kind, truth, null, eps, fitted, models, used, obs, res):
@@ -349,10 +320,10 @@ def evaluate(system, modes, scenarios, *, resolution=None, bin_edges=None, floor
     The precision is computed once per mode and reused by every scenario;
     a scenario's spectrum is solved once for all modes that share its bins
     (modes that differ only in aperture, throughput or floor: see
-    :func:`_scenario_spectrum`); each scenario's test and hours run over all
-    planets at once
-    (:func:`scenario_context`), and the statuses and numbers are read off as
-    arrays (:func:`snrkit.engine.transit_records.columns`).
+    :func:`snrkit.engine.shared_spectra.scenario_spectrum`); each scenario's
+    test and hours run over all planets at once (:func:`scenario_context`),
+    and the statuses and numbers are read off as arrays
+    (:func:`snrkit.engine.transit_records.columns`).
 
     Parameters
     ----------

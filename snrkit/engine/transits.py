@@ -31,8 +31,8 @@ from ..stats import hypotheses as hy
 from .transit_records import (HYDROGEN_RICH_MU, JEANS_PARAMETER_MIN,  # noqa: F401
                               MAX_SCALE_HEIGHT_RATIO, TEST_STATISTICS)
 from .engine import (observe, scenario_context, parse_test, contamination_templates,  # noqa: F401
-                     DEFAULT_MAX_TRANSITS, MAX_TRANSITS_LIMIT, _noted,
-                     _hours)
+                     DEFAULT_MAX_TRANSITS, MAX_TRANSITS_LIMIT, _hours)
+from .observe import _noted
 
 __all__ = ["parse_test", "transits_for_system", "contrast_for_system", "contamination_templates",
            "observe", "TESTS", "DEFAULT_MAX_TRANSITS", "REFIT_PARAMETERS",

@@ -251,12 +251,19 @@ def run_chunk(sub, modes, scs, kw):
     """The engine on a chunk of planets; if the chunk is refused, each planet alone.
 
     A row that the chain refuses gets status ``bad_value`` with the message as
-    its reason, and never fails its neighbours.
+    its reason, and never fails its neighbours; with several modes, a planet
+    that one mode refuses is evaluated mode by mode, so only that mode's
+    entries are ``bad_value``.
     """
     from ..engine.engine import evaluate
     try:
         return evaluate(sub, modes, scs, **kw)
     except InputError as exc:
+        if len(sub.names) == 1 and len(modes) > 1:
+            parts = [run_chunk(sub, [m], scs, kw) for m in modes]
+            return {"columns": {c: np.concatenate([p["columns"][c] for p in parts], axis=0)
+                                for c in parts[0]["columns"]},
+                    "notes": [x for p in parts for x in p["notes"]]}
         if len(sub.names) == 1:
             shape = (len(modes), len(scs), 1)
             cols = {c: np.full(shape, v, dtype=type(v) if not isinstance(v, str) else object)

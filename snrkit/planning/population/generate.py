@@ -15,7 +15,7 @@ Ingredients, each with its source (see also :mod:`.model` and :mod:`.rules`):
   planet's cell drawn with probability rate / total (this splitting of a
   Poisson process is the same as an independent Poisson number per cell);
   within a cell, period and radius log-uniform (common practice, no
-  source).  Tables: Fressin et al. 2013 (ApJ 766, 81, Table 2) for F, G and K
+  source).  Tables: Fressin et al. 2013 (ApJ 766, 81; its Table 2 as transcribed in the SAG13 compilation) for F, G and K
   hosts, with the cells it leaves empty (small planets beyond 85-245 d)
   filled after Hsu et al. 2019 (AJ 158, 109), and Dressing & Charbonneau
   2015 (ApJ 807, 45, Figure 12) for M dwarfs; provenance and the filling
@@ -359,20 +359,18 @@ def stars_in_volume(**options):
     -------
     float
         Stars of the drawn classes in the volume; NaN when ``host_mix``
-        gives more than one class weights that are not the local densities
-        (the drawn mix is then not that of any real volume, so no single
-        factor converts the counts).
+        gives several classes weights that are not proportional to their
+        local densities (the drawn mix is then not that of any real volume,
+        so no single factor converts the counts).
     """
     import math
     o = _options(options)
     density = model.class_densities()
-    mix = o["host_mix"]
-    if mix is None:
-        rho = sum(density.values())
-    else:
-        drawn = [c for c, w in mix.items() if w > 0]
-        if len(drawn) > 1:
-            return math.nan
-        rho = density[drawn[0]]
+    mix = o["host_mix"] or density
+    drawn = [c for c, w in mix.items() if w > 0]
+    ratio = np.array([mix[c] / density[c] for c in drawn])
+    if not np.allclose(ratio, ratio[0], rtol=1e-9, atol=0.0):
+        return math.nan
+    rho = sum(density[c] for c in drawn)
     d0, d1 = o["min_distance_pc"], o["max_distance_pc"]
     return rho * 4.0 / 3.0 * math.pi * (d1 ** 3 - d0 ** 3)

@@ -18,7 +18,7 @@ Pure numpy compute on the shipped tables of ``data_tables/population/``
   ``max_distance_pc``; apparent magnitudes m = M + 5 log10(d / 10 pc),
   no extinction (common practice for nearby stars, no source); sky
   positions uniform on the sphere;
-* occurrence: Fressin et al. 2013 (ApJ 766, 81, Table 2) for F, G and K
+* occurrence: Fressin et al. 2013 (ApJ 766, 81; its Table 2 as transcribed in the SAG13 compilation) for F, G and K
   hosts, its empty cells (Earths beyond 85 d, super-Earths beyond 145 d)
   filled with half the Hsu et al. 2019 (AJ 158, 109) upper limit as a
   density flat in ln P and ln R, and small Neptunes at 245-418 d carried

@@ -77,10 +77,8 @@ def _population_chunks(population, generate, seed, draws, mapping, chunk_planets
         opts = dict(generator_options or {})
         chunks = [((s, b), partial(generate_blocks, count=min(per, blocks - b), options=opts))
                   for s in seeds for b in range(0, blocks, per)]
-        from ..population import stars_in_volume
         return chunks, seeds, {"generated_stars": blocks * BLOCK_STARS, "seeds": seeds,
-                               "block_stars": BLOCK_STARS, "generator_options": opts,
-                               "stars_in_volume": stars_in_volume(**opts)}
+                               "block_stars": BLOCK_STARS, "generator_options": opts}
     if int(_parse_int(draws, "--draws", 1, MAX_DRAWS)) != 1:
         raise InputError("--draws", draws, "1 for a population file (draws need --generate)")
     from astropy.table import Table
@@ -263,10 +261,15 @@ def _compute(chunks, designs, settings, scheduler, workers, connect_timeout, chu
 
 
 def _volume_scale(pop_desc):
-    """Stars in the real volume per star drawn (generated populations; NaN otherwise)."""
+    """Stars in the real volume per star drawn (generated populations; NaN otherwise).
+
+    Derived from the run's description here, not stored in it, so that it
+    never changes the identity of a run (its resumption key).
+    """
     if "generated_stars" not in pop_desc:
         return math.nan
-    return pop_desc["stars_in_volume"] / pop_desc["generated_stars"]
+    from ..population import stars_in_volume
+    return stars_in_volume(**pop_desc["generator_options"]) / pop_desc["generated_stars"]
 
 
 def _bins_factor(resolution):
@@ -294,9 +297,16 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests, volume_sc
 
     ``volume_scale`` is the number of stars the real volume holds per star
     drawn (:func:`snrkit.planning.population.stars_in_volume` over the stars
-    of one draw): ``yield_per_volume`` = ``yield_mean`` x ``volume_scale``
-    is the yield of the real neighbourhood (NaN for a population file, or a
-    host mix that is not the local one).
+    of one draw, whole generator blocks): ``yield_per_volume`` =
+    ``yield_mean`` x ``volume_scale`` is the expected yield of the real
+    neighbourhood -- its transiting planets that reach the target, if all
+    are known and every transit is taken -- and
+    ``yield_per_volume_error`` = ``volume_scale`` x sqrt(``yield_mean`` /
+    draws) the sampling error of that estimate (Poisson counts over the
+    draws).  The real neighbourhood is one realisation: its own count
+    scatters by about sqrt(``yield_per_volume``) around the expectation,
+    and the occurrence rates' uncertainty is not included.  NaN for a
+    population file, or a host mix that is not the local one.
 
     Returns
     -------
@@ -307,8 +317,9 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests, volume_sc
         status (``ok``, ``not_reachable``, ``saturated``, the population's
         and the catalogue's refusals, ...);
         ``yield_mean`` and ``yield_spread`` over the draws,
-        ``poisson_sigma`` and ``yield_per_volume`` (design, scenario, test,
-        planet_class, hz_position); attribute ``volume_scale``.  Design coordinates: ``mode``, ``aperture_m``,
+        ``poisson_sigma``, ``yield_per_volume`` and
+        ``yield_per_volume_error`` (design, scenario, test, planet_class,
+        hz_position); attribute ``volume_scale``.  Design coordinates: ``mode``, ``aperture_m``,
         ``throughput_scale``, ``floor_ppm``, ``hours``, ``years``.
     """
     import xarray as xr
@@ -346,8 +357,13 @@ def yield_dataset(counts, seeds, designs, apertures, scenarios, tests, volume_sc
     ds["poisson_sigma"] = np.sqrt(ds["yield_mean"])
     ds["yield_per_volume"] = ds["yield_mean"] * float(volume_scale)
     ds["yield_per_volume"].attrs["description"] = (
-        "yield_mean x stars in the real volume / stars drawn: the yield of the real "
-        "neighbourhood (NaN for a population file or a host mix that is not the local one)")
+        "yield_mean x stars in the real volume / stars drawn: the expected yield of the real "
+        "neighbourhood if all its planets are known and every transit is taken; the real "
+        "sky scatters by about its square root, occurrence-rate uncertainty not included "
+        "(NaN for a population file or a host mix that is not the local one)")
+    ds["yield_per_volume_error"] = float(volume_scale) * np.sqrt(ds["yield_mean"] / len(seeds))
+    ds["yield_per_volume_error"].attrs["description"] = (
+        "sampling error of yield_per_volume: volume scale x sqrt(yield_mean / draws)")
     ds.attrs["volume_scale"] = float(volume_scale)
     ds["aperture_m"].attrs["units"] = "m"
     ds["floor_ppm"].attrs["units"] = "ppm"
