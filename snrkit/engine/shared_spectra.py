@@ -29,8 +29,10 @@ def scenario_spectrum(spectra, obs, sc, contributions, transmission_spectrum):
     Parameters
     ----------
     spectra : list or None
-        The spectra solved so far for these planets and this scenario (one
-        list per scenario, kept by the caller); None: solve, keep nothing.
+        The latest spectrum solved for these planets and this scenario (one
+        list per scenario, kept by the caller; modes sharing bins come one
+        after another, so only the latest is kept and a caller's memory
+        holds one spectrum per scenario); None: solve, keep nothing.
     obs : dict
         The observation (:func:`snrkit.engine.observe.observe`).
     sc : Scenario
@@ -63,7 +65,7 @@ def scenario_spectrum(spectra, obs, sc, contributions, transmission_spectrum):
         depth = ds["transit_depth_ppm"]
         if isinstance(depth, np.ndarray):
             depth.setflags(write=False)
-        spectra.append((inputs, shape, ds, notes))
+        spectra[:] = [(inputs, shape, ds, notes)]      # only the latest: memory of one
     return ds
 
 
