@@ -144,7 +144,8 @@ def _evaluate_designs(system, designs, scenarios, tests, kw, per_pass, assigned)
     distinct = {}
     for design, mode in designs:
         distinct.setdefault(_instrument_key(design), mode)
-    keys = list(distinct)
+    # designs of one mode file next to each other: the engine keeps the latest spectrum
+    keys = sorted(distinct, key=lambda k: str(k[0]))
     engine = {}
     for si, spec in enumerate(scenarios):
         for ti, test in enumerate(tests):
