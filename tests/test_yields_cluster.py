@@ -72,6 +72,20 @@ def test_cluster_yield_equals_the_in_process_engine(cluster, reference, tmp_path
     assert 0 < int(reference["reached"].sum()) < int(reference["planets"].sum())
 
 
+def test_workers_keep_no_profile_history(cluster):
+    # dask's statistical profiler keeps a call tree per second for an hour; with the engine's
+    # deep stacks it grew a worker by ~0.25 MB/s, tying memory to run length (WORKER_CONFIG
+    # turns it off; the cluster fixture starts its workers with that configuration)
+    from distributed import Client
+    with Client(cluster.scheduler_address) as client:
+        client.submit(sum, range(10**6), pure=False).result()
+        enabled = client.run(lambda: __import__("dask").config.get(
+            "distributed.worker.profile.enabled"))
+        history = client.run(lambda dask_worker: len(dask_worker.profile_history))
+    assert set(enabled.values()) == {False}
+    assert set(history.values()) == {0}
+
+
 def test_a_killed_worker_loses_no_chunk(cluster, small_reference, tmp_path):
     """SIGKILL a worker as soon as it holds chunks of the run: dask reruns them elsewhere."""
     import threading
