@@ -284,6 +284,7 @@ def test_presets_show_writes_every_kind_of_starting_point(capsys, tmp_path):
         rc, printed, _ = run_cli(capsys, "presets", "--show", name, "--out", str(out))
         assert rc == 0 and str(out) in printed
         assert out.read_text().startswith("# from ") and read_toml(out, name)
+        assert "not this file" not in out.read_text()          # the copy is the user's to edit
     assert load_mapping(str(tmp_path / "example-renamed.toml"))
     rc, _, err = run_cli(capsys, "presets", "--out", str(tmp_path / "x.toml"))
     assert rc == 2 and "--show" in err

@@ -72,6 +72,9 @@ def run(args):
         text = f"# from {path}\n" + path.read_text(encoding="utf-8")
         if args.out:
             from ..io.atomic import atomic_write_text
+            # a copy is the user's to edit: the shipped file's "edit the script" line goes
+            lines = text.splitlines(keepends=True)
+            text = "".join(line for line in lines if "edit the script, not this file" not in line)
             atomic_write_text(args.out, text)
             print(f"wrote {args.out} (from {path.name})")
         else:
