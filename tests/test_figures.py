@@ -189,9 +189,19 @@ def test_gas_test_spectrum_draws_the_scenario_without_the_gas(cedar):
     gas = transits_for_system(cedar.take([0]), MODE, species="H2O", uncertainty_draws=0)
     ax = plot_simulated_spectrum(gas).axes[0]
     lines = {ln.get_label(): ln for ln in ax.get_lines()}
-    null = lines[f"null: {gas['planets'][0]['null_model']}"]
-    ok = np.isfinite(gas["dataset"]["white_noise_ppm_per_transit"].values[0])
-    np.testing.assert_array_equal(null.get_ydata()[ok], gas["dataset"]["null_ppm"].values[0][ok])
+    null = lines[f"null: {gas['planets'][0]['null_model']} (best level)"]
+    ds = gas["dataset"]
+    ok = np.isfinite(ds["white_noise_ppm_per_transit"].values[0])
+    # drawn at the level the test fits: the null plus one constant that makes the weighted
+    # residuals against the model sum to zero (w = 1/sigma_N^2, N = the transits shown)
+    shift = null.get_ydata()[ok] - ds["null_ppm"].values[0][ok]
+    np.testing.assert_allclose(shift, shift[0], rtol=0, atol=1e-9 * np.abs(shift[0]) + 1e-12)
+    n = gas["planets"][0]["transits_needed"] or int(ds["transits"].values[-1])
+    white2, floor2 = (ds[v].values[0][ok] ** 2 for v in ("white_noise_ppm_per_transit", "floor_ppm"))
+    sig2 = ((white2 + floor2) / n if ds.attrs["floor_averages_down"] else white2 / n + floor2)
+    resid = ds["model_ppm"].values[0][ok] - null.get_ydata()[ok]
+    assert abs(np.sum(resid / sig2)) <= 1e-9 * np.sum(np.abs(resid) / sig2)
+    assert shift[0] > 0          # without its water the spectrum lies lower: the level lifts it
     assert "H2O" in gas["planets"][0]["null_model"]
 
 
