@@ -189,19 +189,24 @@ def test_gas_test_spectrum_draws_the_scenario_without_the_gas(cedar):
     gas = transits_for_system(cedar.take([0]), MODE, species="H2O", uncertainty_draws=0)
     ax = plot_simulated_spectrum(gas).axes[0]
     lines = {ln.get_label(): ln for ln in ax.get_lines()}
-    null = lines[f"null: {gas['planets'][0]['null_model']} (best level)"]
+    null = lines[f"null: {gas['planets'][0]['null_model']} (best fit)"]
     ds = gas["dataset"]
     ok = np.isfinite(ds["white_noise_ppm_per_transit"].values[0])
-    # drawn at the level the test fits: the null plus one constant that makes the weighted
-    # residuals against the model sum to zero (w = 1/sigma_N^2, N = the transits shown)
-    shift = null.get_ydata()[ok] - ds["null_ppm"].values[0][ok]
-    np.testing.assert_allclose(shift, shift[0], rtol=0, atol=1e-9 * np.abs(shift[0]) + 1e-12)
+    # drawn where the species test's fit puts it (DEVELOPERS: level + b x the spectrum
+    # without the gas, 0 <= b <= 2): y = b null + c, with weighted residuals against the
+    # model orthogonal to the level and, b being inside its range, to the null
+    # (normal equations of least squares; w = 1/sigma_N^2 at the N transits shown)
+    y, x = null.get_ydata()[ok], ds["null_ppm"].values[0][ok]
+    b, c = np.polyfit(x, y, 1)
+    np.testing.assert_allclose(y, b * x + c, rtol=1e-9)
+    assert 0.0 < b < 2.0
     n = gas["planets"][0]["transits_needed"] or int(ds["transits"].values[-1])
     white2, floor2 = (ds[v].values[0][ok] ** 2 for v in ("white_noise_ppm_per_transit", "floor_ppm"))
     sig2 = ((white2 + floor2) / n if ds.attrs["floor_averages_down"] else white2 / n + floor2)
-    resid = ds["model_ppm"].values[0][ok] - null.get_ydata()[ok]
-    assert abs(np.sum(resid / sig2)) <= 1e-9 * np.sum(np.abs(resid) / sig2)
-    assert shift[0] > 0          # without its water the spectrum lies lower: the level lifts it
+    resid = ds["model_ppm"].values[0][ok] - y
+    scale = np.sum(np.abs(resid) * (1.0 + np.abs(x)) / sig2)
+    assert abs(np.sum(resid / sig2)) <= 1e-9 * scale
+    assert abs(np.sum(resid * x / sig2)) <= 1e-9 * scale
     assert "H2O" in gas["planets"][0]["null_model"]
 
 
