@@ -281,3 +281,54 @@ def test_transits_for_probability_against_monte_carlo():
     tol = 3 * np.sqrt(0.09 / 20000)
     assert fraction(n90) >= 0.9 - tol
     assert fraction(n90 - 1) < 0.9 + tol
+
+
+@given(st.integers(0, 10_000), st.booleans(), st.sampled_from([None, (0.0, 2.0), (0.9, 1.1)]))
+def test_fitted_null_is_the_profiled_minimum(seed, with_templates, scale):
+    # the fitted null's weighted residual is the null's min chi^2 of the nested statistic
+    # (alternative = the data itself, so Delta chi^2 = min chi^2(null)); with free templates
+    # there is no prior penalty, and the residual is orthogonal to every fitted column
+    # (normal equations of least squares)
+    rng = np.random.default_rng(seed)
+    n = 40
+    data = 1e4 + rng.normal(0.0, 30.0, n) + 80.0 * np.sin(np.linspace(0, 6, n))
+    null = 1e4 + 60.0 * np.cos(np.linspace(0, 3, n))
+    sigma = rng.uniform(5.0, 20.0, n)
+    sigma[rng.integers(0, n, 3)] = np.nan                   # unused bins
+    tmpl = rng.normal(0.0, 1.0, (n, 2)) if with_templates else None
+    fit = likelihood.fitted_null(data, null, sigma, null_templates=tmpl, null_scale=scale)
+    use = np.isfinite(sigma)
+    resid = (data - fit)[use]
+    w = 1.0 / sigma[use] ** 2
+    chi = np.sum(w * resid ** 2)
+    ref = likelihood.nested_delta_chi2(data, null, sigma, null_templates=tmpl, null_scale=scale)
+    assert chi == pytest.approx(float(ref), rel=1e-8, abs=1e-9)
+    tol = 1e-8 * np.sum(w * np.abs(resid) * (1.0 + np.abs(data[use])))
+    assert abs(np.sum(w * resid)) <= tol                     # the level
+    if tmpl is not None:
+        assert np.all(np.abs(tmpl[use].T @ (w * resid)) <= tol)
+    # the fitted null is b x null + level + templates: b within its bounds
+    cols = [np.ones(n), null] + ([] if tmpl is None else list(tmpl.T))
+    coef, *_ = np.linalg.lstsq(np.array(cols).T[use], fit[use], rcond=None)
+    lo, hi = scale if scale is not None else (1.0, 1.0)
+    assert lo - 1e-9 <= coef[1] <= hi + 1e-9
+
+
+def test_fitted_null_with_a_prior_pays_the_penalty():
+    # with a Gaussian prior on a template amplitude the residual's chi^2 plus (a - mean)^2 / s^2
+    # is the null's min chi^2
+    rng = np.random.default_rng(3)
+    n = 30
+    data = 500.0 + rng.normal(0.0, 5.0, n)
+    null = np.full(n, 480.0)
+    sigma = np.full(n, 4.0)
+    tmpl = np.linspace(-1.0, 1.0, n)[:, None] * 20.0
+    fit = likelihood.fitted_null(data, null, sigma, null_templates=tmpl, template_sigma=[0.5],
+                                 template_mean=[0.2])
+    # the amplitude: fitted minus level is a x template
+    x = np.column_stack([np.ones(n), tmpl[:, 0]])
+    (level, a), *_ = np.linalg.lstsq(x, fit - null, rcond=None)
+    chi = np.sum((data - fit) ** 2 / sigma ** 2) + (a - 0.2) ** 2 / 0.5 ** 2
+    ref = likelihood.nested_delta_chi2(data, null, sigma, null_templates=tmpl, template_sigma=[0.5],
+                                       template_mean=[0.2])
+    assert chi == pytest.approx(float(ref), rel=1e-9)

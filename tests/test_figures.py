@@ -192,21 +192,23 @@ def test_gas_test_spectrum_draws_the_scenario_without_the_gas(cedar):
     null = lines[f"null: {gas['planets'][0]['null_model']} (best fit)"]
     ds = gas["dataset"]
     ok = np.isfinite(ds["white_noise_ppm_per_transit"].values[0])
-    # drawn where the species test's fit puts it (DEVELOPERS: level + b x the spectrum
-    # without the gas, 0 <= b <= 2): y = b null + c, with weighted residuals against the
-    # model orthogonal to the level and, b being inside its range, to the null
-    # (normal equations of least squares; w = 1/sigma_N^2 at the N transits shown)
-    y, x = null.get_ydata()[ok], ds["null_ppm"].values[0][ok]
-    b, c = np.polyfit(x, y, 1)
-    np.testing.assert_allclose(y, b * x + c, rtol=1e-9)
-    assert 0.0 < b < 2.0
+    # drawn where the species test's fit puts it (level + b x the spectrum without the gas,
+    # 0 <= b <= 2): its chi^2 against the model at the N transits shown is the statistic of
+    # the nested test there (the alternative is the model itself)
+    from snrkit.stats.hypotheses import SPECIES_SCALE
+    from snrkit.stats.likelihood import nested_delta_chi2, noise_per_bin
+    y = null.get_ydata()[ok]
+    np.testing.assert_allclose(y, ds["null_fitted_ppm"].values[0][ok], rtol=1e-12)
     n = gas["planets"][0]["transits_needed"] or int(ds["transits"].values[-1])
-    white2, floor2 = (ds[v].values[0][ok] ** 2 for v in ("white_noise_ppm_per_transit", "floor_ppm"))
-    sig2 = ((white2 + floor2) / n if ds.attrs["floor_averages_down"] else white2 / n + floor2)
-    resid = ds["model_ppm"].values[0][ok] - y
-    scale = np.sum(np.abs(resid) * (1.0 + np.abs(x)) / sig2)
-    assert abs(np.sum(resid / sig2)) <= 1e-9 * scale
-    assert abs(np.sum(resid * x / sig2)) <= 1e-9 * scale
+    sig = noise_per_bin(ds["white_noise_ppm_per_transit"].values[0][ok], n,
+                        ds["floor_ppm"].values[0][ok], bool(ds.attrs["floor_averages_down"]))
+    model = ds["model_ppm"].values[0][ok]
+    chi = np.sum((model - y) ** 2 / sig ** 2)
+    ref = nested_delta_chi2(model, ds["null_ppm"].values[0][ok], sig, null_scale=SPECIES_SCALE)
+    assert chi == pytest.approx(float(ref), rel=1e-8)
+    # and that is the significance the test reports at N (Z = sqrt(Delta chi^2))
+    if gas["planets"][0]["transits_needed"]:
+        assert np.sqrt(chi) >= 5.0 * (1 - 1e-6)
     assert "H2O" in gas["planets"][0]["null_model"]
 
 

@@ -279,6 +279,12 @@ def planet_records(ctx):
     return planets, notes
 
 
+def _shown_transits(planets, res):
+    """Per planet: its transits needed, else the last of the curve's transits (as the figures)."""
+    last = int(np.asarray(res["curve_transits"])[-1]) if len(res["curve_transits"]) else 1
+    return np.array([p["transits_needed"] or last for p in planets], dtype=np.float64)
+
+
 def result_dataset(ctx, planets):
     """Spectra, noise and significance curves as an xarray Dataset."""
     import xarray as xr
@@ -298,6 +304,11 @@ def result_dataset(ctx, planets):
                           {"units": "ppm", "long_name": "true spectrum (as observed)"}),
             "null_ppm": (("planet", "wavelength"), null,
                                 {"units": "ppm", "long_name": f"null model: {ctx['label']}"}),
+            "null_fitted_ppm": (("planet", "wavelength"),
+                                hy.fitted_null_at(models, used, obs, _shown_transits(planets, res)),
+                                {"units": "ppm", "long_name": "the null at its best fit to the "
+                                 "model after the transits needed (else the curve's last), as "
+                                 "the test profiles it: level, templates, species factor"}),
             "noise_ppm_per_transit": (("planet", "wavelength"),
                                       np.where(usable, np.sqrt(white ** 2 + floor ** 2), np.nan),
                                       {"units": "ppm"}),

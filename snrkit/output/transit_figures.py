@@ -200,39 +200,10 @@ def _display_points(ds, planet, groups, n_show, rng):
     return np.array(x), np.array(y), np.array(e), ok
 
 
-def _fitted_null(ds, planet, ok, n_transits, scaled):
-    """The null where the test's fit puts it against the model at N transits.
-
-    The tests profile a vertical level on the null side, and for a species
-    test a factor b on the spectrum without the gas, 0 <= b <= 2
-    (:data:`snrkit.stats.hypotheses.SPECIES_SCALE`): weighted least squares,
-    w = 1 / sigma_N^2 per usable bin, b clipped to its range (the level then
-    refitted).  Nuisance templates, where a test has them, are not drawn.
-    """
-    from ..stats.hypotheses import SPECIES_SCALE
-    from ..stats.likelihood import noise_per_bin
-    sig = noise_per_bin(ds["white_noise_ppm_per_transit"].values[planet], n_transits,
-                        ds["floor_ppm"].values[planet],
-                        bool(ds.attrs.get("floor_averages_down", 0)))
-    w = np.where(ok & np.isfinite(sig), 1.0 / np.where(sig > 0, sig, np.inf) ** 2, 0.0)
-    null = ds["null_ppm"].values[planet]
-    if not np.sum(w) > 0:
-        return null
-    m = np.where(w > 0, ds["model_ppm"].values[planet], 0.0)
-    x = np.where(w > 0, null, 0.0)
-    b = 1.0
-    if scaled:
-        sw, sx, sm = np.sum(w), np.sum(w * x), np.sum(w * m)
-        det = sw * np.sum(w * x * x) - sx * sx
-        if det > 0:
-            b = float(np.clip((sw * np.sum(w * x * m) - sx * sm) / det, *SPECIES_SCALE))
-    return b * null + float(np.sum(w * (m - b * x)) / np.sum(w))
-
-
 def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
     """Model spectrum, null, observed depth and a simulated spectrum at the transits needed.
 
-    The null is drawn where the test's fit puts it (:func:`_fitted_null`).  One planet per panel, so that features of 100 ppm are not flattened by
+    The null is drawn where the test's fit puts it (``null_fitted_ppm``).  One planet per panel, so that features of 100 ppm are not flattened by
     another planet's depth.  Bins lost to saturation are left blank.
 
     Returns
@@ -248,7 +219,7 @@ def plot_simulated_spectrum(result, planet=0, ax=None, seed=0):
     wl = ds["wavelength"].values
     ax.step(wl, np.where(ok, ds["model_ppm"].values[planet], np.nan), where="mid", color="C0",
             lw=1.0, label=f"model: {rec['scenario']}")
-    null = _fitted_null(ds, planet, ok, n_show, str(rec["test"]).startswith("species"))
+    null = ds["null_fitted_ppm"].values[planet]        # as the test fits it, at N transits
     ax.step(wl, np.where(ok, null, np.nan), where="mid", color="C1", lw=0.9,
             label=f"null: {rec['null_model']} (best fit)")
     ax.axhline(float(ds["observed_depth_ppm"].values[planet]), color="0.4", ls=":", lw=0.9,

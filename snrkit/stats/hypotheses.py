@@ -45,7 +45,7 @@ import numpy as np
 from . import detect as dt
 
 __all__ = ["NestedModels", "build_models", "run_test", "delta_chi2_per_transit", "transits_spread",
-           "GOODNESS_OF_FIT", "SPECIES_SCALE"]
+           "fitted_null_at", "GOODNESS_OF_FIT", "SPECIES_SCALE"]
 
 #: Bounds of the free factor on the remaining features in a species test.
 SPECIES_SCALE = (0.0, 2.0)
@@ -275,6 +275,31 @@ def delta_chi2_per_transit(models, used, obs):
     m = models.masked(usable)
     sig = np.where(usable, np.sqrt(used["white"] ** 2 + obs["floor"] ** 2), np.nan)
     return dt.nested_delta_chi2(m.data, m.null, sig, **m.stack_kwargs())
+
+
+def fitted_null_at(models, used, obs, n_transits):
+    """The null at its best fit to the data after N transits (per planet), as the test profiles it.
+
+    The level, any nuisance templates and a species test's factor b at
+    their profiled values (:func:`snrkit.stats.likelihood.fitted_null`),
+    on the bins and noise the test used: white noise and floor stacked over
+    ``n_transits`` (one per planet, >= 1).
+
+    Returns
+    -------
+    numpy.ndarray (planet, bin)
+        The fitted null [ppm]; NaN in bins the test did not use.
+    """
+    from .likelihood import fitted_null, noise_per_bin
+    usable = used["usable"] & np.isfinite(models.data) & np.isfinite(models.null)
+    m = models.masked(usable)
+    n = np.maximum(np.asarray(n_transits, dtype=np.float64), 1.0)[..., None]
+    sig = np.where(usable, noise_per_bin(used["white"], n, obs["floor"], obs["floor_averages"]),
+                   np.nan)
+    fit = fitted_null(m.data, m.null, sig, null_templates=m.null_templates,
+                      template_sigma=m.template_sigma, template_mean=m.template_mean,
+                      null_scale=m.null_scale)
+    return np.where(usable, fit, np.nan)
 
 
 def transits_spread(models, used, obs, scale, *, sigma, n_max):

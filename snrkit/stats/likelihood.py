@@ -15,7 +15,8 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["NO_SIGNAL_DEPTH_RTOL", "noise_per_bin", "profiled_delta_chi2", "nested_delta_chi2"]
+__all__ = ["NO_SIGNAL_DEPTH_RTOL", "noise_per_bin", "profiled_delta_chi2", "nested_delta_chi2",
+           "fitted_null"]
 
 
 #: Two models whose depths differ by less than this fraction of the depths are
@@ -198,15 +199,8 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
     k = None if null_templates is None else np.shape(null_templates)[-1]
     prior = None if k is None else _prior_precision(template_sigma, k)
     nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
-    if null_scale is None:
-        chi_null, _ = _gls(_shift(d - nul, null_templates, template_mean), w, null_templates, prior)
-    else:
-        base = _shift(d, null_templates, template_mean)
-        cols = nul[..., None] if null_templates is None else np.concatenate(
-            [nul[..., None], np.broadcast_to(null_templates, d.shape + (k,))], axis=-1)
-        _, coef = _gls(base, w, cols, None if prior is None else np.concatenate([[0.0], prior]))
-        b = np.clip(coef[..., 1], null_scale[0], null_scale[1])[..., None]
-        chi_null, _ = _gls(base - b * nul, w, null_templates, prior)
+    b = _null_factor(d, nul, w, null_templates, prior, template_mean, null_scale)
+    chi_null, _ = _gls(_shift(d - b * nul, null_templates, template_mean), w, null_templates, prior)
     if shape is not None:
         s = np.broadcast_to(np.asarray(shape, dtype=np.float64), d.shape)[..., None]
         cols = s if alt_templates is None else np.concatenate(
@@ -225,3 +219,55 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
     # NO_SIGNAL_DEPTH_RTOL of the depths themselves
     scale = np.sum(w * np.where(w > 0, d, 0.0) ** 2, axis=-1)
     return np.where(delta <= NO_SIGNAL_DEPTH_RTOL ** 2 * scale, 0.0, delta)
+
+
+def _null_factor(d, nul, w, templates, prior, template_mean, null_scale):
+    """The null's free factor b (..., 1): 1 without ``null_scale``, else profiled and clipped.
+
+    After the level and templates are profiled, chi^2(b) is a convex
+    parabola, so the bounded minimum is at the clipped unconstrained b.
+    """
+    if null_scale is None:
+        return np.ones(d.shape[:-1] + (1,))
+    k = None if templates is None else np.shape(templates)[-1]
+    base = _shift(d, templates, template_mean)
+    cols = nul[..., None] if templates is None else np.concatenate(
+        [nul[..., None], np.broadcast_to(templates, d.shape + (k,))], axis=-1)
+    _, coef = _gls(base, w, cols, None if prior is None else np.concatenate([[0.0], prior]))
+    return np.clip(coef[..., 1], null_scale[0], null_scale[1])[..., None]
+
+
+def fitted_null(data, null, sigma, *, null_templates=None, template_sigma=None,
+                template_mean=None, null_scale=None):
+    """The null model at its best fit to the data: what :func:`nested_delta_chi2` profiles.
+
+    b x null + level + sum_k a_k template_k, with the level, the template
+    amplitudes (Gaussian priors N(``template_mean``, ``template_sigma``))
+    and, with ``null_scale``, the factor b (bounded) at their profiled
+    values; the weighted residual data - fitted_null gives the null's
+    min chi^2 (plus the priors' penalty).  Arguments as in
+    :func:`nested_delta_chi2`.
+
+    Returns
+    -------
+    numpy.ndarray (..., n_wl)
+        The fitted null, in the data's unit (defined in every bin, used or not).
+    """
+    d = np.asarray(data, dtype=np.float64)
+    w = _weights(sigma, d.shape)
+    k = None if null_templates is None else np.shape(null_templates)[-1]
+    prior = None if k is None else _prior_precision(template_sigma, k)
+    nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
+    b = _null_factor(d, nul, w, null_templates, prior, template_mean, null_scale)
+    base = _shift(d - b * nul, null_templates, template_mean)
+    _, coef = _gls(base, w, null_templates, prior)
+    # _gls fits the residual after removing its weighted mean: the level is that mean plus
+    # the fitted constant
+    sw = np.sum(w, axis=-1, keepdims=True)
+    mean = np.sum(w * np.where(w > 0, base, 0.0), axis=-1, keepdims=True) / np.where(sw > 0, sw,
+                                                                                   1.0)
+    fit = mean + coef[..., :1]
+    if null_templates is not None:
+        t = np.broadcast_to(np.asarray(null_templates, dtype=np.float64), d.shape + (k,))
+        fit = fit + np.einsum("...lk,...k->...l", t, coef[..., 1:])
+    return d - (base - fit)
