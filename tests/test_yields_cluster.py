@@ -78,12 +78,27 @@ def test_workers_keep_no_profile_history(cluster):
     # turns it off; the cluster fixture starts its workers with that configuration)
     from distributed import Client
     with Client(cluster.scheduler_address) as client:
-        client.submit(sum, range(10**6), pure=False).result()
-        enabled = client.run(lambda: __import__("dask").config.get(
-            "distributed.worker.profile.enabled"))
-        history = client.run(lambda dask_worker: len(dask_worker.profile_history))
+        _assert_no_profiler(client)
+
+
+def _assert_no_profiler(client):
+    """The workers' config says no profiler, and none of its periodic callbacks runs."""
+    enabled = client.run(lambda: __import__("dask").config.get("distributed.worker.profile.enabled"))
+    callbacks = client.run(lambda dask_worker: sorted(k for k in dask_worker.periodic_callbacks
+                                                      if "profile" in k))
     assert set(enabled.values()) == {False}
-    assert set(history.values()) == {0}
+    assert all(v == [] for v in callbacks.values()), callbacks
+
+
+def test_the_local_cluster_snrkit_starts_has_no_profiler():
+    # the product's own path (connect), not the fixture's copy of it
+    from snrkit.planning.yields.cluster import connect
+    client, cluster = connect("local", workers=1)
+    try:
+        _assert_no_profiler(client)
+    finally:
+        client.close()
+        cluster.close()
 
 
 def test_a_killed_worker_loses_no_chunk(cluster, small_reference, tmp_path):

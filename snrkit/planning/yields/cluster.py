@@ -48,8 +48,8 @@ PROCESS_BASE_BYTES = 500_000_000
 #: The workers' statistical profiler is off: it keeps a call tree per second
 #: for the last hour, and the engine's deep stacks made a worker grow by about
 #: 0.25 MB per second of work (measured: 182 -> 220 MB over 160 s with it,
-#: flat without), which would have tied the memory to the run's length
-#: instead of the chunk (the dashboard's profile page stays empty).
+#: flat without), up to about 0.9 GB after an hour: memory set by the run's
+#: length instead of the chunk (the dashboard's profile page stays empty).
 WORKER_CONFIG = {"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
                  "distributed.worker.profile.enabled": False}
 #: Chunks in flight per worker thread: tasks are sent as others finish, so a
