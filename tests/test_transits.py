@@ -172,6 +172,22 @@ def test_unfitted_contamination_mimics_an_atmosphere(cedar):
                                                        "spot_temperature_contrast": 5000.0})
 
 
+def test_unfitted_contamination_that_cancels_a_signal_is_named(cedar):
+    # Spots (Rackham, Apai & Giampapa 2018) that are not fitted can bias a species test's
+    # Delta chi^2 to zero although the planet alone gives one: the answer is then the star's
+    # (status stellar_contamination, share 1), not "the two models give the same spectrum"
+    one = cedar.select("Cedar b")
+    spots = {"spot_fraction": 0.1, "spot_temperature_contrast": 1000.0, "fitted": False}
+    clean = transits_for_system(one, PRISM, species="H2O", resolution=40)["planets"][0]
+    biased = transits_for_system(one, PRISM, species="H2O", resolution=40,
+                                 contamination=spots)["planets"][0]
+    assert clean["delta_chi2_per_transit"] > 0 and clean["status"] != "no_signal"
+    assert biased["delta_chi2_per_transit"] == 0.0      # here the bias cancels the signal
+    assert biased["status"] == "stellar_contamination", biased["reason"]
+    assert biased["contamination_share"] == 1.0 and "cancels" in biased["reason"]
+    assert biased["limiting_term"] == "stellar contamination (bias)"
+
+
 def test_fisher_errors_through_the_chain(cedar):
     # Expected 1-sigma errors at the N needed: finite for the CO2 abundance of the
     # CO2-rich planet, and no larger when more transits are assumed (more data).

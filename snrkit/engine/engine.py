@@ -256,17 +256,26 @@ def scenario_context(system, obs, mode, scenario, *, test=None, species=None, ag
 
 
 def _side_statistics(kind, truth, null, eps, fitted, models, used, obs, res):
-    """The contamination's share of an unfitted bias, and the atmosphere test on the same noise."""
+    """The contamination's share of an unfitted bias, and the atmosphere test on the same noise.
+
+    The share is 1 - (Delta chi^2 without the contamination) / (with it) where
+    the bias inflates the statistic, and 1 where it cancels a signal the
+    planet alone would give (no Delta chi^2 with it, some without): either
+    way the answer is the star's, not the planet's.
+    """
     from ..stats.hypotheses import delta_chi2_per_transit
     n = truth.shape[0]
-    out = {"bias_share": np.zeros(n), "atmosphere_delta_chi2": None}
+    out = {"bias_share": np.zeros(n), "atmosphere_delta_chi2": None,
+           "clean_delta_chi2": None}
     lam = res["delta_chi2_per_transit"]
     if eps is not None and not fitted:
         clean = hy.build_models("atmosphere" if kind == hy.GOODNESS_OF_FIT else kind, truth, null,
                                 goodness_of_fit=(kind == hy.GOODNESS_OF_FIT))
         lam_clean = delta_chi2_per_transit(clean, used, obs)
+        out["clean_delta_chi2"] = lam_clean
         with np.errstate(invalid="ignore", divide="ignore"):
-            out["bias_share"] = np.clip(np.where(lam > 0, 1.0 - lam_clean / lam, 0.0), 0.0, 1.0)
+            share = np.where(lam > 0, 1.0 - lam_clean / lam, np.where(lam_clean > 0, 1.0, 0.0))
+        out["bias_share"] = np.clip(share, 0.0, 1.0)
     if kind in ("species", "against"):
         atm = hy.build_models("atmosphere", truth, None, eps, fitted)
         out["atmosphere_delta_chi2"] = delta_chi2_per_transit(atm, used, obs)

@@ -90,6 +90,12 @@ def status_and_reason(i, ctx, n, limiting, saturated_all, unbound, h_km, h_over_
         return "escaping_atmosphere", (
             f"restricted Jeans parameter {jeans[i]:.1f} is below the requested minimum "
             f"{ctx['min_jeans']:g} for a hydrogen-rich envelope ({sc.name!r})")
+    if share > 0.5 and res["no_signal"][i]:
+        clean = float(ctx["extra"]["clean_delta_chi2"][i])
+        return "stellar_contamination", (
+            f"unmodelled stellar contamination cancels the test's signal (Delta chi^2 per "
+            f"transit {clean:.3g} without it, none with it): fit the contamination or choose a "
+            "quieter star")
     if res["no_signal"][i]:
         return "no_signal", (f"{ctx['label']} and {sc.name} give the same spectrum on these bins: "
                              "the test has no signal (0 sigma at any number of transits)")
@@ -130,7 +136,8 @@ def statuses(ctx):
     """Status of every planet at once, and the arrays its reason and limiting term need.
 
     Precedence (first that applies): ``saturated``, ``unbound_atmosphere``,
-    ``escaping_atmosphere``, ``no_signal``, ``stellar_contamination``,
+    ``escaping_atmosphere``, ``stellar_contamination`` where the contamination
+    cancels the signal, ``no_signal``, ``stellar_contamination``,
     ``not_reachable``, ``ok`` -- the order of :func:`status_and_reason`.
     """
     res, used = ctx["res"], ctx["used"]
@@ -140,8 +147,10 @@ def statuses(ctx):
     n_arr = np.asarray(res["transits_needed"])
     share = ctx["extra"]["bias_share"]
     status = np.full(n_arr.shape, "ok", dtype=object)
+    cancelled = (share > 0.5) & np.asarray(res["no_signal"], dtype=bool)
     for mask, word in ((n_arr == 0, "not_reachable"), (share > 0.5, "stellar_contamination"),
-                       (res["no_signal"], "no_signal"), (excluded, "escaping_atmosphere"),
+                       (res["no_signal"], "no_signal"), (cancelled, "stellar_contamination"),
+                       (excluded, "escaping_atmosphere"),
                        (unbound, "unbound_atmosphere"), (saturated_all, "saturated")):
         status[np.asarray(mask, dtype=bool)] = word
     limiting = np.asarray(res["limiting_term"]).astype(str).astype(object)
