@@ -194,13 +194,9 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
         Delta chi^2 >= 0; exactly 0 when the two models are identical
         within numerical precision (:data:`NO_SIGNAL_DEPTH_RTOL`).
     """
-    d = np.asarray(data, dtype=np.float64)
-    w = _weights(sigma, d.shape)
-    k = None if null_templates is None else np.shape(null_templates)[-1]
-    prior = None if k is None else _prior_precision(template_sigma, k)
-    nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
-    b = _null_factor(d, nul, w, null_templates, prior, template_mean, null_scale)
-    chi_null, _ = _gls(_shift(d - b * nul, null_templates, template_mean), w, null_templates, prior)
+    d, w, prior, base = _null_side(data, null, sigma, null_templates, template_sigma,
+                                   template_mean, null_scale)
+    chi_null, _ = _gls(base, w, null_templates, prior)
     if shape is not None:
         s = np.broadcast_to(np.asarray(shape, dtype=np.float64), d.shape)[..., None]
         cols = s if alt_templates is None else np.concatenate(
@@ -219,6 +215,17 @@ def nested_delta_chi2(data, null, sigma, *, alt=None, shape=None, null_templates
     # NO_SIGNAL_DEPTH_RTOL of the depths themselves
     scale = np.sum(w * np.where(w > 0, d, 0.0) ** 2, axis=-1)
     return np.where(delta <= NO_SIGNAL_DEPTH_RTOL ** 2 * scale, 0.0, delta)
+
+
+def _null_side(data, null, sigma, templates, template_sigma, template_mean, null_scale):
+    """(data, weights, prior precision, data - b null - templates at their prior means)."""
+    d = np.asarray(data, dtype=np.float64)
+    w = _weights(sigma, d.shape)
+    k = None if templates is None else np.shape(templates)[-1]
+    prior = None if k is None else _prior_precision(template_sigma, k)
+    nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
+    b = _null_factor(d, nul, w, templates, prior, template_mean, null_scale)
+    return d, w, prior, _shift(d - b * nul, templates, template_mean)
 
 
 def _null_factor(d, nul, w, templates, prior, template_mean, null_scale):
@@ -253,13 +260,8 @@ def fitted_null(data, null, sigma, *, null_templates=None, template_sigma=None,
     numpy.ndarray (..., n_wl)
         The fitted null, in the data's unit (defined in every bin, used or not).
     """
-    d = np.asarray(data, dtype=np.float64)
-    w = _weights(sigma, d.shape)
-    k = None if null_templates is None else np.shape(null_templates)[-1]
-    prior = None if k is None else _prior_precision(template_sigma, k)
-    nul = np.broadcast_to(np.asarray(null, dtype=np.float64), d.shape)
-    b = _null_factor(d, nul, w, null_templates, prior, template_mean, null_scale)
-    base = _shift(d - b * nul, null_templates, template_mean)
+    d, w, prior, base = _null_side(data, null, sigma, null_templates, template_sigma,
+                                   template_mean, null_scale)
     _, coef = _gls(base, w, null_templates, prior)
     # _gls fits the residual after removing its weighted mean: the level is that mean plus
     # the fitted constant
@@ -268,6 +270,7 @@ def fitted_null(data, null, sigma, *, null_templates=None, template_sigma=None,
                                                                                    1.0)
     fit = mean + coef[..., :1]
     if null_templates is not None:
-        t = np.broadcast_to(np.asarray(null_templates, dtype=np.float64), d.shape + (k,))
+        t = np.broadcast_to(np.asarray(null_templates, dtype=np.float64),
+                            d.shape + np.shape(null_templates)[-1:])
         fit = fit + np.einsum("...lk,...k->...l", t, coef[..., 1:])
     return d - (base - fit)
