@@ -9,6 +9,9 @@ in this one process:
 * the streaming floor: ns per element of ``np.add(a, b, out=c)`` on float64
   arrays far larger than the caches, times the elements of the job
   (planets x scenarios x bins x g-points);
+* the cost of one ``np.exp`` per element in float64 and float32, for scale:
+  the floor target allows 10 floors per element in all, and each root needs
+  a few evaluations of ln tau with exponentials and logarithms in them;
 * the engine's time at each resolving power, as a multiple of that floor;
 * the per-planet path, like for like (the same outputs: one planet at a
   time through :func:`snrkit.engine.transits.transits_for_system` with no curves
@@ -67,6 +70,19 @@ def streaming_ns_per_element(n=20_000_000, repeats=5):
     return best / n * 1e9
 
 
+def exp_ns_per_element(dtype, n=16384, repeats=200):
+    """ns per element of np.exp on an in-cache array (the kernel's work arrays are in cache)."""
+    x = np.linspace(-30.0, 0.0, n).astype(dtype)
+    y = np.empty_like(x)
+    best = np.inf
+    for _ in range(5):
+        t0 = time.perf_counter()
+        for _ in range(repeats):
+            np.exp(x, out=y)
+        best = min(best, (time.perf_counter() - t0) / repeats)
+    return best / n * 1e9
+
+
 def n_bins(mode, resolution):
     from snrkit.engine.transits import observe
     one = catalogue_from_table(synthetic(1, seed=9), source="synthetic")
@@ -87,6 +103,9 @@ def main():
     print(f"catalogue      : {args.planets} rows ({n} usable) x {len(SCENARIOS)} scenarios, "
           f"mode {args.mode}, {N_G} g-points")
     print(f"streaming floor: {ns:.2f} ns per element (np.add, float64, measured in this run)")
+    e64, e32 = exp_ns_per_element(np.float64), exp_ns_per_element(np.float32)
+    print(f"one exp        : {e64:.1f} ns per element in float64 ({e64 / ns:.1f} x the floor), "
+          f"{e32:.1f} ns in float32 (in cache, this run)")
     for r in args.resolutions:
         nb = n_bins(args.mode, r)
         elements = n * len(SCENARIOS) * nb * N_G

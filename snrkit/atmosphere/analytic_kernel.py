@@ -18,7 +18,8 @@ import math
 import numpy as np
 
 from .analytic_lattice import lattice_opacity  # noqa: F401  (spectrum imports it from here)
-from .analytic_roots import LN_ABSENT, Planets, node_exponents, shifted_chunk, solve_chunk
+from .analytic_roots import LN_ABSENT, Planets, shifted_chunk, solve_chunk
+from .analytic_tau import node_exponents
 
 __all__ = ["root_radius", "worker_threads", "CHUNK_ELEMENTS"]
 
@@ -163,6 +164,21 @@ def _per_element(values, sl, per):
 
 def _run_chunk(job, sl):
     """Radii, top flags and solve state of the elements in slice ``sl``."""
+    el = _elements(job, sl)
+    n_p, x0, dx = job["n_p"], job["x0"], job["dx"]
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        if job["du"] is not None:
+            previous = job["previous"]
+            prev = {k: previous[k][sl] for k in _STATE_KEYS}
+            prev["capped"] = previous["capped"][sl]
+            return shifted_chunk(el, prev, _per_element(job["du"], sl, job["nw"] * job["ng"]),
+                                 x0, dx, n_p)
+        start = job["start"]
+        return solve_chunk(el, x0, dx, n_p, None if start is None else start[sl])
+
+
+def _elements(job, sl):
+    """The per-element constants of slice ``sl`` (the ``el`` of the root finder)."""
     pl, nw, ng, n_p, x0, dx = (job[k] for k in ("pl", "nw", "ng", "n_p", "x0", "dx"))
     per = nw * ng
     e = np.arange(sl.start, sl.stop)
@@ -171,18 +187,12 @@ def _run_chunk(job, sl):
     rep = lambda v: _per_element(v, sl, per)            # noqa: E731
     el = {"B": rep(pl.B), "lnn0": rep(pl.lnn0), "lnkT": rep(pl.lnkT), "base": rep(pl.base),
           "uf": rep(pl.uf), "ut": rep(pl.ut), "capped": rep(pl.capped),
+          "lnut": rep(pl.lnut), "inv_ut": rep(pl.inv_ut),
           "posf": rep((pl.lnpf - x0) / dx), "lnk": job["lnk"], "e": job["e"], "row": e * n_p}
     el["a2"] = np.maximum(job["lc"][ip, iw], LN_ABSENT) + el["lnn0"] + el["base"]
     el["a3"] = (np.maximum(job["li"][ip, iw], LN_ABSENT) + 2.0 * el["lnn0"] + el["base"]
                 - 0.5 * math.log(2.0))
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if job["du"] is not None:
-            previous = job["previous"]
-            prev = {k: previous[k][sl] for k in _STATE_KEYS}
-            prev["capped"] = previous["capped"][sl]
-            return shifted_chunk(el, prev, rep(job["du"]), x0, dx, n_p)
-        start = job["start"]
-        return solve_chunk(el, x0, dx, n_p, None if start is None else start[sl])
+    return el
 
 
 def worker_threads():

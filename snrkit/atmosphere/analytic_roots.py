@@ -1,4 +1,4 @@
-"""The analytic solver's per-element root: ln tau(u), safeguarded Newton steps, H/R terms.
+"""The analytic solver's per-element root: safeguarded Newton steps on ln tau(u), H/R terms.
 
 Each element (planet, bin, g-point) carries its planet's constants and the
 line cross-section at a few pressure nodes, uniform in ln P; ln k is linear
@@ -6,10 +6,13 @@ in ln P between nodes (a local power law ``k ~ P**s``, extrapolated with the
 end segments' clipped slopes).  The root of the chord optical depth,
 ``tau(b) = exp(-gamma)`` (Heng & Kitzmann 2017, MNRAS 470, 2972; Lecavelier
 des Etangs et al. 2008, A&A 481, L83), is found by safeguarded Newton steps
-on ``ln tau(u) + gamma`` with ``u = 1/r``, re-reading the line shape at the
-pressure of each iterate.  The chord depth of each absorber ``~ n**e``
-carries ``sqrt(2 pi r H / e)``, with ``e = 1 + s`` for the lines, 1 for the
-smooth continuum and 2 for collision-induced absorption.  The floor term
+on ``ln tau(u) + gamma`` with ``u = 1/r``
+(:func:`~snrkit.atmosphere.analytic_tau.ln_tau`), re-reading the line shape
+at the pressure of each iterate.  The chord depth of each absorber
+``~ n**e`` carries ``sqrt(2 pi r H / e)``, with ``e = 1 + s`` for the lines,
+1 for the smooth continuum and 2 for collision-induced absorption.  The H/R
+terms take the shares of the last Newton evaluation, carried to the root
+(:func:`~snrkit.atmosphere.analytic_tau.shares_near`).  The floor term
 ``H E1(tau_floor)`` and the first-order terms in ``H/R`` are those of
 :func:`~snrkit.atmosphere.analytic.analytic_radius`.  The driver over chunks
 and threads is :func:`snrkit.atmosphere.analytic_kernel.root_radius`.
@@ -23,9 +26,9 @@ from ..constants import K_B, M_U
 # the reference solver's constants and floor function (the solvers import the kernel
 # only inside functions, so there is no import cycle)
 from .analytic import EULER_GAMMA, _TAU_THIN, _f_plane
+from .analytic_tau import line_shape, ln_tau, shares_near
 
-__all__ = ["Planets", "node_exponents", "solve_chunk", "shifted_chunk", "EXPONENT_BLEND",
-           "LN_ABSENT"]
+__all__ = ["Planets", "solve_chunk", "shifted_chunk", "LN_ABSENT"]
 
 #: ln of an absent absorber's opacity (finite, so that exp() gives exactly 0).
 LN_ABSENT = -1e4
@@ -34,11 +37,6 @@ LN_ABSENT = -1e4
 _LN_TAU_THIN = math.log(_TAU_THIN)
 #: Newton steps at most (convergence: a step under 1e-4 H, the root then good to ~1e-8 H).
 _MAX_STEPS = 40
-_SLOPE_RANGE = (-0.9, 2.0)
-#: e-folds of pressure (about one scale height, the reach of a chord above its
-#: tangent point) over which the line exponent turns from the segment above a
-#: node to the segment below it.
-EXPONENT_BLEND = 1.0
 
 
 class Planets:
@@ -57,88 +55,9 @@ class Planets:
         # where r/H(r) = 3 (the Laplace chord formula needs r >> H)
         self.ut = np.maximum(ut, 3.0 / self.B)
         self.capped = ~(ut >= 3.0 / self.B)
+        self.lnut, self.inv_ut = np.log(self.ut), 1.0 / self.ut   # (the -1.5 ln u term)
         self.r0 = r0
         self.lnpf = np.log(pf)
-
-
-def _ln_tau(u, el, x0, dx, n_p, exact_slope=False):
-    """ln tau(u) + gamma, d/du, and the shares (w1, w2, w3) and line exponent e at u.
-
-    The derivative is that of the local power-law model (B times the mean
-    exponent), as the H/R terms need; ``exact_slope`` gives the derivative of
-    the piecewise function itself, for the Newton steps.
-    """
-    B = el["B"]
-    bu = B * u
-    lnn = el["lnn0"] + bu
-    lk, e1, dlk, de = _line((lnn + el["lnkT"] - x0) * (1.0 / dx), el, dx, n_p)
-    # absent absorbers carry ln values of about -1e4 (never -inf), so exp() gives 0
-    l1 = lk + lnn + el["base"] - 0.5 * np.log(e1)
-    l2 = el["a2"] + bu
-    l3 = el["a3"] + 2.0 * bu
-    top = np.maximum(np.maximum(l1, l2), l3)
-    # exponents clipped at -60 (exp = 9e-27 next to the largest term's 1): results
-    # between 1e-308 and 1e-324 are subnormal numbers, which cost 100 times more
-    x1, x2, x3 = (np.exp(np.maximum(v - top, -60.0)) for v in (l1, l2, l3))
-    tot = x1 + x2 + x3
-    inv = 1.0 / tot
-    w1, w2, w3 = x1 * inv, x2 * inv, x3 * inv
-    f = top + np.log(tot) - 1.5 * np.log(u) + EULER_GAMMA
-    if not exact_slope:
-        return f, B * (w1 * e1 + w2 + 2.0 * w3) - 1.5 / u, (w1, w2, w3), e1
-    # the exact derivative of this f (slope of ln k, change of e along it), for Newton
-    dl1 = 1.0 + dlk - 0.5 * de / e1
-    return f, B * (w1 * dl1 + w2 + 2.0 * w3) - 1.5 / u, (w1, w2, w3), e1
-
-
-def _line(pos, el, dx, n_p):
-    """ln k, the exponent e and d(ln k)/d(ln P), de/d(ln P) at ``pos`` (node units).
-
-    Between nodes ln k is linear in ln P.  The chord through a tangent point
-    crosses only lower pressures, so just below a node e is the exponent of
-    the segment above; it turns linearly to the segment's own over
-    :data:`EXPONENT_BLEND` e-folds of pressure (continuous, so tau(u) has no
-    jumps, and no deeper segment is ever read).  Below the opaque floor
-    (a root there stands for the floor term H E1(tau_floor)) the line keeps
-    the floor's own power law, k ~ P**(e_floor - 1): the opacity hidden under
-    a cloud deck or surface is never read.
-    """
-    pc = np.minimum(pos, el["posf"])
-    m = np.clip(pc.astype(np.intp), 0, n_p - 2)      # floor for pos >= 0; clipped below
-    rows = el["row"] + m
-    la, lb = el["lnk"].take(rows), el["lnk"].take(rows + 1)
-    ea, eb = el["e"].take(rows), el["e"].take(rows + 1)
-    t = pc - m
-    # ea: the segment above this one; eb: this segment's own exponent
-    blend = t * (dx / EXPONENT_BLEND)
-    tc = np.clip(blend, 0.0, 1.0)
-    e1 = ea + tc * (eb - ea)
-    below = pos - pc
-    # outside the nodes (above the top one, below the deepest) the power law of the
-    # end segment continues with its clipped exponent, never a raw slope (a g-point
-    # absent at one node has ln k at the tables' floor there, and its raw slope is
-    # not a line shape)
-    inside = np.clip(t, 0.0, 1.0)
-    outside = (t - inside) * dx
-    lk = la + inside * (lb - la) + (e1 - 1.0) * (outside + below * dx)
-    dlk = np.where((below > 0) | (outside != 0), e1 - 1.0, (lb - la) * (1.0 / dx))
-    de = np.where((tc == blend) & (below <= 0) & (outside == 0),
-                  (eb - ea) * (1.0 / EXPONENT_BLEND), 0.0)
-    return lk, e1, dlk, de
-
-
-def node_exponents(lnk_nodes, dx):
-    """Line-extinction exponent 1 + s seen from each pressure node (last axis).
-
-    A chord with its tangent point at a node crosses only lower pressures, so
-    the exponent there is that of the segment above the node (the first
-    segment's at the top node); within a segment it turns to the segment's own
-    slope over :data:`EXPONENT_BLEND` e-folds of pressure (about one scale
-    height, the chord's reach), see :func:`_line`.  Slopes are clipped to a
-    physical range.
-    """
-    seg = np.clip(np.diff(lnk_nodes, axis=-1) / dx, *_SLOPE_RANGE)
-    return 1.0 + np.concatenate([seg[..., :1], seg], axis=-1)
 
 
 def _take(el, idx):
@@ -147,18 +66,18 @@ def _take(el, idx):
     return out
 
 
-def _dominant_start(u, el, x0, dx, n_p):
+def _dominant_start(u, el, lk, e1):
     """A start just below the root: the highest of the single-absorber roots.
 
     Each absorber alone, with its extinction ~ n**e extrapolated from u, would
     reach ln tau = -gamma at ``u - (l_i + gamma) / (e_i B)``; together they
     reach it higher (smaller u), by at most ln 3 / B.  Starting at the highest
     single root (F >= 0 there, to first order) the Newton steps on the convex
-    ln tau(u) then converge monotonically and quadratically.
+    ln tau(u) then converge monotonically and quadratically.  ``lk`` and
+    ``e1`` are the line shape at u (the floor's evaluation).
     """
     B = el["B"]
     lnn = el["lnn0"] + B * u
-    lk, e1, _, _ = _line((lnn + el["lnkT"] - x0) / dx, el, dx, n_p)
     c = EULER_GAMMA - 1.5 * np.log(u)
     u1 = u - (lk + lnn + el["base"] - 0.5 * np.log(e1) + c) / (e1 * B)
     u2 = u - (el["a2"] + B * u + c) / B
@@ -167,61 +86,92 @@ def _dominant_start(u, el, x0, dx, n_p):
     return np.clip(start, el["ut"], np.maximum(u, el["ut"]))
 
 
+def _start_from_floor(el, x0, dx, n_p):
+    """:func:`_dominant_start` from the floor, evaluating the line shape there."""
+    uf = el["uf"]
+    pos = (el["lnn0"] + el["B"] * uf + el["lnkT"] - x0) * (1.0 / dx)
+    lk, e1, _, _ = line_shape(pos, el, dx, n_p)
+    return _dominant_start(uf, el, lk, e1)
+
+
 def _newton(u, el, x0, dx, n_p):
-    """Safeguarded Newton on ln tau(u) + gamma = 0.
+    """Safeguarded Newton on ln tau(u) + gamma = 0: roots, slopes and shares there.
 
     Bracketed: a step that leaves the interval known to hold the root is
-    replaced by the false-position point of the bracket.
+    replaced by the false-position point of the bracket.  The shares and line
+    exponent at the root, for the H/R terms, are carried from the last
+    evaluation (:func:`~snrkit.atmosphere.analytic_tau.shares_near`).
     """
     n = u.size
     u_root = u.copy()
     d_root = np.ones(n)
+    shares = [np.empty(n) for _ in range(4)]
     lo, f_lo = el["ut"].copy(), np.full(n, -1.0)
     hi, f_hi = np.full(n, np.inf), np.full(n, np.nan)
     act = np.arange(n)
     cur = el
     live = np.ones(n, dtype=bool)
     for _ in range(_MAX_STEPS):
-        f, d, _, _ = _ln_tau(u, cur, x0, dx, n_p, exact_slope=True)
+        ev = ln_tau(u, cur, x0, dx, n_p, exact_slope=True)
+        f, d = ev.f, ev.d
         below = f < 0
         lo, f_lo = np.where(below, np.maximum(lo, u), lo), np.where(below, f, f_lo)
         hi, f_hi = np.where(below, hi, np.minimum(hi, u)), np.where(below, f_hi, f)
-        new = u - f / d
+        step = f / d
+        new = u - step
         # a Newton step under 1e-4 H: the updated root is good to ~1e-8 H (quadratic)
-        done = live & (np.abs(f / d * cur["B"]) < 1e-4)
+        done = live & (np.abs(step * cur["B"]) < 1e-4)
         bad = (~((new > lo) & (new < hi)) | ~np.isfinite(new)) & ~done
         if np.any(bad):
             fp = lo - f_lo * (hi - lo) / (f_hi - f_lo)          # false position
             ok_fp = np.isfinite(hi) & np.isfinite(fp) & (fp > lo) & (fp < hi)
             new = np.where(bad, np.where(ok_fp, fp, np.where(np.isfinite(hi), 0.5 * (lo + hi),
                                                              u + 1.0 / cur["B"])), new)
-        u_root[act[done]] = (u - f / d)[done]
-        d_root[act[done]] = d[done]
+        if np.any(done):
+            idx = np.flatnonzero(done)
+            u_root[act[idx]] = u[idx] - step[idx]
+            d_root[act[idx]] = d[idx]
+            _store_shares(shares, act[idx], ev.take(idx), cur["B"][idx], -step[idx])
         live &= ~done
         u = new
         if not live.any():
-            return u_root, d_root
+            return u_root, d_root, shares
         if live.sum() * 2 < live.size:                            # compact the work arrays
             act, u, lo, hi, f_lo, f_hi = (v[live] for v in (act, u, lo, hi, f_lo, f_hi))
             cur = _take(cur, live)
             live = np.ones(act.size, dtype=bool)
-    u_root[act[live]] = u[live]                       # not converged (not expected)
-    d_root[act[live]] = d[live]
-    return u_root, d_root
+    idx = np.flatnonzero(live)                        # not converged (not expected)
+    u_root[act[idx]] = u[idx]
+    d_root[act[idx]] = d[idx]
+    # (the shares of the last evaluation, not carried: not expected to happen)
+    _store_shares(shares, act[idx], ev.take(idx), cur["B"][idx], np.zeros(idx.size))
+    return u_root, d_root, shares
 
 
-def _corrections(ur, el, ln_tf, x0, dx, n_p):
-    """First-order H/R terms and the floor term at the root (see analytic_radius)."""
+def _store_shares(shares, where, ev, B, delta):
+    (w1, w2, w3), e1 = shares_near(ev, B, delta)
+    for arr, v in zip(shares, (w1, w2, w3, e1)):
+        arr[where] = v
+
+
+def _corrections(ur, shares, B, ln_tf):
+    """First-order H/R terms and the floor term at the root (see analytic_radius).
+
+    ``shares`` are (w1, w2, w3, e1) at the root (:func:`_newton`).
+    """
     from scipy.special import exp1
-    _, d1, (w1, w2, w3), e1 = _ln_tau(ur, el, x0, dx, n_p)
-    B = el["B"]
+    w1, w2, w3, e1 = shares
     mean_e = w1 * e1 + w2 + 2.0 * w3
-    d2 = B * B * (w1 * e1 * e1 + w2 + 4.0 * w3 - mean_e ** 2) + 1.5 / ur ** 2
-    h_a = 1.0 / (ur ** 2 * d1)
-    curv = 0.5 * (ur ** 4 * d2 + 2.0 * ur ** 3 * d1)
+    d1 = B * mean_e - 1.5 / ur
+    # (products, not ** 3 or ** 4: numpy's power for exponents other than 2 costs 25 ns)
+    u2 = ur * ur
+    d2 = B * B * (w1 * e1 * e1 + w2 + 4.0 * w3 - mean_e * mean_e) + 1.5 / u2
+    h_a = 1.0 / (u2 * d1)
+    curv = 0.5 * u2 * (u2 * d2 + 2.0 * ur * d1)
     beta = B * ur
+    h_a2 = h_a * h_a
     corr = (h_a * np.log1p(9.0 / (8.0 * beta) * (w1 / e1 + w2 + 0.5 * w3))
-            + (math.pi ** 2 / 12.0) * h_a ** 2 * ur + (math.pi ** 2 / 6.0) * curv * h_a ** 3)
+            + (math.pi ** 2 / 12.0) * h_a2 * ur + (math.pi ** 2 / 6.0) * curv * h_a2 * h_a)
     near = ln_tf < math.log(40.0)                      # E1(40) < 1e-19
     if np.any(near):
         corr[near] += h_a[near] * exp1(np.exp(ln_tf[near]))
@@ -237,9 +187,9 @@ def _thin_radius(el, it, ln_tf, dfu):
 
 def solve_chunk(el, x0, dx, n_p, u_start):
     """Radii, top flags and the solve's state (for a shifted re-solve) of one chunk."""
-    f_floor, dfu, _, _ = _ln_tau(el["uf"], el, x0, dx, n_p)
-    ln_tf = f_floor - EULER_GAMMA
-    f_top, _, _, _ = _ln_tau(el["ut"], el, x0, dx, n_p)
+    at_floor = ln_tau(el["uf"], el, x0, dx, n_p)
+    ln_tf, dfu = at_floor.f - EULER_GAMMA, at_floor.d
+    f_top = ln_tau(el["ut"], el, x0, dx, n_p).f
     saturated = f_top >= 0.0
     thin = (ln_tf < _LN_TAU_THIN) & ~saturated
     out = np.empty(el["B"].size)
@@ -256,10 +206,10 @@ def solve_chunk(el, x0, dx, n_p, u_start):
             us = u_start[ik]
             u0 = np.where(np.isfinite(us) & (us > 0), np.clip(us, sub["ut"], sub["uf"]), u0)
         else:
-            u0 = _dominant_start(u0, sub, x0, dx, n_p)
-        ur, dr = _newton(u0, sub, x0, dx, n_p)
+            u0 = _dominant_start(u0, sub, at_floor.lk[ik], at_floor.e1[ik])
+        ur, dr, shares = _newton(u0, sub, x0, dx, n_p)
         state["u"][ik], state["d"][ik] = ur, dr
-        out[ik] = 1.0 / ur + _corrections(ur, sub, ln_tf[ik], x0, dx, n_p)
+        out[ik] = 1.0 / ur + _corrections(ur, shares, sub["B"], ln_tf[ik])
     out[saturated] = 1.0 / el["ut"][saturated]
     return out, saturated, state
 
@@ -274,7 +224,7 @@ def shifted_chunk(el, prev, du, x0, dx, n_p):
     is set by r/H = 3, which does not translate), each old root gives the new
     one in two Newton steps (the first from the stored slope, without a new
     evaluation; the shift of the -1.5 ln u term is ~1e-2 H), and the H/R terms
-    are evaluated at the new root.
+    take the shares of the second step's evaluation, carried to the new root.
     """
     uf, ut = el["uf"], el["ut"]
     ln_tf = prev["ln_tf"] - 1.5 * np.log(uf / (uf - du))
@@ -283,7 +233,7 @@ def shifted_chunk(el, prev, du, x0, dx, n_p):
     capped = el["capped"] | prev["capped"]
     if np.any(capped):
         ic = np.flatnonzero(capped)
-        f_top[ic] = _ln_tau(ut[ic], _take(el, ic), x0, dx, n_p)[0]
+        f_top[ic] = ln_tau(ut[ic], _take(el, ic), x0, dx, n_p).f
     saturated = f_top >= 0.0
     thin = (ln_tf < _LN_TAU_THIN) & ~saturated
     out = np.empty(uf.size)
@@ -300,19 +250,24 @@ def shifted_chunk(el, prev, du, x0, dx, n_p):
         slope = prev["d"][easy] + 1.5 / u_old - 1.5 / u_s
         ur = u_s - 1.5 * np.log(u_old / u_s) / slope
         sub = _take(el, easy)
-        f, slope, _, _ = _ln_tau(ur, sub, x0, dx, n_p, exact_slope=True)
-        step = f / slope
+        ev = ln_tau(ur, sub, x0, dx, n_p, exact_slope=True)
+        slope = ev.d
+        step = ev.f / slope
         ur = ur - step                                 # a second step: ~1e-8 H
+        (w1, w2, w3), e1 = shares_near(ev, sub["B"], -step)
+        shares = [w1.astype(np.float64), w2.astype(np.float64), w3.astype(np.float64), e1]
         slow = np.flatnonzero(np.abs(step * sub["B"]) > 1e-3)
         if slow.size:                                  # not yet quadratic (near the r/H = 3 cap)
-            ur[slow], slope[slow] = _newton(ur[slow], _take(sub, slow), x0, dx, n_p)
+            ur[slow], slope[slow], sh = _newton(ur[slow], _take(sub, slow), x0, dx, n_p)
+            for arr, v in zip(shares, sh):
+                arr[slow] = v
         state["u"][easy], state["d"][easy] = ur, slope
-        out[easy] = 1.0 / ur + _corrections(ur, sub, ln_tf[easy], x0, dx, n_p)
+        out[easy] = 1.0 / ur + _corrections(ur, shares, sub["B"], ln_tf[easy])
     hard = np.flatnonzero(thick & ~np.isfinite(prev["u"]))
     if hard.size:                                     # newly thick: a full solve
         sub = _take(el, hard)
-        ur, dr = _newton(_dominant_start(sub["uf"], sub, x0, dx, n_p), sub, x0, dx, n_p)
+        ur, dr, shares = _newton(_start_from_floor(sub, x0, dx, n_p), sub, x0, dx, n_p)
         state["u"][hard], state["d"][hard] = ur, dr
-        out[hard] = 1.0 / ur + _corrections(ur, sub, ln_tf[hard], x0, dx, n_p)
+        out[hard] = 1.0 / ur + _corrections(ur, shares, sub["B"], ln_tf[hard])
     out[saturated] = 1.0 / ut[saturated]
     return out, saturated, state
