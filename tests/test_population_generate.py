@@ -234,6 +234,19 @@ def test_rules_assign_shipped_presets_and_known_classes(g_stars, m_stars):
         assert set(pop["hz_position"]) <= {"inner", "optimistic", "conservative", "outer"}
 
 
+def test_planet_class_radius_boundaries_are_the_published_ones():
+    # Kopparapu et al. 2018, ApJ 856, 122, abstract (arXiv:1802.09602): rocky 0.5-1.0,
+    # super-Earths 1.0-1.75, sub-Neptunes 1.75-3.5, sub-Jovians 3.5-6.0, Jovians 6-14.3 R_earth
+    t = read_columns("population", "planet_classes.ecsv")
+    assert list(t["label"]) == ["rocky", "super-earth", "sub-neptune", "sub-jovian", "jovian"]
+    np.testing.assert_array_equal(t["radius_min"], [0.5, 1.0, 1.75, 3.5, 6.0])
+    np.testing.assert_array_equal(t["radius_max"], [1.0, 1.75, 3.5, 6.0, 14.3])
+    # a planet just inside each bin gets that bin's size class
+    r = np.array([0.7, 1.3, 2.5, 4.5, 10.0])
+    labels = planet_class(r, np.full(5, 0.5))
+    assert [str(label).rsplit("-", 1)[0] for label in labels] == list(t["label"])
+
+
 def _same(a, b):
     assert a.colnames == b.colnames and len(a) == len(b)
     for name in a.colnames:

@@ -75,7 +75,8 @@ Tables written
     published number).
 ``planet_classes.ecsv``
     Radius and insolation boundaries of the planet classes, after Kopparapu
-    et al. 2018, ApJ 856, 122, Table 1 (value from memory): radius bins
+    et al. 2018, ApJ 856, 122, Table 1 (radius boundaries as in the paper's
+    abstract, arXiv:1802.09602; insolation boundaries value from memory): radius bins
     0.5-1.0-1.75-3.5-6-14.3 R_earth, each with a hot/warm and a warm/cold
     insolation boundary [S_earth].
 
@@ -202,7 +203,8 @@ DC15_SIGMA = [
 ]
 
 #: (label, radius_min, radius_max, hot/warm boundary, warm/cold boundary) [R_earth, S_earth]
-#: after Kopparapu et al. 2018, ApJ 856, 122, Table 1 (value from memory).
+#: after Kopparapu et al. 2018, ApJ 856, 122, Table 1 (radius boundaries as in the
+#: paper's abstract, arXiv:1802.09602; insolation boundaries value from memory).
 PLANET_CLASSES = [
     ("rocky", 0.5, 1.0, 1.0, 0.28),
     ("super-earth", 1.0, 1.75, 1.12, 0.30),
@@ -329,7 +331,7 @@ def main():
         OUT / "occurrence_m.ecsv", format="ascii.ecsv", overwrite=True)
     t = Table(rows=PLANET_CLASSES, names=("label", "radius_min", "radius_max",
                                           "insolation_hot_warm", "insolation_warm_cold"))
-    _meta(t, "Kopparapu et al. 2018, ApJ 856, 122, Table 1 (value from memory)",
+    _meta(t, "Kopparapu et al. 2018, ApJ 856, 122, Table 1: radius boundaries 0.5, 1.0, 1.75, 3.5, 6.0, 14.3 R_earth as stated in the paper's abstract (arXiv:1802.09602); insolation boundaries value from memory",
           "a planet of radius_min <= R < radius_max is hot above insolation_hot_warm, cold below "
           "insolation_warm_cold, warm between; smaller radii count as rocky, larger as jovian",
           {"radius_min": "earthRad", "radius_max": "earthRad", "insolation_hot_warm": "S_earth",

@@ -5,7 +5,9 @@ Earth's (``snrkit.metrics.insolation``).
 
 Planet class (:func:`planet_class`)
     ``"<size>-<temperature>"``: size from the radius bins of Kopparapu et
-    al. 2018 (ApJ 856, 122, Table 1; value from memory) -- ``rocky``
+    al. 2018 (ApJ 856, 122, Table 1; the radius boundaries as stated in
+    the paper's abstract, arXiv:1802.09602; the insolation boundaries value
+    from memory) -- ``rocky``
     (0.5-1.0 R_earth; smaller radii too), ``super-earth`` (1.0-1.75),
     ``sub-neptune`` (1.75-3.5), ``sub-jovian`` (3.5-6), ``jovian`` (6-14.3;
     larger radii too); temperature ``hot``, ``warm`` or ``cold`` from the
