@@ -98,7 +98,9 @@ def test_shares_carried_a_small_step_equal_a_fresh_evaluation(scenario):
         # of a node or blend edge, where the derivative jumps and the error is first order
         assert np.quantile(err, 0.99) < 2e-6
         assert np.quantile(moved[moved > 1e-6], 0.5) > 30 * np.quantile(err, 0.99)
-        assert np.max(err) < 1e-2 * step_h * 1e3
+        # and nowhere worse than first order at a kink (e jumps by at most 2.9 per
+        # e-fold of pressure, the slope range of the line segments)
+        assert np.max(err) < 3.0 * step_h
 
 
 @pytest.mark.parametrize("scenario", SCENARIOS)
@@ -113,6 +115,17 @@ def test_radii_equal_h_over_r_terms_evaluated_at_the_root(scenario):
     h = 1.0 / (sub["B"] * ur * ur)                  # H(r) = r**2 / B
     assert ok.size > 0.5 * radius.size
     assert np.max(np.abs(radius[ok] - again) / h) < 1e-6
-    # and the H/R terms themselves are not negligible here (the check can fail)
-    assert np.max(np.abs(radius[ok] - 1.0 / ur) / h) > 1e-3
     assert math.isfinite(float(np.sum(radius)))
+
+
+def test_unconverged_elements_keep_their_own_shares(monkeypatch):
+    # Newton cut short after three steps: the elements still live then take the shares
+    # of their own last evaluation (the arrays are not compacted after the last step),
+    # so they stay within a small fraction of a scale height of the converged radii;
+    # other elements' shares (the arrays compacted before the cut) moved them ~0.2 H
+    el, _, ref, _, _ = _elements("h2-clear-solar")
+    h = 1.0 / (el["B"] * (1.0 / ref) ** 2)
+    monkeypatch.setattr(ar, "_MAX_STEPS", 3)
+    _, _, cut, _, _ = _elements("h2-clear-solar")
+    assert not np.array_equal(cut, ref)              # some elements were cut short
+    assert np.max(np.abs(cut - ref) / h) < 1e-3

@@ -35,7 +35,7 @@ LN_ABSENT = -1e4
 #: Below this chord optical depth at the floor the radius comes from the floor
 #: (see snrkit.atmosphere.analytic._TAU_THIN).
 _LN_TAU_THIN = math.log(_TAU_THIN)
-#: Newton steps at most (convergence: a step under 1e-4 H, the root then good to ~1e-8 H).
+#: Newton steps at most (convergence: a step under 1e-4 H; see _newton for the accuracy).
 _MAX_STEPS = 40
 
 
@@ -79,6 +79,7 @@ def _dominant_start(u, el, lk, e1):
     B = el["B"]
     lnn = el["lnn0"] + B * u
     c = EULER_GAMMA - 1.5 * np.log(u)
+    # (float64 here, float32 in ln_tau: a start, whose rounding the Newton steps remove)
     u1 = u - (lk + lnn + el["base"] - 0.5 * np.log(e1) + c) / (e1 * B)
     u2 = u - (el["a2"] + B * u + c) / B
     u3 = u - (el["a3"] + 2.0 * B * u + c) / (2.0 * B)
@@ -111,7 +112,7 @@ def _newton(u, el, x0, dx, n_p):
     act = np.arange(n)
     cur = el
     live = np.ones(n, dtype=bool)
-    for _ in range(_MAX_STEPS):
+    for it in range(_MAX_STEPS):
         ev = ln_tau(u, cur, x0, dx, n_p, exact_slope=True)
         f, d = ev.f, ev.d
         below = f < 0
@@ -119,7 +120,9 @@ def _newton(u, el, x0, dx, n_p):
         hi, f_hi = np.where(below, hi, np.minimum(hi, u)), np.where(below, f_hi, f)
         step = f / d
         new = u - step
-        # a Newton step under 1e-4 H: the updated root is good to ~1e-8 H (quadratic)
+        # a Newton step under 1e-4 H: the updated root is good to ~1e-8 H (quadratic) in
+        # this ln tau, whose float32 terms leave it ~1e-7 H from the float64 one
+        # (a few 1e-5 H where tau barely grows with depth; see analytic_tau.ln_tau)
         done = live & (np.abs(step * cur["B"]) < 1e-4)
         bad = (~((new > lo) & (new < hi)) | ~np.isfinite(new)) & ~done
         if np.any(bad):
@@ -133,18 +136,19 @@ def _newton(u, el, x0, dx, n_p):
             d_root[act[idx]] = d[idx]
             _store_shares(shares, act[idx], ev.take(idx), cur["B"][idx], -step[idx])
         live &= ~done
-        u = new
+        u_eval, u = u, new
         if not live.any():
             return u_root, d_root, shares
-        if live.sum() * 2 < live.size:                            # compact the work arrays
+        if it < _MAX_STEPS - 1 and live.sum() * 2 < live.size:   # compact the work arrays
             act, u, lo, hi, f_lo, f_hi = (v[live] for v in (act, u, lo, hi, f_lo, f_hi))
             cur = _take(cur, live)
             live = np.ones(act.size, dtype=bool)
-    idx = np.flatnonzero(live)                        # not converged (not expected)
+    # not converged (not expected): the last iterate, with the shares of the last
+    # evaluation carried to it (the arrays are not compacted after the last one)
+    idx = np.flatnonzero(live)
     u_root[act[idx]] = u[idx]
     d_root[act[idx]] = d[idx]
-    # (the shares of the last evaluation, not carried: not expected to happen)
-    _store_shares(shares, act[idx], ev.take(idx), cur["B"][idx], np.zeros(idx.size))
+    _store_shares(shares, act[idx], ev.take(idx), cur["B"][idx], u[idx] - u_eval[idx])
     return u_root, d_root, shares
 
 
@@ -253,9 +257,9 @@ def shifted_chunk(el, prev, du, x0, dx, n_p):
         ev = ln_tau(ur, sub, x0, dx, n_p, exact_slope=True)
         slope = ev.d
         step = ev.f / slope
-        ur = ur - step                                 # a second step: ~1e-8 H
+        ur = ur - step                                 # a second step: as good as _newton's
         (w1, w2, w3), e1 = shares_near(ev, sub["B"], -step)
-        shares = [w1.astype(np.float64), w2.astype(np.float64), w3.astype(np.float64), e1]
+        shares = [w1, w2, w3, e1]                      # (float64: float32 shares x float64)
         slow = np.flatnonzero(np.abs(step * sub["B"]) > 1e-3)
         if slow.size:                                  # not yet quadratic (near the r/H = 3 cap)
             ur[slow], slope[slow], sh = _newton(ur[slow], _take(sub, slow), x0, dx, n_p)

@@ -81,13 +81,15 @@ def ln_tau(u, el, x0, dx, n_p, exact_slope=False):
 
     Notes
     -----
-    The three terms' exponentials and logarithms are taken in float32 (numpy
-    has SIMD exp and log for float32 on every x86-64 machine, for float64 only
-    with AVX-512: a third of the cost); the terms themselves and their sum are
-    float64.  ln tau is good to ~2e-7, the root to ~1e-7 H where tau grows
-    with depth at least as fast as n**0.5 (median 2e-8 H measured), and to a
-    few 1e-5 H where it barely grows (mean exponent ~0.1 at r/H ~ 15).  The
-    ``-1.5 ln u`` term is taken relative to the top, ``ln u_t + ln(u / u_t)``.
+    Float32 (numpy has SIMD exp and log for float32 on every x86-64 machine,
+    for float64 only with AVX-512: a third of the cost): the differences
+    ``l_i - max l``, their exponentials, their sum and its log, the shares,
+    ``ln e`` and ``ln(u / u_t)``.  Float64: the terms ``l_i`` themselves,
+    their maximum, ``ln u_t`` and the sum that makes ``f``.  ln tau is good
+    to ~3e-7 (against the float64 formula), the root to ~1e-7 H where tau
+    grows with depth at least as fast as n**0.5 (median 2e-8 H measured),
+    and to a few 1e-5 H where it barely grows (mean exponent ~0.1 at r/H ~
+    15).
     """
     B = el["B"]
     bu = B * u
@@ -130,9 +132,10 @@ def _shares32(l1, l2, l3, top):
 
     The differences lie in [-60, 0] (exponents clipped at -60: exp = 9e-27 next to
     the largest term's 1, and no subnormal results, which cost 100 times more);
-    float32 gives each share to 1e-7 relative, so ln tau to ~1e-7 and the root to
-    ~1e-7 H, at a third of float64's cost (numpy's SIMD exp and log exist for
-    float32 on every x86-64 machine, for float64 only with AVX-512).
+    float32 gives each share to ~1e-7 absolute (6e-8 |l_i - top| relative for the
+    small ones), so ln tau to ~3e-7, at a third of float64's cost (numpy's SIMD
+    exp and log exist for float32 on every x86-64 machine, for float64 only with
+    AVX-512).
     """
     x = np.empty((3, top.size), dtype=np.float32)
     for i, v in enumerate((l1, l2, l3)):
