@@ -25,9 +25,9 @@ __all__ = ["root_radius", "worker_threads", "CHUNK_ELEMENTS"]
 
 #: Elements (planet x bin x g) per work chunk.  Measured on the 2-core test machine
 #: (rank, 1500 planets x 4 scenarios, R = 100): with the default 2 threads 65536 ran
-#: 8.0-9.5 s against 9.3-11.2 s for 16384 (fewer Python-level steps per element, so
-#: the threads wait less for each other's interpreter lock) and 8.6-9.1 s for 32768
-#: or 131072; on one thread 16384 was 6 % faster (the work arrays stay in cache).
+#: 8.0-9.5 s against 9.3-11.2 s for 16384 and 8.6-9.1 s for 32768 or 131072 (the
+#: cause is not established: a shorter interpreter switch interval changed nothing);
+#: on one thread 16384 was 6 % faster (the work arrays stay in cache).
 CHUNK_ELEMENTS = 1 << 16
 #: Per-element state kept for the calibration's shifted re-solve.
 _STATE_KEYS = ("u", "d", "ln_tf", "dfu", "f_top")

@@ -153,6 +153,7 @@ def _newton(u, el, x0, dx, n_p):
 
 
 def _store_shares(shares, where, ev, B, delta):
+    """Write the shares of ``ev`` carried by ``delta`` into ``shares`` at elements ``where``."""
     (w1, w2, w3), e1 = shares_near(ev, B, delta)
     for arr, v in zip(shares, (w1, w2, w3, e1)):
         arr[where] = v
